@@ -1,0 +1,51 @@
+"""Radial profiles of the rings: temperature, optical depth, brightness."""
+from __future__ import annotations
+
+import numpy as np
+import xarray as xr
+
+from .scene import ring_labels
+
+__all__ = ["radial_profiles"]
+
+
+def radial_profiles(scene, wavelength=10.0, radius=None, tau_wavelength=10.0, npoints=400):
+    """Temperature, optical depth and brightness against radius.
+
+    Parameters
+    ----------
+    scene : Scene
+    wavelength : float
+        Wavelength of the brightness profile, µm.
+    radius : array_like, optional
+        Radii in au; by default a log grid spanning all rings.
+    tau_wavelength : float
+        Wavelength of the optical-depth profile, µm (10 µm by default).
+
+    Returns
+    -------
+    xarray.Dataset
+        Dims ("ring", "radius"): ``temperature`` (K), ``tau`` (vertical optical depth at
+        ``tau_wavelength``; inf for optically thick rings), ``intensity`` (Jy sr⁻¹,
+        azimuthally averaged, line-of-sight at the scene's inclination); NaN outside a ring.
+    """
+    rings = list(scene.rings)
+    if radius is None:
+        lo = min((r.r_in for r in rings), default=0.1)
+        hi = max((r.r_out for r in rings), default=1.0)
+        radius = np.geomspace(lo * 0.8, hi * 1.25, npoints)
+    radius = np.asarray(radius, float)
+    temp = np.full((len(rings), radius.size), np.nan)
+    tau = np.full_like(temp, np.nan)
+    inten = np.full_like(temp, np.nan)
+    for k, ring in enumerate(rings):
+        inside = (radius >= ring.r_in) & (radius <= ring.r_out)
+        r = radius[inside]
+        temp[k, inside] = ring.temperature(r)
+        tau[k, inside] = ring.optical_depth(r, [tau_wavelength])[0]
+        inten[k, inside] = ring.intensity(r, [wavelength], scene.inclination)[0]
+    return xr.Dataset(
+        {"temperature": (("ring", "radius"), temp, {"units": "K"}),
+         "tau": (("ring", "radius"), tau, {"units": "", "wavelength_um": tau_wavelength}),
+         "intensity": (("ring", "radius"), inten, {"units": "Jy/sr", "wavelength_um": wavelength})},
+        coords={"ring": ring_labels(rings), "radius": ("radius", radius, {"units": "au"})})

@@ -1,0 +1,192 @@
+"""The scene: distance, star, rings, viewing geometry, extended component — and its observables."""
+from __future__ import annotations
+
+import hashlib
+import math
+from dataclasses import dataclass, field, replace
+
+import numpy as np
+
+from ..errors import ParameterError
+from ..physics.parameters import parameter, validate_parameters
+from ..physics.ring import Ring
+from ..physics.star import Star
+from .engine import Evaluator, Sampling
+
+__all__ = ["Scene", "evaluator_for"]
+
+
+@dataclass(frozen=True)
+class Scene:
+    """A star and its inner disk seen from Earth.
+
+    Parameters
+    ----------
+    distance : float
+        Distance in pc.
+    star : Star or None
+        The central star; ``None`` studies the disk alone.
+    rings : sequence of Ring
+        The dust rings (stored as a tuple).
+    inclination : float
+        Inclination in degrees, 0 (face-on) ≤ i < 90.
+    position_angle : float
+        Position angle of the major axis in degrees, east of north.
+    extended_fraction : float
+        Fraction of the total flux, at every wavelength, in a fully resolved component
+        (V = 0), 0 ≤ f < 1.
+
+    Notes
+    -----
+    V = (F★ V★ + Σ_j F_j V_j) / (F★ + Σ_j F_j + F_ext), with F_ext = f/(1−f)(F★ + Σ_j F_j).
+    Fourier convention: V(u, v) = ∫ I(x, y) exp(−2πi(u x + v y)) dx dy, x towards East,
+    y towards North, u and v as in OIFITS.
+
+    Examples
+    --------
+    >>> s = Scene(distance=140, star=Star(t_eff=7000, radius=2),
+    ...           rings=[Ring(r_in=0.3, r_out=0.6, t_in=1500)], inclination=40, position_angle=30)
+    >>> abs(s.visibility(0.0, 0.0, 2.2)) == 1.0
+    True
+    """
+
+    distance: float = parameter(
+        140.0, unit="pc", label="d", description="distance to the star",
+        valid=(0, math.inf), bounds=(10.0, 2000.0), scale="log")
+    star: object = None
+    rings: tuple = ()
+    inclination: float = parameter(
+        0.0, unit="deg", label="i", description="inclination of the disk (0 = face-on)",
+        valid=(0.0, 90.0), closed=(True, False), bounds=(0.0, 85.0))
+    position_angle: float = parameter(
+        0.0, unit="deg", label="PA", description="position angle of the major axis, east of north",
+        valid=(-360.0, 360.0), closed=(True, True), bounds=(0.0, 360.0))
+    extended_fraction: float = parameter(
+        0.0, unit="", label="f_ext", description="fraction of the total flux that is fully resolved",
+        valid=(0.0, 1.0), closed=(True, False), bounds=(0.0, 0.9))
+
+    def __post_init__(self):
+        object.__setattr__(self, "rings", tuple(self.rings))
+        validate_parameters(self)
+        if self.star is not None and not isinstance(self.star, Star):
+            raise ParameterError(f"Scene.star must be a Star or None, got {type(self.star).__name__}")
+        for k, ring in enumerate(self.rings):
+            if not isinstance(ring, Ring):
+                raise ParameterError(f"Scene.rings[{k}] must be a Ring, got {type(ring).__name__}")
+
+    # ------------------------------------------------------------------ editing
+    def replace(self, **changes) -> "Scene":
+        """A copy with ``changes`` applied (validated)."""
+        return replace(self, **changes)
+
+    def with_ring(self, index, **changes) -> "Scene":
+        """A copy whose ring ``index`` has ``changes`` applied."""
+        rings = list(self.rings)
+        rings[index] = replace(rings[index], **changes)
+        return replace(self, rings=tuple(rings))
+
+    # ------------------------------------------------------------------ observables
+    def evaluate(self, u, v, wavelength):
+        """The :class:`~diskexplorer.observables.engine.Evaluation` on a sampling (cached evaluator)."""
+        return evaluator_for(u, v, wavelength).evaluate(self)
+
+    def visibility(self, u, v, wavelength):
+        """Complex normalised visibility.
+
+        Parameters
+        ----------
+        u, v : array_like
+            Baseline coordinates in m (u East, v North).
+        wavelength : array_like
+            Wavelength in µm; broadcast against ``u`` and ``v``.
+
+        Returns
+        -------
+        ndarray of complex, broadcast shape of the inputs.
+        """
+        return self.evaluate(u, v, wavelength).vis
+
+    def vis2(self, u, v, wavelength):
+        """Squared visibility |V|² at (u, v) in m and λ in µm."""
+        return np.abs(self.visibility(u, v, wavelength)) ** 2
+
+    def closure_phase(self, u1, v1, u2, v2, wavelength):
+        """Closure phase in degrees of triangles given by baselines AB = (u1, v1), BC = (u2, v2) in m.
+
+        arg[V(u1, v1) V(u2, v2) V(−u1−u2, −v1−v2)] (OIFITS convention), in (−180, 180].
+        """
+        return np.degrees(np.angle(self.triple_product(u1, v1, u2, v2, wavelength)))
+
+    def triple_product(self, u1, v1, u2, v2, wavelength):
+        """Complex triple product V(AB) V(BC) V(CA) of triangles (see :meth:`closure_phase`)."""
+        u1, v1, u2, v2, lam = np.broadcast_arrays(*(np.asarray(a, float) for a in (u1, v1, u2, v2, wavelength)))
+        us = np.stack([u1, u2, -u1 - u2])
+        vs = np.stack([v1, v2, -v1 - v2])
+        vis = self.visibility(us, vs, np.stack([lam, lam, lam]))
+        return vis[0] * vis[1] * vis[2]
+
+    def correlated_flux(self, u, v, wavelength):
+        """Correlated flux |V| F_total in Jy at (u, v) in m and λ in µm."""
+        ev = self.evaluate(u, v, wavelength)
+        s = evaluator_for(u, v, wavelength).sampling
+        return np.abs(ev.vis) * ev.flux_total[s.wave_index].reshape(s.shape)
+
+    def sed_components(self, wavelength):
+        """Flux densities in Jy per component at ``wavelength`` (µm).
+
+        Returns
+        -------
+        dict
+            ``"star"``, one entry per ring (by ring name, made unique), ``"extended"``
+            and ``"total"``, each an array of the shape of ``wavelength``.
+        """
+        lam = np.atleast_1d(np.asarray(wavelength, float))
+        ev = self.evaluate(np.zeros_like(lam), np.zeros_like(lam), lam)
+        s = evaluator_for(np.zeros_like(lam), np.zeros_like(lam), lam).sampling
+        out = {"star": ev.flux_star[s.wave_index]}
+        for name, flux in zip(ring_labels(self.rings), ev.flux_rings):
+            out[name] = flux[s.wave_index]
+        out["extended"] = ev.flux_extended[s.wave_index]
+        out["total"] = ev.flux_total[s.wave_index]
+        shape = np.shape(wavelength)
+        return {k: v.reshape(shape) for k, v in out.items()}
+
+    def sed(self, wavelength):
+        """Total flux density F_ν in Jy at ``wavelength`` (µm)."""
+        return self.sed_components(wavelength)["total"]
+
+
+def ring_labels(rings):
+    """Unique display names of rings: their names, numbered where repeated."""
+    seen, out = {}, []
+    for ring in rings:
+        n = seen.get(ring.name, 0)
+        seen[ring.name] = n + 1
+        out.append(ring.name if n == 0 else f"{ring.name} {n + 1}")
+    return out
+
+
+_EVALUATORS = {}
+_MAX_EVALUATORS = 8
+
+
+def _fingerprint(*arrays):
+    h = hashlib.blake2b(digest_size=16)
+    for a in arrays:
+        a = np.ascontiguousarray(a, dtype=float)
+        h.update(str(a.shape).encode())
+        h.update(a.tobytes())
+    return h.hexdigest()
+
+
+def evaluator_for(u, v, wavelength):
+    """The shared :class:`Evaluator` for this sampling (kept in a small cache by content)."""
+    u, v, lam = np.broadcast_arrays(np.asarray(u, float), np.asarray(v, float), np.asarray(wavelength, float))
+    key = _fingerprint(u, v, lam)
+    ev = _EVALUATORS.pop(key, None)
+    if ev is None:
+        ev = Evaluator(sampling=Sampling(u, v, lam))
+    _EVALUATORS[key] = ev
+    while len(_EVALUATORS) > _MAX_EVALUATORS:
+        _EVALUATORS.pop(next(iter(_EVALUATORS)))
+    return ev
