@@ -217,28 +217,31 @@ class Evaluator:
         def make():
             h0, h1 = self._ring_transform(ring, scene.distance, scene.inclination, grid)
             matrix, cos_psi, sin_psi = self._interpolation(scene.inclination, scene.position_angle, grid)
-            values = (matrix @ h0.ravel()).astype(complex)
+            values = np.empty(self.sampling.size, complex)
+            values.real = matrix @ h0.ravel()
             if h1 is not None:
                 # The m = 1 term: ∫ cos φ e^{-iz cos(φ-ψ)} dφ = -2πi J1(z) cos ψ (per unit 2π).
-                odd = matrix @ h1.ravel()
-                values += -1j * (ring.c1 * cos_psi + ring.s1 * sin_psi) * odd
+                values.imag = -(ring.c1 * cos_psi + ring.s1 * sin_psi) * (matrix @ h1.ravel())
+            else:
+                values.imag = 0.0
             return values, h0[:, 1].copy()
 
         return self._points.get(key, make)
 
     def _star_points(self, star, distance):
+        """The star's flux at the sampling's wavelengths (Jy) and F★ V★ at every point."""
         key = (star, distance)
 
         def make():
             s = self.sampling
             flux = np.asarray(star.flux(s.wavelengths, distance), float)
-            if not star.uniform_disk:
-                return flux, np.ones(s.size)
-            x = math.pi * star.angular_diameter(distance) * RAD_PER_MAS * s.rho_full
-            vis = np.ones(s.size)
-            nz = x > 1e-8
-            vis[nz] = 2.0 * special.j1(x[nz]) / x[nz]
-            return flux, vis
+            per_point = flux[s.wave_index]
+            if star.uniform_disk:
+                x = math.pi * star.angular_diameter(distance) * RAD_PER_MAS * s.rho_full
+                nz = x > 1e-8
+                per_point = per_point.copy()
+                per_point[nz] *= 2.0 * special.j1(x[nz]) / x[nz]
+            return flux, per_point
 
         return self._stars.get(key, make)
 
@@ -248,18 +251,23 @@ class Evaluator:
         s = self.sampling
         nwave = s.wavelengths.size
         grid = self._grid(scene)
-        numerator = np.zeros(s.size, complex)
+        numerator = None
         flux_rings = []
         for ring in scene.rings:
             if not ring.enabled:
                 flux_rings.append(np.zeros(nwave))
                 continue
             values, flux = self._ring_points(ring, scene, grid)
-            numerator += values
+            if numerator is None:
+                numerator = values.copy()
+            else:
+                numerator += values
             flux_rings.append(flux)
+        if numerator is None:
+            numerator = np.zeros(s.size, complex)
         if scene.star is not None:
-            flux_star, vis_star = self._star_points(scene.star, scene.distance)
-            numerator += flux_star[s.wave_index] * vis_star
+            flux_star, star_points = self._star_points(scene.star, scene.distance)
+            numerator.real += star_points
         else:
             flux_star = np.zeros(nwave)
         compact = flux_star + sum(flux_rings, np.zeros(nwave))
@@ -267,7 +275,8 @@ class Evaluator:
         flux_ext = compact * (f_ext / (1.0 - f_ext))
         total = compact + flux_ext
         with np.errstate(invalid="ignore", divide="ignore"):
-            vis = numerator / total[s.wave_index]
+            numerator *= (1.0 / total)[s.wave_index]
+        vis = numerator
         return Evaluation(vis=vis.reshape(s.shape), wavelengths=s.wavelengths,
                           flux_star=flux_star, flux_rings=flux_rings, flux_extended=flux_ext)
 
