@@ -1,0 +1,204 @@
+"""Model against data: predictions at the data's sampling, residuals and χ² per data set."""
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from ..observables.observer import Observer
+
+__all__ = ["Comparison", "ComparisonResult", "DATA_KINDS"]
+
+#: Data kinds a comparison can judge, in display order.
+DATA_KINDS = ("vis2", "t3phi", "t3amp", "visamp", "photometry", "spectrum", "flux")
+
+
+def _wrap_degrees(x):
+    return (np.asarray(x) + 180.0) % 360.0 - 180.0
+
+
+@dataclass
+class ComparisonResult:
+    """What a comparison found for one scene.
+
+    Attributes
+    ----------
+    prediction : Prediction
+        The model at the interferometric points and SED wavelengths.
+    model : dict of ndarray
+        Model values per data kind, aligned with the data.
+    residuals : dict of ndarray
+        (data − model)/error per kind (closure phases wrapped to ±180°).
+    chi2 : dict of float
+        χ² per kind.
+    npoints : dict of int
+        Points that enter χ² per kind.
+    weights : dict of float
+        Weight per kind used in :attr:`total`.
+    sed : dict of ndarray
+        SED components at the photometry wavelengths (Jy).
+    spectrum : dict of ndarray
+        SED components at the spectrum wavelengths (Jy).
+    """
+
+    prediction: object
+    model: dict
+    residuals: dict
+    chi2: dict
+    npoints: dict
+    weights: dict = field(default_factory=dict)
+    sed: dict = field(default_factory=dict)
+    spectrum: dict = field(default_factory=dict)
+
+    @property
+    def total(self) -> float:
+        """Weighted χ² summed over kinds."""
+        return float(sum(self.weights.get(k, 1.0) * c for k, c in self.chi2.items()))
+
+    @property
+    def n_total(self) -> int:
+        return int(sum(n for k, n in self.npoints.items() if self.weights.get(k, 1.0) > 0))
+
+    @property
+    def reduced(self) -> dict:
+        """χ²/N per kind (NaN for empty kinds)."""
+        return {k: (self.chi2[k] / n if n else float("nan")) for k, n in self.npoints.items()}
+
+    def summary(self) -> str:
+        lines = [f"{'data':<11}{'N':>8}{'chi2':>14}{'chi2/N':>10}"]
+        for k in self.chi2:
+            n = self.npoints[k]
+            red = self.chi2[k] / n if n else float("nan")
+            lines.append(f"{k:<11}{n:>8d}{self.chi2[k]:>14.2f}{red:>10.3f}")
+        n = self.n_total
+        lines.append(f"{'total':<11}{n:>8d}{self.total:>14.2f}{(self.total / n if n else float('nan')):>10.3f}")
+        return "\n".join(lines)
+
+
+class Comparison:
+    """Binds loaded data to the engine; :meth:`compare` judges a scene against all of it.
+
+    Parameters
+    ----------
+    observations : ObservationSet, optional
+        Interferometric data (V², closure phases, visibilities, OI_FLUX).
+    photometry : xarray.Dataset, optional
+        From :func:`~diskexplorer.data.photometry.read_photometry` (upper limits enter χ²
+        only where the model exceeds them).
+    spectrum : xarray.Dataset, optional
+        From :func:`~diskexplorer.data.spectrum.read_spectrum`; samples without an error
+        are compared with a 5 % error (common practice for shape comparisons).
+    weights : dict, optional
+        Weight per data kind in the total χ² (default 1; ``t3amp`` defaults to 0).
+    accuracy : int
+        Engine accuracy factor.
+    """
+
+    def __init__(self, observations=None, photometry=None, spectrum=None, weights=None, accuracy=1):
+        self.observations = observations
+        self.photometry = photometry
+        self.spectrum = spectrum
+        self.weights = {"t3amp": 0.0}
+        self.weights.update(weights or {})
+        obs = observations
+        vis2 = getattr(obs, "vis2", None)
+        t3 = getattr(obs, "t3", None)
+        vis = getattr(obs, "vis", None)
+        uv = []
+        self._slices = {}
+        start = 0
+        for name, ds in (("vis2", vis2), ("vis", vis)):
+            if ds is not None and ds.sizes.get("point", 0):
+                n = ds.sizes["point"]
+                uv.append((ds["u"].values, ds["v"].values, ds["wavelength"].values))
+                self._slices[name] = slice(start, start + n)
+                start += n
+        u = np.concatenate([a[0] for a in uv]) if uv else np.zeros(0)
+        v = np.concatenate([a[1] for a in uv]) if uv else np.zeros(0)
+        wl = np.concatenate([a[2] for a in uv]) if uv else np.zeros(0)
+        has_t3 = t3 is not None and t3.sizes.get("point", 0)
+        t3_args = ((t3["u1"].values, t3["v1"].values, t3["u2"].values, t3["v2"].values, t3["wavelength"].values)
+                   if has_t3 else ((), (), (), (), ()))
+        sed_parts = []
+        self._sed_slices = {}
+        start = 0
+        for name, ds in (("photometry", photometry), ("spectrum", spectrum),
+                         ("flux", getattr(obs, "flux", None))):
+            if ds is not None and ds["wavelength"].size:
+                n = ds["wavelength"].size
+                sed_parts.append(np.asarray(ds["wavelength"].values, float))
+                self._sed_slices[name] = slice(start, start + n)
+                start += n
+        sed_wl = np.concatenate(sed_parts) if sed_parts else np.zeros(0)
+        self.observer = Observer(u, v, wl, *t3_args, sed_wavelength=sed_wl, accuracy=accuracy)
+
+    @property
+    def kinds(self):
+        """Data kinds present."""
+        out = []
+        obs = self.observations
+        if "vis2" in self._slices:
+            out.append("vis2")
+        if obs is not None and obs.t3 is not None and obs.t3.sizes.get("point", 0):
+            out += ["t3phi", "t3amp"]
+        if "vis" in self._slices:
+            out.append("visamp")
+        out += [k for k in ("photometry", "spectrum", "flux") if k in self._sed_slices]
+        return out
+
+    def compare(self, scene) -> ComparisonResult:
+        """Predictions, residuals and χ² of ``scene`` against every loaded data set."""
+        pred = self.observer.observe(scene)
+        model, resid = {}, {}
+        obs = self.observations
+        if "vis2" in self._slices:
+            ds = obs.vis2
+            m = pred.vis2[self._slices["vis2"]]
+            model["vis2"] = m
+            resid["vis2"] = (ds["vis2"].values - m) / ds["vis2_err"].values
+        if "t3phi" in self.kinds:
+            ds = obs.t3
+            model["t3phi"] = pred.t3phi
+            resid["t3phi"] = _wrap_degrees(ds["t3phi"].values - pred.t3phi) / ds["t3phi_err"].values
+            amp = np.abs(pred.t3)
+            model["t3amp"] = amp
+            with np.errstate(invalid="ignore", divide="ignore"):
+                r = (ds["t3amp"].values - amp) / ds["t3amp_err"].values
+            resid["t3amp"] = r
+        if "vis" in self._slices:
+            ds = obs.vis
+            sl = self._slices["vis"]
+            amptyp = np.asarray(ds["amptyp"].values).astype(str)
+            absolute = np.abs(pred.vis[sl])
+            corr = absolute * pred.flux_at_vis[sl]
+            m = np.where(amptyp == "correlated flux", corr, absolute)
+            model["visamp"] = m
+            with np.errstate(invalid="ignore", divide="ignore"):
+                r = (ds["visamp"].values - m) / ds["visamp_err"].values
+            resid["visamp"] = np.where(amptyp == "differential", np.nan, r)
+        sed, spec = {}, {}
+        for name, sl in self._sed_slices.items():
+            comps = {k: v[sl] for k, v in pred.sed.items()}
+            ds = {"photometry": self.photometry, "spectrum": self.spectrum,
+                  "flux": getattr(obs, "flux", None)}[name]
+            total = comps["total"]
+            model[name] = total
+            flux = ds["flux"].values
+            err = ds["flux_err"].values if "flux_err" in ds else np.full(flux.shape, np.nan)
+            if name == "spectrum":
+                err = np.where(np.isfinite(err) & (err > 0), err, 0.05 * np.abs(flux))
+                spec = comps
+            r = (flux - total) / err
+            if name == "photometry":
+                sed = comps
+                upper = ds["upper_limit"].values.astype(bool)
+                r = np.where(upper, np.where(total > flux, (total - flux) / err, 0.0), r)
+            resid[name] = r
+        chi2, npts = {}, {}
+        for k, r in resid.items():
+            good = np.isfinite(r)
+            chi2[k] = float(np.sum(r[good] ** 2))
+            npts[k] = int(good.sum())
+        weights = {k: float(self.weights.get(k, 1.0)) for k in chi2}
+        return ComparisonResult(prediction=pred, model=model, residuals=resid, chi2=chi2, npoints=npts,
+                                weights=weights, sed=sed, spectrum=spec)

@@ -1,0 +1,40 @@
+"""The committed demo data: the true scene reproduces them within the noise."""
+import numpy as np
+import pytest
+
+from diskexplorer.fitting import Comparison
+from diskexplorer.sample import demo_scene, load_sample_data, write_sample_data
+
+
+@pytest.fixture(scope="module")
+def sample():
+    return load_sample_data()
+
+
+def test_sample_data_fit_the_true_scene_within_the_noise(sample):
+    result = Comparison(sample["observations"], sample["photometry"], sample["spectrum"]).compare(demo_scene())
+    for kind in ("vis2", "t3phi", "photometry", "spectrum"):
+        n = result.npoints[kind]
+        # χ²/N of Gaussian noise: 1 ± sqrt(2/N); allow 5σ
+        assert abs(result.chi2[kind] / n - 1.0) < 5 * np.sqrt(2.0 / n) + 0.05, (kind, result.chi2[kind] / n)
+
+
+def test_sample_data_shape(sample):
+    obs = sample["observations"]
+    assert obs.instruments == ("QT-HK", "QT-LM", "QT-N")
+    assert obs.target_names == ("Aurelis",)
+    base = np.hypot(obs.vis2["u"], obs.vis2["v"])
+    assert 8 < float(base.min()) and float(base.max()) < 135
+    assert obs.n_points("vis2") == 7920 and obs.n_points("t3") == 5280
+    n_band = obs.select_instrument("QT-N").vis2["wavelength"]
+    assert 7.9 < float(n_band.min()) and float(n_band.max()) < 13.1
+
+
+def test_regeneration_is_deterministic_and_refuses_to_overwrite(tmp_path, sample):
+    write_sample_data(tmp_path, progress=lambda s: None)
+    again = load_sample_data(tmp_path)
+    np.testing.assert_array_equal(again["observations"].vis2["vis2"].values,
+                                  sample["observations"].vis2["vis2"].values)
+    np.testing.assert_array_equal(again["spectrum"]["flux"].values, sample["spectrum"]["flux"].values)
+    with pytest.raises(FileExistsError, match="overwrite=True"):
+        write_sample_data(tmp_path, progress=lambda s: None)
