@@ -1,0 +1,31 @@
+"""Readers and writers of observational data: OIFITS, photometry and spectra.
+
+Every reader checks a file's content before trusting its name and returns xarray
+Datasets (wavelength in µm, flux density in Jy, (u, v) in m, phases in degrees).
+"""
+
+# OIFITS
+from .observations import ObservationSet, baseline_lengths, make_array_table
+from .oifits import read_oifits
+from .oifits_validate import Defect, OifitsWarning, validate_oifits
+from .oifits_write import write_oifits
+
+# Bands and zero points
+from .bands import (AB_ZERO_POINT_JY, INTERFEROMETRIC_BANDS, PHOTOMETRIC_BANDS, PhotometricBand,
+                    band_range, magnitude_to_jy, photometric_band)
+
+# Photometry, spectra, extinction
+from .photometry import photometry_dataset, read_photometry
+from .spectrum import read_spectrum, spectrum_dataset
+from .extinction import deredden
+
+__all__ = [
+    # OIFITS
+    "ObservationSet", "read_oifits", "write_oifits", "validate_oifits", "Defect", "OifitsWarning",
+    "baseline_lengths", "make_array_table",
+    # bands
+    "INTERFEROMETRIC_BANDS", "PHOTOMETRIC_BANDS", "AB_ZERO_POINT_JY", "PhotometricBand",
+    "band_range", "photometric_band", "magnitude_to_jy",
+    # photometry, spectra
+    "read_photometry", "photometry_dataset", "read_spectrum", "spectrum_dataset", "deredden",
+]
