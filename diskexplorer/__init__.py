@@ -8,23 +8,46 @@ __version__ = "0.1.0"
 # errors
 from .errors import DataError, DiskExplorerError, DustError, ParameterError, SeedError
 
-# model
+# model (importing dust registers species names and mixtures as ring opacities)
+from . import dust
+from .dust import DustMix
 from .physics import KappaTable, PhotosphereTable, PowerLawOpacity, Ring, Star, planck_nu
 from .observables import Scene
 
 # observables
 from .observables import (
     Evaluator,
+    Observer,
     model_image,
     normalized_silicate_band,
     radial_profiles,
 )
 
+# data
+from .data import ObservationSet, read_oifits, read_photometry, read_spectrum, write_oifits
+
+# judging against data
+from .fitting import Comparison
+
+
+def explore(data=None, scene=None, **kwargs):
+    """Open the explorer application (imports the widget layer on first use).
+
+    See :func:`diskexplorer.app.explore`.
+    """
+    from .app import explore as _explore
+
+    return _explore(data=data, scene=scene, **kwargs)
+
 __all__ = [
     # errors
     "DiskExplorerError", "ParameterError", "DataError", "DustError", "SeedError",
     # model
-    "Star", "Ring", "Scene", "PhotosphereTable", "KappaTable", "PowerLawOpacity", "planck_nu",
+    "Star", "Ring", "Scene", "DustMix", "PhotosphereTable", "KappaTable", "PowerLawOpacity", "planck_nu",
     # observables
-    "Evaluator", "model_image", "radial_profiles", "normalized_silicate_band",
+    "Evaluator", "Observer", "model_image", "radial_profiles", "normalized_silicate_band",
+    # data
+    "ObservationSet", "read_oifits", "write_oifits", "read_photometry", "read_spectrum",
+    # judging, exploring
+    "Comparison", "explore",
 ]

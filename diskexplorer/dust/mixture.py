@@ -1,0 +1,283 @@
+"""Dust mixtures: the value a ring's ``dust=`` resolves to.
+
+:class:`DustMix` is a frozen, hashable-by-value description of a mixture — mass
+fractions of species, a grain size and a shape method — and it is an opacity: it has a
+``label`` and ``kappa(wavelength)``. Its κ is the mass-weighted sum of precomputed
+library rows (κ_mix = Σ f_s κ_s), interpolated linearly in log λ to the requested
+wavelengths, so a new mixture costs tens of microseconds: cheap enough for every slider
+move.
+
+Forms accepted by ``dust=`` (through :func:`diskexplorer.physics.opacity.as_opacity`)::
+
+    "forsterite"                                    # one species, default size and shape
+    {"olivine_glass": 0.6, "forsterite": 0.4}       # mass fractions, defaults
+    {"olivine_glass": 0.6, "forsterite": 0.4, "grain_size": 1.5, "shape": "dhs"}
+    {"fractions": {...}, "grain_size": 1.5, "shape": "cde"}
+    DustMix({"olivine_glass": 0.6, ("forsterite", 0.1, "cde"): 0.4}, grain_size=1.5)
+
+A fraction's key is a species name (using the mixture's ``grain_size`` and ``shape``) or
+a ``(species, grain_size, shape)`` triple for a component of its own size or method.
+"""
+from __future__ import annotations
+
+import math
+import os
+from collections import OrderedDict
+from collections.abc import Mapping
+from dataclasses import dataclass
+
+import numpy as np
+
+from ..errors import DustError
+from .library import get_library
+from .optics import METHODS
+from .species import check_component, known_species, species_row
+
+__all__ = ["DustMix", "DEFAULT_GRAIN_SIZE", "DEFAULT_SHAPE", "resolve_dust", "mixture_kappa"]
+
+#: Defaults used when a mixture or a bare species name gives no size or shape.
+DEFAULT_GRAIN_SIZE = 0.1
+DEFAULT_SHAPE = "dhs"
+
+_ROW_CACHE: OrderedDict = OrderedDict()
+_ROW_CACHE_SIZE = 512
+# Outside the grid κ is continued as a power law whose slope is taken over the last
+# 10% (in λ) of the grid, not the last interval, so grid-scale noise does not set it.
+_SLOPE_SPAN = math.log(1.1)
+
+
+def _canonical_key(key, where):
+    if isinstance(key, str):
+        return key
+    if isinstance(key, tuple) and len(key) == 3 and isinstance(key[0], str):
+        name, size, shape = key
+        shape = str(shape).lower()
+        if shape not in METHODS:
+            raise DustError(f"{where}: component {key!r}: shape {shape!r} not one of {METHODS}")
+        if shape == "cde":
+            return (name, None, "cde")
+        size = float(size)
+        if not (math.isfinite(size) and size > 0):
+            raise DustError(f"{where}: component {key!r}: grain size must be > 0 µm")
+        return (name, round(size, 9), shape)
+    raise DustError(f"{where}: fraction key {key!r}: expected a species name or a "
+                    "(species, grain_size µm, shape) tuple")
+
+
+@dataclass(frozen=True)
+class DustMix:
+    """A dust mixture: mass fractions of species, grain size and shape method.
+
+    Parameters
+    ----------
+    fractions : mapping or sequence of (key, fraction) pairs
+        Mass fractions (any positive scale; renormalised to sum 1). Keys are species
+        names, or ``(species, grain_size, shape)`` triples overriding the defaults.
+        Zero fractions are dropped; duplicate keys are added.
+    grain_size : float
+        Grain radius in µm for keys without their own (Mie: sphere radius; DHS:
+        volume-equivalent radius of the material). Ignored by ``"cde"``.
+    shape : {"dhs", "mie", "cde"}
+        Grain shape method for keys without their own. ``"cde"`` is the Rayleigh-limit
+        CDE: κ independent of size (valid for grains well below ~1 µm in the N band).
+
+    Attributes
+    ----------
+    fractions : tuple of (key, float)
+        Canonical form: sorted, renormalised, hashable. Two mixtures are equal
+        (and hash equal) when these and ``grain_size`` and ``shape`` are.
+
+    Notes
+    -----
+    κ_abs,mix(λ) = Σᵢ fᵢ κᵢ(λ) in cm² g⁻¹ (mass-weighted). Between library grid points
+    κ is interpolated linearly in log λ; beyond 0.3–100 µm it continues as a power law
+    with the slope of the last 10% of the grid (the long-wavelength emissivity law).
+
+    Examples
+    --------
+    >>> mix = DustMix({"olivine_glass": 0.6, "forsterite": 0.4}, grain_size=1.5)
+    >>> mix.kappa([10.0, 11.3])                                   # doctest: +SKIP
+    """
+
+    fractions: tuple
+    grain_size: float = DEFAULT_GRAIN_SIZE
+    shape: str = DEFAULT_SHAPE
+
+    def __post_init__(self):
+        shape = str(self.shape).lower()
+        if shape not in METHODS:
+            raise DustError(f"DustMix.shape = {self.shape!r}: expected one of {METHODS}")
+        try:
+            size = float(self.grain_size)
+        except (TypeError, ValueError):
+            raise DustError(f"DustMix.grain_size = {self.grain_size!r}: expected a radius in µm") from None
+        if not (math.isfinite(size) and size > 0):
+            raise DustError(f"DustMix.grain_size = {self.grain_size!r} µm: expected > 0")
+        raw = self.fractions
+        items = list(raw.items()) if isinstance(raw, Mapping) else list(raw)
+        merged: dict = {}
+        for item in items:
+            try:
+                key, value = item
+            except (TypeError, ValueError):
+                raise DustError(f"DustMix fractions: entry {item!r} is not a (species, fraction) pair") from None
+            key = _canonical_key(key, "DustMix")
+            try:
+                value = float(value)
+            except (TypeError, ValueError):
+                raise DustError(f"DustMix fraction of {key!r} = {value!r}: expected a number") from None
+            if not (math.isfinite(value) and value >= 0):
+                raise DustError(f"DustMix fraction of {key!r} = {value!r}: expected a finite value ≥ 0")
+            merged[key] = merged.get(key, 0.0) + value
+        total = sum(merged.values())
+        if not total > 0:
+            raise DustError(f"DustMix fractions {dict(merged)!r}: need at least one positive fraction")
+        canon = tuple(sorted(((k, v / total) for k, v in merged.items() if v > 0), key=lambda kv: repr(kv[0])))
+        object.__setattr__(self, "fractions", canon)
+        object.__setattr__(self, "grain_size", round(size, 9))
+        object.__setattr__(self, "shape", shape)
+        # Refuse unknown species and untabulated sizes now, not at the first κ call.
+        for (name, csize, cshape), _ in self.components:
+            check_component(name, cshape, csize)
+
+    # --- views ------------------------------------------------------------------------
+
+    @property
+    def components(self):
+        """Resolved ``((species, size µm or None, shape), fraction)`` pairs."""
+        out = []
+        for key, f in self.fractions:
+            if isinstance(key, str):
+                key = (key, None if self.shape == "cde" else self.grain_size, self.shape)
+            out.append((key, f))
+        return tuple(out)
+
+    @property
+    def label(self):
+        """Short text, e.g. ``"60% olivine_glass + 40% forsterite (DHS 1.5 µm)"``."""
+        parts = []
+        for key, f in self.fractions:
+            if isinstance(key, str):
+                parts.append(f"{100 * f:.3g}% {key}")
+            else:
+                what = "CDE" if key[2] == "cde" else f"{key[2].upper()} {key[1]:g} µm"
+                parts.append(f"{100 * f:.3g}% {key[0]} ({what})")
+        if any(isinstance(k, str) for k, _ in self.fractions):
+            common = "CDE" if self.shape == "cde" else f"{self.shape.upper()} {self.grain_size:g} µm"
+            return " + ".join(parts) + f" ({common})"
+        return " + ".join(parts)
+
+    def as_dict(self):
+        """Plain-data form (JSON-friendly) that :func:`resolve_dust` turns back into this."""
+        return {"fractions": [[list(k) if isinstance(k, tuple) else k, f] for k, f in self.fractions],
+                "grain_size": self.grain_size, "shape": self.shape}
+
+    # --- κ --------------------------------------------------------------------------------
+
+    def kappa_on_grid(self):
+        """κ_abs (cm² g⁻¹) on the library grid (:func:`diskexplorer.dust.library_grid`)."""
+        return self._grid_row()[0]
+
+    def _grid_row(self):
+        hit = _ROW_CACHE.get(self)
+        if hit is not None:
+            try:
+                _ROW_CACHE.move_to_end(self)
+            except KeyError:  # evicted by another thread meanwhile; the value is still good
+                pass
+            return hit
+        comps = self.components
+        if len(comps) == 1:
+            (name, size, shape), _ = comps[0]
+            row = species_row(name, shape, size)
+        else:
+            rows = np.stack([species_row(n, sh, sz) for (n, sz, sh), _ in comps])
+            row = np.asarray([f for _, f in comps]) @ rows
+        loglam = get_library().log_wavelength
+        hit = (row, loglam, _end_slopes(loglam, row))
+        _ROW_CACHE[self] = hit
+        if len(_ROW_CACHE) > _ROW_CACHE_SIZE:
+            try:
+                _ROW_CACHE.popitem(last=False)
+            except KeyError:
+                pass
+        return hit
+
+    def kappa(self, wavelength):
+        """Mass absorption coefficient κ_abs in cm² g⁻¹ at ``wavelength`` (µm).
+
+        Raises
+        ------
+        DustError
+            Non-positive wavelengths, or wavelengths a user species' data do not cover.
+        """
+        row, loglam, (s_lo, s_hi) = self._grid_row()
+        lam = np.asarray(wavelength, dtype=float)
+        with np.errstate(divide="ignore", invalid="ignore"):
+            x = np.log(lam)
+        if not np.all(np.isfinite(x)):
+            raise DustError(f"{self.label}: wavelengths must be finite and > 0 µm")
+        k = np.interp(x, loglam, row)
+        lo = x < loglam[0]
+        hi = x > loglam[-1]
+        if lo.any():
+            k = np.where(lo, row[0] * np.exp(s_lo * (x - loglam[0])), k)
+        if hi.any():
+            k = np.where(hi, row[-1] * np.exp(s_hi * (x - loglam[-1])), k)
+        if np.isnan(k).any():
+            raise DustError(f"{self.label}: a user species' optical constants do not cover the "
+                            "requested wavelengths (κ undefined there)")
+        return k
+
+
+def _end_slopes(loglam, row):
+    """d ln κ / d ln λ over the first and last 10% of the grid (0 where undefined)."""
+    i_lo = int(np.searchsorted(loglam, loglam[0] + _SLOPE_SPAN))
+    i_hi = int(np.searchsorted(loglam, loglam[-1] - _SLOPE_SPAN))
+    with np.errstate(divide="ignore", invalid="ignore"):
+        s_lo = math.log(row[i_lo] / row[0]) / (loglam[i_lo] - loglam[0]) if row[i_lo] > 0 < row[0] else 0.0
+        s_hi = math.log(row[-1] / row[i_hi]) / (loglam[-1] - loglam[i_hi]) if row[-1] > 0 < row[i_hi] else 0.0
+    return (s_lo if math.isfinite(s_lo) else 0.0, s_hi if math.isfinite(s_hi) else 0.0)
+
+
+def mixture_kappa(fractions, wavelength, grain_size=DEFAULT_GRAIN_SIZE, shape=DEFAULT_SHAPE):
+    """κ_abs (cm² g⁻¹) of a mixture at ``wavelength`` (µm); see :class:`DustMix`."""
+    return DustMix(fractions, grain_size=grain_size, shape=shape).kappa(wavelength)
+
+
+_RESERVED = ("grain_size", "shape")
+
+
+def resolve_dust(spec):
+    """Turn a species name or mixture spec into a :class:`DustMix`, or ``None`` to pass.
+
+    Registered with :func:`diskexplorer.physics.opacity.register_opacity_resolver` when
+    :mod:`diskexplorer.dust` is imported. Strings that are neither a known species nor
+    an existing file are refused here with the list of species (a typo should not read
+    as "file not found").
+    """
+    if isinstance(spec, DustMix):
+        return spec
+    if isinstance(spec, str):
+        if spec in known_species():
+            return DustMix({spec: 1.0})
+        looks_like_path = os.sep in spec or "/" in spec or os.path.splitext(spec)[1] != ""
+        if os.path.exists(spec) or looks_like_path:
+            return None
+        raise DustError(f"dust {spec!r} is not a known species (known: {', '.join(known_species())}) "
+                        "nor an existing κ table file")
+    if isinstance(spec, Mapping):
+        d = dict(spec)
+        if "fractions" in d:
+            extra = set(d) - {"fractions", *_RESERVED}
+            if extra:
+                raise DustError(f"dust mixture: unknown field(s) {sorted(extra)}; expected "
+                                "fractions, grain_size, shape")
+            fr = d["fractions"]
+            if isinstance(fr, list):  # JSON form from DustMix.as_dict
+                fr = [(tuple(k) if isinstance(k, list) else k, f) for k, f in fr]
+            return DustMix(fr, grain_size=d.get("grain_size", DEFAULT_GRAIN_SIZE),
+                           shape=d.get("shape", DEFAULT_SHAPE))
+        opts = {k: d.pop(k) for k in _RESERVED if k in d}
+        return DustMix(d, **opts)
+    return None
