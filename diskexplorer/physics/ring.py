@@ -8,10 +8,20 @@ import numpy as np
 
 from ..errors import ParameterError
 from .opacity import as_opacity
-from .parameters import parameter, validate_parameters
+from .parameters import ParameterSpec, parameter, validate_parameters
 from .planck import planck_nu
 
-__all__ = ["Ring"]
+__all__ = ["Ring", "MODULATION_AMPLITUDE_SPEC", "MODULATION_ANGLE_SPEC"]
+
+#: Declarations of the modulation in polar form, (c1, s1) = A (cos φ_mod, sin φ_mod).
+MODULATION_AMPLITUDE_SPEC = ParameterSpec(
+    name="modulation_amplitude", unit="", label="A_mod",
+    description="azimuthal modulation amplitude √(c1² + s1²)",
+    valid=(0.0, 1.0), closed=(True, True), bounds=(0.0, 1.0))
+MODULATION_ANGLE_SPEC = ParameterSpec(
+    name="modulation_angle", unit="deg", label="φ_mod",
+    description="azimuth of the brightest side in the disk plane, from the major axis",
+    valid=(0.0, 360.0), closed=(True, True), bounds=(0.0, 360.0))
 
 
 @dataclass(frozen=True)

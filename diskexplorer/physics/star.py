@@ -8,10 +8,15 @@ import numpy as np
 
 from ..errors import ParameterError
 from .constants import ARCSEC_RAD, AU_M, L_SUN_W, MAS_PER_RAD, R_SUN_M, SIGMA_SB
-from .parameters import check_parameter, parameter, parameter_specs, validate_parameters
+from .parameters import ParameterSpec, check_parameter, parameter, parameter_specs, validate_parameters
 from .planck import planck_nu
 
-__all__ = ["Star", "PhotosphereTable"]
+__all__ = ["Star", "PhotosphereTable", "LUMINOSITY_SPEC"]
+
+#: Declaration of the luminosity, an alternative to the radius (L = 4π R² σ T_eff⁴).
+LUMINOSITY_SPEC = ParameterSpec(name="luminosity", unit="solLum", label="L★", description="stellar luminosity",
+                                valid=(0.0, math.inf), closed=(False, False), bounds=(0.05, 5000.0),
+                                scale="log")
 
 
 class PhotosphereTable:
@@ -111,9 +116,7 @@ class Star:
         object.__setattr__(self, "uniform_disk", bool(uniform_disk))
         object.__setattr__(self, "photosphere", photosphere)
         if luminosity is not None:
-            if not (isinstance(luminosity, (int, float)) and math.isfinite(luminosity) and luminosity > 0):
-                raise ParameterError(f"Star.luminosity = {luminosity!r} solLum is outside the allowed "
-                                     "range (0, inf) solLum")
+            check_parameter(LUMINOSITY_SPEC, luminosity, "Star")
             check_parameter(parameter_specs(Star)["t_eff"], t_eff, "Star")
             radius = math.sqrt(luminosity * L_SUN_W / (4 * math.pi * SIGMA_SB * t_eff**4)) / R_SUN_M
         object.__setattr__(self, "radius", 2.0 if radius is None else radius)

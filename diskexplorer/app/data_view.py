@@ -1,0 +1,128 @@
+"""The data as the figures see them: filtered, bound to a comparison, with derived axes."""
+from __future__ import annotations
+
+import math
+
+import numpy as np
+
+from ..fitting.comparison import Comparison
+
+__all__ = ["DataView", "filter_observations"]
+
+#: Correlated-flux spectra drawn at most for this many baselines (more is unreadable).
+MAX_BASELINES = 8
+
+
+def filter_observations(observations, bands=(), instruments=(), baseline_range=(0.0, math.inf)):
+    """Apply the app's filters; empty selections keep everything.
+
+    Parameters
+    ----------
+    observations : ObservationSet or None
+    bands : sequence of str
+        Interferometric band names (J, H, K, L, M, N).
+    instruments : sequence of str
+        INSNAME values.
+    baseline_range : (float, float)
+        Projected baseline range in m.
+    """
+    obs = observations
+    if obs is None:
+        return None
+    if bands:
+        obs = obs.select_band(*bands)
+    if instruments:
+        obs = obs.select_instrument(*instruments)
+    lo, hi = baseline_range
+    if lo > 0 or math.isfinite(hi):
+        obs = obs.select_baseline(lo, hi)
+    return obs
+
+
+def _has(ds):
+    return ds is not None and ds.sizes.get("point", 0) > 0
+
+
+class DataView:
+    """Filtered data, its :class:`Comparison`, and per-point axes for the figures.
+
+    Attributes
+    ----------
+    observations : ObservationSet or None
+        After the filters.
+    comparison : Comparison
+    vis2 : dict or None
+        ``freq`` (spatial frequency, Mλ), ``wavelength`` (µm), ``value``, ``error``.
+    t3 : dict or None
+        ``freq`` (largest spatial frequency of the triangle, Mλ), ``wavelength``, ``value``,
+        ``error`` (degrees).
+    baselines : list of dict
+        Up to :data:`MAX_BASELINES` baselines for correlated-flux spectra: ``index`` (V²
+        points of that baseline, sorted by wavelength), ``length`` (m), ``label``.
+    curve_wavelengths : ndarray
+        One representative wavelength (µm) per instrument for the continuous V² curve.
+    freq_max : float
+        Largest spatial frequency of the data, Mλ.
+    """
+
+    def __init__(self, observations=None, photometry=None, spectrum=None, *, bands=(), instruments=(),
+                 baseline_range=(0.0, math.inf)):
+        obs = filter_observations(observations, bands, instruments, baseline_range)
+        self.observations = obs
+        self.photometry = photometry
+        self.spectrum = spectrum
+        self.comparison = Comparison(obs, photometry, spectrum)
+        self.vis2 = self.t3 = None
+        self.baselines = []
+        self.curve_wavelengths = np.array([2.2, 10.0])
+        self.freq_max = 60.0
+        if obs is not None and _has(obs.vis2):
+            ds = obs.vis2
+            wl = ds["wavelength"].values
+            b = np.hypot(ds["u"].values, ds["v"].values)
+            self.vis2 = {"freq": b / wl, "wavelength": wl, "value": ds["vis2"].values,
+                         "error": ds["vis2_err"].values}
+            self.baselines = _pick_baselines(ds, b)
+            ins = ds["insname"].values
+            self.curve_wavelengths = np.array(sorted(float(np.median(wl[ins == name]))
+                                                     for name in np.unique(ins)))
+            self.freq_max = float(np.max(b / wl))
+        if obs is not None and _has(obs.t3):
+            ds = obs.t3
+            wl = ds["wavelength"].values
+            u1, v1, u2, v2 = (ds[k].values for k in ("u1", "v1", "u2", "v2"))
+            longest = np.max([np.hypot(u1, v1), np.hypot(u2, v2), np.hypot(u1 + u2, v1 + v2)], axis=0)
+            self.t3 = {"freq": longest / wl, "wavelength": wl, "value": ds["t3phi"].values,
+                       "error": ds["t3phi_err"].values}
+            self.freq_max = max(self.freq_max if self.vis2 is not None else 0.0, float(np.max(longest / wl)))
+
+    @property
+    def wavelength_range(self):
+        """(min, max) wavelength of the interferometric data, µm."""
+        parts = [d["wavelength"] for d in (self.vis2, self.t3) if d is not None]
+        if not parts:
+            return (1.5, 13.0)
+        w = np.concatenate(parts)
+        return float(w.min()), float(w.max())
+
+
+def _pick_baselines(ds, length):
+    """Group V² points by (instrument, time, station pair); keep a spread of lengths."""
+    keys = np.rec.fromarrays([ds["insname"].values.astype(str), np.round(ds["mjd"].values, 5),
+                              ds["sta_index1"].values, ds["sta_index2"].values])
+    _, inverse = np.unique(keys, return_inverse=True)
+    groups = []
+    for g in range(inverse.max() + 1 if inverse.size else 0):
+        idx = np.flatnonzero(inverse == g)
+        if idx.size < 2:
+            continue
+        idx = idx[np.argsort(ds["wavelength"].values[idx])]
+        groups.append({"index": idx, "length": float(np.median(length[idx])),
+                       "insname": str(ds["insname"].values[idx[0]])})
+    if len(groups) > MAX_BASELINES:
+        order = np.argsort([g["length"] for g in groups])
+        pick = order[np.unique(np.linspace(0, len(order) - 1, MAX_BASELINES).round().astype(int))]
+        groups = [groups[k] for k in pick]
+    for g in groups:
+        g["label"] = f"{g['insname']} {g['length']:.0f} m"
+    return sorted(groups, key=lambda g: g["length"])

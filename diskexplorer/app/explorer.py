@@ -1,0 +1,329 @@
+"""The explorer: state, controls and figures wired through one observer and one recompute."""
+from __future__ import annotations
+
+import math
+import time
+from dataclasses import dataclass, field
+
+import ipywidgets as w
+import numpy as np
+
+from ..physics.parameters import ParameterSpec
+from .controls import ExtendedPanel, GeometryPanel, ParamControl, StarPanel
+from .data_panel import DataPanel
+from .data_view import DataView
+from .debounce import Debouncer
+from .figures import (Chi2Table, ClosureFigure, CorrelatedFluxFigure, ImageFigure, ProfilesFigure,
+                      SedFigure, SpectrumFigure, Vis2Figure)
+from .model_views import image, profiles, sed_curves, vis2_curve
+from .palette import ACCENT, INK, MUTED, PAPER
+from .pins import PinBoard, pin_colour
+from .ring_cards import RingDeck
+from .session_panel import SessionPanel
+from .state import ExplorerState, tiers_for
+
+__all__ = ["Explorer", "explore", "Frame"]
+
+_WAVELENGTH_SPEC = ParameterSpec(name="wavelength", unit="um", label="λ", description="wavelength of the view",
+                                 valid=(0.0, math.inf), closed=(False, False), bounds=(1.0, 30.0), scale="log")
+_CURVE_PA_SPEC = ParameterSpec(name="curve_position_angle", unit="deg", label="PA_curve",
+                               description="position angle of the baselines of the model curve, east of north",
+                               valid=(0.0, 360.0), closed=(True, True), bounds=(0.0, 180.0))
+
+_CSS = f"""
+<style>
+.dx-root {{ background: {PAPER}; color: {INK}; font-family: system-ui, -apple-system, "Segoe UI", sans-serif; }}
+.dx-header {{ border-bottom: 2px solid {ACCENT}; padding: 4px 8px; }}
+.dx-section-title {{ font-weight: 600; font-size: 12px; letter-spacing: .06em; text-transform: uppercase;
+  color: {ACCENT}; margin: 10px 0 2px 0; }}
+.dx-ring-card {{ border-left: 3px solid #d8d4ca; padding-left: 6px; margin: 6px 0; }}
+.dx-controls {{ border-right: 1px solid #e6e4de; padding-right: 6px; }}
+.dx-message {{ font-size: 12px; color: {INK}; }}
+</style>"""
+
+
+@dataclass
+class Frame:
+    """What one recomputation produced for one scene.
+
+    Attributes
+    ----------
+    scene : Scene
+    result : ComparisonResult or None
+        None without data.
+    sed : dict
+        SED components (Jy) on :data:`~diskexplorer.app.model_views.SED_WAVELENGTHS`.
+    spectrum : dict
+        SED components (Jy) at the spectrum figure's wavelengths.
+    curve : tuple
+        (spatial frequency Mλ, V² (nwl, n), wavelengths µm, position angle deg).
+    profiles : xarray.Dataset or None
+    image : xarray.DataArray or None
+    wavelength_vis2 : ndarray
+        Wavelengths of the V² points (µm), for correlated-flux spectra.
+    """
+
+    scene: object
+    result: object = None
+    sed: dict = field(default_factory=dict)
+    spectrum: dict = field(default_factory=dict)
+    curve: tuple = None
+    profiles: object = None
+    image: object = None
+    wavelength_vis2: np.ndarray = None
+
+
+class Explorer(w.VBox):
+    """The application widget.
+
+    Parameters
+    ----------
+    scene : Scene
+        Starting model.
+    data : dict, optional
+        ``observations`` (ObservationSet), ``photometry``, ``spectrum`` (xarray.Dataset) and
+        optionally ``paths`` (as :func:`diskexplorer.sample.load_sample_data` returns).
+    scheduler : object with ``call_later(delay, fn)``, optional
+        Where the debounced recompute waits (default: the running asyncio loop).
+    delay : float
+        Debounce window, s.
+
+    Attributes
+    ----------
+    state : ExplorerState
+    debouncer : Debouncer
+    figures : dict of figure objects by name
+    timings : list of float
+        Duration of each recompute, s (the benchmark reads it).
+    """
+
+    def __init__(self, scene, data=None, scheduler=None, delay=0.04):
+        data = dict(data or {})
+        paths = data.pop("paths", {}) or {}
+        self.state = ExplorerState(scene=scene, observations=data.get("observations"),
+                                   photometry=data.get("photometry"), spectrum=data.get("spectrum"),
+                                   data_sources={k: v for k, v in paths.items()},
+                                   curve_position_angle=float(scene.position_angle % 180.0))
+        self.debouncer = Debouncer(self._recompute, delay=delay, scheduler=scheduler)
+        self.timings = []
+        self.recompute_log = []
+        self._pin_cache = {}
+        self._structure_stale = set()
+        #: Compute the image and profiles even while their page is hidden (tests, benchmark).
+        self.render_hidden = False
+        self._data_generation = 0
+        self.view = None
+        self.frame = None
+
+        # figures
+        self.figures = {"sed": SedFigure(), "spectrum": SpectrumFigure(), "vis2": Vis2Figure(),
+                        "t3": ClosureFigure(), "corrflux": CorrelatedFluxFigure(),
+                        "profiles": ProfilesFigure(), "image": ImageFigure()}
+        self.chi2 = Chi2Table()
+
+        # controls
+        st = self.state
+        self.star_panel = StarPanel(st)
+        self.geometry_panel = GeometryPanel(st)
+        self.extended_panel = ExtendedPanel(st)
+        self.ring_deck = RingDeck(st)
+        self.data_panel = DataPanel(st)
+        self.pin_board = PinBoard(st)
+        self.session_panel = SessionPanel(st)
+        self.message = w.HTML()
+        self.message.add_class("dx-message")
+        st.observe(self._on_notice, "notice")
+
+        self.curve_pa = ParamControl(_CURVE_PA_SPEC, st.curve_position_angle,
+                                     lambda v: setattr(st, "curve_position_angle", v), css="dx-curve-pa")
+        self.image_wl = ParamControl(_WAVELENGTH_SPEC, st.image_wavelength,
+                                     lambda v: setattr(st, "image_wavelength", v), css="dx-image-wl")
+        self.profile_wl = ParamControl(_WAVELENGTH_SPEC, st.profile_wavelength,
+                                       lambda v: setattr(st, "profile_wavelength", v), css="dx-profile-wl")
+        toggles = {}
+        for name, text in (("log_sed_x", "log λ"), ("log_sed_y", "log F_ν"), ("log_vis2", "log V²"),
+                           ("log_profiles", "log r")):
+            tb = w.ToggleButton(value=getattr(st, name), description=text, layout={"width": "74px"})
+            w.link((tb, "value"), (st, name))
+            toggles[name] = tb
+        self.toggles = toggles
+
+        self._layout()
+        # The one observer: every state change except the message goes through the debouncer.
+        st.observe(self._on_state_change)
+        self._recompute({"observations", "scene", "pins", "log_sed_x", "log_vis2", "log_profiles"})
+
+    # ------------------------------------------------------------------ layout
+    def _layout(self):
+        f = self.figures
+        model_page = w.VBox([self.star_panel, self.geometry_panel, self.extended_panel, self.ring_deck])
+        controls = w.Tab([model_page, self.data_panel, w.VBox([self.pin_board, self.session_panel])],
+                         titles=("model", "data", "pins & session"))
+        controls.layout = {"width": "400px", "min_width": "400px"}
+        controls.add_class("dx-controls")
+        inter = w.VBox([w.HBox([self.curve_pa, self.toggles["log_vis2"]]), f["vis2"].widget, f["t3"].widget,
+                        f["corrflux"].widget])
+        spectra = w.VBox([w.HBox([self.toggles["log_sed_x"], self.toggles["log_sed_y"]]), f["sed"].widget,
+                          f["spectrum"].widget])
+        structure = w.VBox([w.HBox([w.HTML("<b>image</b>", layout={"width": "50px"}), self.image_wl]),
+                            f["image"].widget,
+                            w.HBox([w.HTML("<b>profiles</b>", layout={"width": "60px"}), self.profile_wl,
+                                    self.toggles["log_profiles"]]),
+                            f["profiles"].widget])
+        self.figure_tabs = w.Tab([inter, spectra, structure],
+                                 titles=("interferometry", "SED & spectrum", "disk structure"))
+        self.figure_tabs.layout = {"flex": "1 1 auto", "min_width": "560px"}
+        self.figure_tabs.observe(self._on_tab_change, "selected_index")
+        header = w.HBox([w.HTML(f"{_CSS}<span style='font-size:18px;font-weight:700'>diskexplorer</span>"
+                                f"<span style='color:{MUTED};margin-left:10px'>inner-disk models against "
+                                "interferometry, SED and the silicate band</span>"),
+                         ], layout={"justify_content": "space-between"})
+        header.add_class("dx-header")
+        right = w.VBox([w.HBox([self.chi2.widget], layout={"padding": "4px 0"}), self.figure_tabs],
+                       layout={"flex": "1 1 auto"})
+        super().__init__([header, self.message, w.HBox([controls, right], layout={"width": "100%"})])
+        self.add_class("dx-root")
+
+    # ------------------------------------------------------------------ the loop
+    def _on_notice(self, change):
+        text = change["new"]
+        self.message.value = "" if not text else (
+            f"<div style='background:#fff4e0;border-left:3px solid #E69F00;padding:3px 8px'>"
+            f"{__import__('html').escape(text)}</div>")
+
+    def _on_state_change(self, change):
+        if change["name"] != "notice":
+            self.debouncer.trigger(change["name"])
+
+    def flush(self):
+        """Run a pending recompute now (tests and scripts)."""
+        self.debouncer.flush()
+
+    def _recompute(self, names):
+        t0 = time.perf_counter()
+        tiers = tiers_for(names)
+        st = self.state
+        f = self.figures
+        if "data" in tiers:
+            self.view = DataView(st.observations, st.photometry, st.spectrum, bands=st.band_filter,
+                                 instruments=st.instrument_filter, baseline_range=st.baseline_range)
+            self._data_generation += 1
+            self._pin_cache.clear()
+            for fig in f.values():
+                fig.update_data(self.view)
+            tiers |= {"model", "pins"}
+        if "style" in tiers or "data" in tiers:
+            for fig in f.values():
+                fig.apply_style(st)
+        if "model" in tiers:
+            self.frame = self._frame(st.scene, full=True)
+            for name, fig in f.items():
+                if name not in ("image", "profiles"):
+                    fig.update_model(self.frame)
+            f["vis2"].update_curve(self.frame)
+            self._update_structure()
+            self.chi2.update_model(self.frame.result)
+        else:
+            if "curve" in tiers:
+                self.frame.curve = self._curve(st.scene)
+                f["vis2"].update_curve(self.frame)
+                tiers.add("pins")
+            picked = tuple(k for k in ("image", "profiles") if k in tiers)
+            if picked:
+                self._update_structure(picked)
+        if "pins" in tiers:
+            self._update_pins()
+        self.timings.append(time.perf_counter() - t0)
+        self.recompute_log.append(sorted(tiers))
+
+    def _curve(self, scene):
+        v = self.view
+        pa = self.state.curve_position_angle
+        freq, v2 = vis2_curve(scene, pa, v.freq_max, v.curve_wavelengths)
+        return freq, v2, v.curve_wavelengths, pa
+
+    def _frame(self, scene, full):
+        v = self.view
+        result = None
+        if v.comparison.kinds:
+            result = v.comparison.compare(scene)
+        spec_fig = self.figures["spectrum"]
+        if result is not None and result.spectrum:
+            spectrum = result.spectrum
+        else:
+            spectrum = scene.sed_components(spec_fig.wavelength)
+        frame = Frame(scene=scene, result=result, sed=sed_curves(scene), spectrum=spectrum,
+                      curve=self._curve(scene),
+                      wavelength_vis2=(v.vis2["wavelength"] if v.vis2 is not None else np.zeros(0)))
+        return frame
+
+    @property
+    def structure_visible(self):
+        """Whether the disk-structure page (image, profiles) is on screen."""
+        return self.figure_tabs.selected_index == 2 or self.render_hidden
+
+    def _update_structure(self, which=("image", "profiles")):
+        # Image and profiles cost more than every other view together; they are computed
+        # only while their page is shown, and caught up when it is opened.
+        if not self.structure_visible:
+            self._structure_stale.update(which)
+            return
+        st, f = self.state, self.figures
+        if "image" in which:
+            self.frame.image = image(st.scene, st.image_wavelength)
+            f["image"].update_model(self.frame)
+        if "profiles" in which:
+            self.frame.profiles = profiles(st.scene, st.profile_wavelength)
+            f["profiles"].update_model(self.frame)
+        self._structure_stale.difference_update(which)
+
+    def _on_tab_change(self, change):
+        if self.structure_visible and self._structure_stale and self.frame is not None:
+            self._update_structure(tuple(self._structure_stale))
+
+    def _update_pins(self):
+        pins = []
+        for k, p in enumerate(self.state.pins):
+            key = (id(p["scene"]), self._data_generation, self.state.curve_position_angle)
+            frame = self._pin_cache.get(key)
+            if frame is None:
+                frame = self._frame(p["scene"], full=False)
+                self._pin_cache[key] = frame
+            pins.append((p["name"], pin_colour(k), frame))
+        for fig in self.figures.values():
+            fig.update_pins(pins)
+        self.chi2.update_pins([(n, c, fr.result) for n, c, fr in pins])
+        self.pin_board.show_totals([fr.result.total / fr.result.n_total if fr.result is not None and fr.result.n_total
+                                    else None for _, _, fr in pins])
+
+
+def explore(data=None, scene=None, *, scheduler=None, delay=0.04):
+    """Open the explorer.
+
+    Parameters
+    ----------
+    data : dict or ObservationSet, optional
+        ``{"observations": ObservationSet, "photometry": Dataset, "spectrum": Dataset,
+        "paths": {...}}`` or just an ObservationSet. Default: the sample data.
+    scene : Scene, optional
+        Starting model. Default: the sample's starting scene.
+    scheduler : optional
+        Debounce scheduler (tests pass a :class:`~diskexplorer.app.debounce.ManualScheduler`).
+    delay : float
+        Debounce window in s.
+
+    Returns
+    -------
+    Explorer
+        A displayable ipywidgets container.
+    """
+    from ..data.observations import ObservationSet
+    from .demo import demo_material
+
+    if data is None or scene is None:
+        demo_scene, demo_data = demo_material()
+        scene = scene if scene is not None else demo_scene
+        data = data if data is not None else demo_data
+    if isinstance(data, ObservationSet):
+        data = {"observations": data}
+    return Explorer(scene, data, scheduler=scheduler, delay=delay)

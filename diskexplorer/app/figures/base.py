@@ -1,0 +1,98 @@
+"""Shared figure plumbing: assigning only changed traits, axes, error bars, log scales."""
+from __future__ import annotations
+
+import bqplot as bq
+import numpy as np
+
+from ..palette import INK, MUTED
+
+__all__ = ["assign", "same", "new_figure", "error_segments", "swap_scale", "EMPTY"]
+
+#: An empty float array (marks start empty and are filled by the first update).
+EMPTY = np.zeros(0)
+
+
+def same(old, new):
+    """Whether assigning ``new`` over ``old`` would change nothing."""
+    if isinstance(old, np.ndarray) or isinstance(new, np.ndarray):
+        a, b = np.asarray(old), np.asarray(new)
+        if a.shape != b.shape:
+            return False
+        if a.dtype.kind in "fc" and b.dtype.kind in "fc":
+            return bool(np.array_equal(a, b, equal_nan=True))
+        return bool(np.array_equal(a, b))
+    try:
+        return bool(old == new)
+    except Exception:  # noqa: BLE001 - incomparable values are "different"
+        return False
+
+
+def assign(widget, **traits):
+    """Set ``traits`` on ``widget``, only those that differ, in one message.
+
+    Returns
+    -------
+    bool
+        Whether anything was sent.
+    """
+    changed = {k: v for k, v in traits.items() if not same(getattr(widget, k), v)}
+    if changed:
+        with widget.hold_sync():
+            for k, v in changed.items():
+                setattr(widget, k, v)
+    return bool(changed)
+
+
+def new_figure(title, marks, axes, css_class, height="290px", legend=False):
+    """A bqplot Figure in the explorer's look, tagged with ``css_class`` for tests."""
+    fig = bq.Figure(marks=marks, axes=axes, title=title, animation_duration=0,
+                    fig_margin={"top": 34, "bottom": 48, "left": 62, "right": 18},
+                    legend_location="top-right", legend_text={"font-size": "11px"},
+                    title_style={"font-size": "13px", "fill": INK, "font-weight": "600"},
+                    layout={"width": "100%", "height": height, "min_width": "300px"})
+    fig.add_class(css_class)
+    return fig
+
+
+def axis(scale, label, orientation="horizontal", **kw):
+    """An axis with the label style of the explorer (labels carry the unit)."""
+    return bq.Axis(scale=scale, label=label, orientation=orientation, label_color=MUTED,
+                   grid_color="#e6e4de", grid_lines="solid", tick_style={"font-size": "10px"},
+                   label_offset="36px" if orientation == "horizontal" else "46px", **kw)
+
+
+def error_segments(x, y, err):
+    """One polyline drawing vertical error bars: (x, y−e)–(x, y+e) segments split by NaN.
+
+    One path instead of one line per point keeps thousands of error bars cheap in the
+    browser (bqplot breaks a line at NaN).
+    """
+    x, y, err = (np.asarray(a, float) for a in (x, y, err))
+    n = x.size
+    xs = np.empty(3 * n)
+    ys = np.empty(3 * n)
+    xs[0::3] = xs[1::3] = x
+    xs[2::3] = np.nan
+    ys[0::3] = y - err
+    ys[1::3] = y + err
+    ys[2::3] = np.nan
+    return xs, ys
+
+
+def swap_scale(figure, axis_obj, key, log, **scale_kw):
+    """Give every mark of ``figure`` (and ``axis_obj``) a log or linear scale under ``key``.
+
+    bqplot's scale type is its class, so a log toggle replaces the scale object.
+    """
+    old = axis_obj.scale
+    if isinstance(old, bq.LogScale) == bool(log):
+        return old
+    kw = {k: getattr(old, k) for k in ("reverse",) if hasattr(old, k)}
+    kw.update(scale_kw)
+    new = bq.LogScale(**kw) if log else bq.LinearScale(**kw)
+    with figure.hold_sync():
+        for mark in figure.marks:
+            if mark.scales.get(key) is old:
+                mark.scales = {**mark.scales, key: new}
+        axis_obj.scale = new
+    return new

@@ -1,0 +1,69 @@
+"""The χ² summary: per data set and total, for the live model and each pin."""
+from __future__ import annotations
+
+import html
+
+import ipywidgets as w
+import numpy as np
+
+from ..palette import INK, MUTED
+
+__all__ = ["Chi2Table", "chi2_rows"]
+
+_NAMES = {"vis2": "V²", "t3phi": "closure phase", "t3amp": "triple amplitude", "visamp": "|V|",
+          "photometry": "photometry", "spectrum": "spectrum", "flux": "OI_FLUX"}
+
+
+def chi2_rows(result):
+    """(label, N, χ², χ²/N, weight) rows of a ComparisonResult, then the total."""
+    rows = []
+    for k, c in result.chi2.items():
+        n = result.npoints[k]
+        rows.append((_NAMES.get(k, k), n, c, c / n if n else np.nan, result.weights.get(k, 1.0)))
+    n = result.n_total
+    rows.append(("total", n, result.total, result.total / n if n else np.nan, None))
+    return rows
+
+
+def _fmt(x):
+    return "–" if x is None or not np.isfinite(x) else f"{x:,.3g}" if abs(x) < 1e4 else f"{x:,.0f}"
+
+
+class Chi2Table:
+    """An HTML table: data set, N, χ²/N of the live model, χ²/N of each pin."""
+
+    def __init__(self):
+        self.widget = w.HTML(layout={"width": "100%"})
+        self.widget.add_class("dx-chi2")
+        self.live = None
+        self.pins = []
+
+    def render(self):
+        """Rebuild the table's HTML from :attr:`live` and :attr:`pins`."""
+        if self.live is None:
+            self.widget.value = f"<div style='color:{MUTED}'>no data loaded: no χ²</div>"
+            return
+        rows = chi2_rows(self.live)
+        pin_rows = [(name, colour, {r[0]: r for r in chi2_rows(res)}) for name, colour, res in self.pins]
+        head = "".join(f"<th style='color:{c}'>{html.escape(n)}<br>χ²/N</th>" for n, c, _ in pin_rows)
+        body = []
+        for label, n, c, red, weight in rows:
+            bold = "font-weight:600;border-top:1px solid #ccc" if label == "total" else ""
+            note = " <span style='color:#999'>(weight 0)</span>" if weight == 0 else ""
+            pins = "".join(f"<td>{_fmt(pr.get(label, (0, 0, 0, np.nan))[3])}</td>" for _, _, pr in pin_rows)
+            body.append(f"<tr style='{bold}'><td>{label}{note}</td><td>{n:,}</td><td>{_fmt(c)}</td>"
+                        f"<td>{_fmt(red)}</td>{pins}</tr>")
+        self.widget.value = (
+            f"<table class='dx-chi2-table' style='border-collapse:collapse;font-size:12px;color:{INK}'>"
+            f"<tr><th style='text-align:left'>data</th><th>N</th><th>χ²</th><th>χ²/N</th>{head}</tr>"
+            + "".join(body) + "</table>")
+
+    def update_model(self, result):
+        """Show the live ComparisonResult (or None)."""
+        self.live = result
+        self.render()
+
+    def update_pins(self, pins):
+        """Show pins: list of (name, colour, ComparisonResult)."""
+        self.pins = [p for p in pins if p[2] is not None]
+        self.render()

@@ -1,0 +1,235 @@
+"""Interferometric figures: V² and closure phases with residuals, correlated-flux spectra."""
+from __future__ import annotations
+
+import bqplot as bq
+import ipywidgets as w
+import numpy as np
+
+from ..palette import INK, MUTED, OKABE_ITO, RING_COLOURS, WAVELENGTH_SCHEME
+from .base import EMPTY, assign, axis, error_segments, new_figure, swap_scale
+
+__all__ = ["Vis2Figure", "ClosureFigure", "CorrelatedFluxFigure", "wavelength_colours"]
+
+
+def wavelength_colours(wavelength, lo, hi):
+    """Hex colours of ``wavelength`` (µm) on the wavelength scheme spanning ``lo``–``hi``."""
+    stops = np.array([[int(c[i:i + 2], 16) for i in (1, 3, 5)] for c in WAVELENGTH_SCHEME], float)
+    pos = np.linspace(0, 1, len(stops))
+    f = np.clip((np.asarray(wavelength, float) - lo) / max(hi - lo, 1e-9), 0, 1)
+    rgb = np.stack([np.interp(f, pos, stops[:, k]) for k in range(3)], axis=-1)
+    return ["#%02x%02x%02x" % tuple(int(round(c)) for c in row) for row in np.atleast_2d(rgb)]
+
+
+#: At most this many points per scatter are sent to the browser: SVG scatters of ~10⁴
+#: circles take seconds to redraw in Chromium. χ² always uses every point.
+MAX_DRAWN = 2500
+
+
+class _PointsFigure:
+    """Data with error bars coloured by wavelength, the model at the data, and residuals."""
+
+    title = ""
+    ylabel = ""
+    css = ""
+    kind = ""
+
+    def __init__(self):
+        self.sx, self.sy = bq.LinearScale(), bq.LinearScale()
+        self.colour = bq.ColorScale(colors=list(WAVELENGTH_SCHEME))
+        sc = {"x": self.sx, "y": self.sy, "color": self.colour}
+        self.errors = bq.Lines(x=EMPTY, y=EMPTY, scales={"x": self.sx, "y": self.sy}, colors=["#c9c6bd"],
+                               stroke_width=1)
+        self.data = bq.Scatter(x=EMPTY, y=EMPTY, color=EMPTY, scales=sc, default_size=14, stroke=None,
+                               opacities=[0.85])
+        self.model = bq.Scatter(x=EMPTY, y=EMPTY, scales={"x": self.sx, "y": self.sy}, colors=[INK],
+                                default_size=4, marker="circle", opacities=[0.9])
+        self.pin_marks = bq.Scatter(x=EMPTY, y=EMPTY, scales={"x": self.sx, "y": self.sy},
+                                    colors=[OKABE_ITO["reddish_purple"]], default_size=4, visible=False,
+                                    opacities=[0.35])
+        self.ax = axis(self.sx, "spatial frequency B/λ [Mλ]")
+        self.ay = axis(self.sy, self.ylabel, "vertical")
+        self.cax = bq.ColorAxis(scale=self.colour, label="λ [µm]", side="right",
+                                label_color=MUTED, tick_style={"font-size": "9px"})
+        self.extra_marks = []
+        self._build_extra(sc)
+        self.figure = new_figure(self.title, [self.errors, self.data, self.pin_marks] + self.extra_marks
+                                 + [self.model], [self.ax, self.ay, self.cax], self.css)
+        self.figure.fig_margin = {"top": 34, "bottom": 48, "left": 62, "right": 70}
+        self.rx, self.ry = bq.LinearScale(), bq.LinearScale()
+        self.residuals = bq.Scatter(x=EMPTY, y=EMPTY, color=EMPTY,
+                                    scales={"x": self.rx, "y": self.ry, "color": self.colour},
+                                    default_size=10, stroke=None, opacities=[0.8])
+        self.zero = bq.Lines(x=[0.0, 1.0], y=[0.0, 0.0], scales={"x": self.rx, "y": self.ry}, colors=[MUTED],
+                             line_style="dashed")
+        self.rax = axis(self.rx, "spatial frequency B/λ [Mλ]")
+        self.residual_figure = new_figure(f"{self.title} residuals", [self.zero, self.residuals],
+                                          [self.rax, axis(self.ry, "(data − model)/σ", "vertical")],
+                                          self.css + "-residuals", height="200px")
+        self.widget = w.VBox([self.figure, self.residual_figure], layout={"width": "100%"})
+        self._points = None
+        self._shown = slice(None)
+
+    def _build_extra(self, scales):
+        pass
+
+    def update_data(self, view):
+        """Draw this kind's points of ``view`` (a DataView)."""
+        pts = getattr(view, self.kind)
+        if pts is not None:
+            n = pts["freq"].size
+            # An even stride keeps every baseline and wavelength represented.
+            self._shown = np.arange(0, n, int(np.ceil(n / MAX_DRAWN))) if n > MAX_DRAWN else slice(None)
+            pts = {k: v[self._shown] for k, v in pts.items()}
+            title = self.title if n <= MAX_DRAWN else f"{self.title} (drawn: {pts['freq'].size:,} of {n:,} points)"
+            assign(self.figure, title=title)
+        self._points = pts
+        if pts is None:
+            for m in (self.data, self.errors, self.model, self.residuals):
+                assign(m, x=EMPTY, y=EMPTY)
+            return
+        lo, hi = view.wavelength_range
+        assign(self.colour, min=lo, max=hi)
+        ex, ey = error_segments(pts["freq"], pts["value"], pts["error"])
+        assign(self.errors, x=ex, y=ey)
+        assign(self.data, x=pts["freq"], y=pts["value"], color=pts["wavelength"])
+        fmax = float(np.max(pts["freq"])) * 1.05
+        assign(self.sx, min=0.0, max=fmax)
+        assign(self.rx, min=0.0, max=fmax)
+        assign(self.zero, x=np.array([0.0, fmax]))
+
+    def update_model(self, frame):
+        """Draw the model at the data points and the residuals."""
+        result = frame.result
+        if self._points is None or result is None or self.model_key not in result.model:
+            assign(self.model, x=EMPTY, y=EMPTY)
+            assign(self.residuals, x=EMPTY, y=EMPTY, color=EMPTY)
+            return
+        pts = self._points
+        assign(self.model, x=pts["freq"], y=np.asarray(result.model[self.model_key])[self._shown])
+        r = np.asarray(result.residuals[self.model_key])[self._shown]
+        assign(self.residuals, x=pts["freq"], y=r, color=pts["wavelength"])
+
+    def update_pins(self, pins):
+        """The first pin's model at the data points, faint (more would hide the data)."""
+        if not pins or self._points is None or pins[0][2].result is None:
+            assign(self.pin_marks, visible=False)
+            return
+        name, colour, f = pins[0]
+        assign(self.pin_marks, x=self._points["freq"], y=np.asarray(f.result.model[self.model_key])[self._shown],
+               colors=[colour], visible=True)
+
+
+class Vis2Figure(_PointsFigure):
+    """V² against spatial frequency, with a continuous model curve along one position angle."""
+
+    title = "squared visibility"
+    ylabel = "V²"
+    css = "dx-fig-vis2"
+    kind = "vis2"
+    model_key = "vis2"
+
+    def _build_extra(self, scales):
+        xy = {"x": self.sx, "y": self.sy}
+        self.curve = bq.Lines(x=EMPTY, y=EMPTY, scales=xy, stroke_width=2.2, display_legend=True)
+        self.curve_pins = bq.Lines(x=EMPTY, y=EMPTY, scales=xy, line_style="dashed", visible=False,
+                                   stroke_width=1.4)
+        self.extra_marks = [self.curve_pins, self.curve]
+        self._wl_range = (1.5, 13.0)
+
+    def update_data(self, view):
+        super().update_data(view)
+        self._wl_range = view.wavelength_range
+
+    def update_curve(self, frame):
+        """Draw the continuous curve ``frame.curve`` = (freq Mλ, V² (nwl, n), wavelengths µm, PA deg)."""
+        freq, vis2, wls, pa = frame.curve
+        assign(self.curve, x=freq, y=vis2, colors=wavelength_colours(wls, *self._wl_range),
+               labels=[f"{wl:.2f} µm, PA {pa:.0f}°" for wl in wls])
+
+    def update_pins(self, pins):
+        super().update_pins(pins)
+        curves = [(c, f.curve) for _, c, f in pins if f.curve is not None]
+        if not curves:
+            assign(self.curve_pins, visible=False)
+            return
+        ys = np.vstack([cv[1] for _, cv in curves])
+        cols = [c for c, cv in curves for _ in range(cv[1].shape[0])]
+        assign(self.curve_pins, x=curves[0][1][0], y=ys, colors=cols, opacities=[0.55] * len(cols),
+               visible=True)
+
+    def apply_style(self, state):
+        """Log V² axis and log frequency axis from the state."""
+        self.sy = swap_scale(self.figure, self.ay, "y", state.log_vis2)
+        if state.log_vis2:
+            assign(self.sy, min=1e-4, max=1.1)
+        else:
+            assign(self.sy, min=0.0, max=1.1)
+
+
+class ClosureFigure(_PointsFigure):
+    """Closure phases against the largest spatial frequency of each triangle."""
+
+    title = "closure phase"
+    ylabel = "closure phase [°]"
+    css = "dx-fig-t3"
+    kind = "t3"
+    model_key = "t3phi"
+
+    def update_data(self, view):
+        super().update_data(view)
+        assign(self.ax, label="largest spatial frequency of the triangle [Mλ]")
+        assign(self.rax, label="largest spatial frequency of the triangle [Mλ]")
+
+    def apply_style(self, state):
+        """Closure phases are always on a linear axis."""
+
+
+class CorrelatedFluxFigure:
+    """Model correlated flux |V| F_total against λ for a spread of baselines."""
+
+    def __init__(self):
+        self.sx, self.sy = bq.LogScale(), bq.LinearScale()
+        sc = {"x": self.sx, "y": self.sy}
+        self.lines = bq.Lines(x=EMPTY, y=EMPTY, scales=sc, stroke_width=1.6, display_legend=True,
+                              marker="circle", marker_size=10)
+        self.data = bq.Scatter(x=EMPTY, y=EMPTY, scales=sc, colors=[OKABE_ITO["vermillion"]], default_size=10,
+                               visible=False)
+        self.figure = new_figure("correlated flux per baseline (model)", [self.lines, self.data],
+                                 [axis(self.sx, "λ [µm]"), axis(self.sy, "|V| F_total [Jy]", "vertical")],
+                                 "dx-fig-corrflux", height="300px")
+        self.widget = self.figure
+        self._groups = []
+
+    def update_data(self, view):
+        """Choose the baselines to draw (``view.baselines``)."""
+        self._groups = view.baselines
+        vis = getattr(view.observations, "vis", None) if view.observations is not None else None
+        if vis is not None and vis.sizes.get("point", 0):
+            amptyp = np.asarray(vis["amptyp"].values).astype(str)
+            sel = amptyp == "correlated flux"
+            assign(self.data, x=vis["wavelength"].values[sel], y=vis["visamp"].values[sel], visible=bool(sel.any()))
+        else:
+            assign(self.data, visible=False)
+
+    def update_model(self, frame):
+        """Draw |V| F_total at the V² points of each chosen baseline."""
+        if not self._groups or frame.result is None:
+            assign(self.lines, x=EMPTY, y=EMPTY)
+            return
+        corr = frame.result.prediction.correlated_flux
+        wl = frame.wavelength_vis2
+        n = max(g["index"].size for g in self._groups)
+        xs = np.full((len(self._groups), n), np.nan)
+        ys = np.full_like(xs, np.nan)
+        for k, g in enumerate(self._groups):
+            idx = g["index"]
+            xs[k, :idx.size] = wl[idx]
+            ys[k, :idx.size] = corr[idx]
+        colours = [RING_COLOURS[k % len(RING_COLOURS)] for k in range(len(self._groups))]
+        assign(self.lines, x=xs, y=ys, colors=colours, labels=[g["label"] for g in self._groups])
+
+    def update_pins(self, pins):
+        """Pins are not overlaid here (one line per baseline is busy enough)."""
+
+    def apply_style(self, state):
+        """No toggles."""

@@ -1,0 +1,170 @@
+"""The SED (photometry and model components) and the N-band spectrum with its silicate band."""
+from __future__ import annotations
+
+import bqplot as bq
+import ipywidgets as w
+import numpy as np
+
+from ..model_views import SED_WAVELENGTHS, silicate_band
+from ..palette import COMPONENT_COLOURS, PIN_COLOURS, ring_colour
+from .base import EMPTY, assign, axis, error_segments, new_figure, swap_scale
+
+__all__ = ["SedFigure", "SpectrumFigure", "component_colours"]
+
+
+def component_colours(names):
+    """Colours of SED components in the order of ``names`` (star, rings…, extended, total)."""
+    out, k = [], 0
+    for n in names:
+        if n in COMPONENT_COLOURS:
+            out.append(COMPONENT_COLOURS[n])
+        else:
+            out.append(ring_colour(k))
+            k += 1
+    return out
+
+
+def _positive(y):
+    y = np.asarray(y, float)
+    return np.where(y > 0, y, np.nan)
+
+
+class SedFigure:
+    """F_ν against λ: photometry with error bars, the model's components and total, pins."""
+
+    def __init__(self):
+        self.sx, self.sy = bq.LogScale(), bq.LogScale()
+        sc = {"x": self.sx, "y": self.sy}
+        self.errors = bq.Lines(x=EMPTY, y=EMPTY, scales=sc, colors=[COMPONENT_COLOURS["data"]],
+                               stroke_width=1.2)
+        self.points = bq.Scatter(x=EMPTY, y=EMPTY, scales=sc, colors=[COMPONENT_COLOURS["data"]],
+                                 default_size=28, marker="diamond", labels=["photometry"],
+                                 display_legend=True)
+        self.components = bq.Lines(x=SED_WAVELENGTHS, y=np.full((1, SED_WAVELENGTHS.size), np.nan),
+                                   scales=sc, stroke_width=1.6, display_legend=True)
+        self.pins = bq.Lines(x=SED_WAVELENGTHS, y=np.full((1, SED_WAVELENGTHS.size), np.nan), scales=sc,
+                             line_style="dashed", opacities=[0.55], stroke_width=1.4, visible=False)
+        self.ax = axis(self.sx, "λ [µm]")
+        self.ay = axis(self.sy, "F_ν [Jy]", "vertical", tick_format=".3~g")
+        self.figure = new_figure("SED", [self.pins, self.components, self.errors, self.points],
+                                 [self.ax, self.ay], "dx-fig-sed", legend=True)
+        self.widget = self.figure
+
+    def update_data(self, view):
+        """Draw the photometry of ``view`` (a DataView)."""
+        ph = view.photometry
+        if ph is None or ph["wavelength"].size == 0:
+            assign(self.points, x=EMPTY, y=EMPTY)
+            assign(self.errors, x=EMPTY, y=EMPTY)
+            return
+        x = ph["wavelength"].values
+        y = ph["flux"].values
+        e = np.nan_to_num(ph["flux_err"].values)
+        ex, ey = error_segments(x, y, e)
+        assign(self.points, x=x, y=y)
+        assign(self.errors, x=ex, y=_positive(ey))
+
+    def update_model(self, frame):
+        """Draw the model's SED components (``frame.sed``: dict name → Jy on SED_WAVELENGTHS)."""
+        names = list(frame.sed)
+        assign(self.components, y=np.vstack([_positive(frame.sed[n]) for n in names]),
+               colors=component_colours(names), labels=names)
+        total = frame.sed["total"]
+        peak = np.nanmax(total) if np.isfinite(total).any() else 1.0
+        # Without a floor, the Wien tail of the star pulls the log axis down many decades.
+        assign(self.sy, min=float(peak * 1e-4), max=float(peak * 3.0))
+
+    def update_pins(self, pins):
+        """Draw each pin's total SED, faint and dashed (``pins``: list of (name, colour, frame))."""
+        if not pins:
+            assign(self.pins, visible=False)
+            return
+        assign(self.pins, y=np.vstack([_positive(f.sed["total"]) for _, _, f in pins]),
+               colors=[c for _, c, _ in pins], labels=[n for n, _, _ in pins],
+               opacities=[0.6] * len(pins), visible=True)
+
+    def apply_style(self, state):
+        """Log or linear axes from ``state.log_sed_x`` / ``state.log_sed_y``."""
+        self.sx = swap_scale(self.figure, self.ax, "x", state.log_sed_x)
+        self.sy = swap_scale(self.figure, self.ay, "y", state.log_sed_y)
+
+
+class SpectrumFigure:
+    """The N-band spectrum (data, model total and components) and the normalised silicate band."""
+
+    def __init__(self):
+        self.sx, self.sy = bq.LinearScale(), bq.LinearScale()
+        sc = {"x": self.sx, "y": self.sy}
+        c = COMPONENT_COLOURS
+        self.errors = bq.Lines(x=EMPTY, y=EMPTY, scales=sc, colors=["#e9a47a"], stroke_width=1)
+        self.data = bq.Lines(x=EMPTY, y=EMPTY, scales=sc, colors=[c["data"]], stroke_width=1.8,
+                             labels=["spectrum"], display_legend=True)
+        self.components = bq.Lines(x=EMPTY, y=EMPTY, scales=sc, stroke_width=1.5, display_legend=True)
+        self.pins = bq.Lines(x=EMPTY, y=EMPTY, scales=sc, line_style="dashed", visible=False)
+        self.ax = axis(self.sx, "λ [µm]")
+        self.ay = axis(self.sy, "F_ν [Jy]", "vertical")
+        self.figure = new_figure("N-band spectrum", [self.pins, self.components, self.errors, self.data],
+                                 [self.ax, self.ay], "dx-fig-spectrum")
+        self.bx, self.by = bq.LinearScale(), bq.LinearScale()
+        bs = {"x": self.bx, "y": self.by}
+        self.band_data = bq.Lines(x=EMPTY, y=EMPTY, scales=bs, colors=[c["data"]], stroke_width=1.8,
+                                  labels=["data"], display_legend=True)
+        self.band_model = bq.Lines(x=EMPTY, y=EMPTY, scales=bs, colors=[c["total"]], stroke_width=1.6,
+                                   labels=["model"], display_legend=True)
+        self.band_pins = bq.Lines(x=EMPTY, y=EMPTY, scales=bs, line_style="dashed", visible=False)
+        self.band_figure = new_figure("normalised silicate band", [self.band_pins, self.band_model,
+                                                                  self.band_data],
+                                      [axis(self.bx, "λ [µm]"),
+                                       axis(self.by, "1 + (F − F_c)/⟨F_c⟩", "vertical")],
+                                      "dx-fig-silicate")
+        self.widget = w.HBox([self.figure, self.band_figure], layout={"width": "100%"})
+        self._wl = np.linspace(7.6, 13.4, 120)
+
+    def update_data(self, view):
+        """Draw the spectrum of ``view`` and fix the model's wavelengths to it."""
+        sp = view.spectrum
+        if sp is None or sp["wavelength"].size == 0:
+            self._wl = np.linspace(7.6, 13.4, 120)
+            for m in (self.data, self.errors, self.band_data):
+                assign(m, x=EMPTY, y=EMPTY)
+            return
+        x, y = sp["wavelength"].values, sp["flux"].values
+        e = np.nan_to_num(sp["flux_err"].values)
+        ex, ey = error_segments(x, y, e)
+        assign(self.data, x=x, y=y)
+        assign(self.errors, x=ex, y=ey)
+        band = silicate_band(x, y)
+        assign(self.band_data, x=x if band is not None else EMPTY, y=band if band is not None else EMPTY)
+        self._wl = x
+
+    @property
+    def wavelength(self):
+        """Wavelengths (µm) at which the model spectrum is drawn."""
+        return self._wl
+
+    def update_model(self, frame):
+        """Draw ``frame.spectrum`` (dict name → Jy at :attr:`wavelength`)."""
+        spec = frame.spectrum
+        names = [n for n in spec if n != "extended" or np.any(spec[n] > 0)]
+        assign(self.components, x=self._wl, y=np.vstack([spec[n] for n in names]),
+               colors=component_colours(names), labels=names)
+        band = silicate_band(self._wl, spec["total"])
+        assign(self.band_model, x=self._wl if band is not None else EMPTY,
+               y=band if band is not None else EMPTY)
+
+    def update_pins(self, pins):
+        """Faint dashed totals and bands of the pinned states."""
+        if not pins:
+            assign(self.pins, visible=False)
+            assign(self.band_pins, visible=False)
+            return
+        cols = [c for _, c, _ in pins]
+        assign(self.pins, x=self._wl, y=np.vstack([f.spectrum["total"] for _, _, f in pins]), colors=cols,
+               opacities=[0.6] * len(pins), visible=True)
+        bands = [silicate_band(self._wl, f.spectrum["total"]) for _, _, f in pins]
+        bands = [b if b is not None else np.full(self._wl.size, np.nan) for b in bands]
+        assign(self.band_pins, x=self._wl, y=np.vstack(bands), colors=cols, opacities=[0.6] * len(pins),
+               visible=True)
+
+    def apply_style(self, state):
+        """No log axes here (the band is a linear diagnostic)."""

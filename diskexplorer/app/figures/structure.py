@@ -1,0 +1,148 @@
+"""Radial profiles of the rings and the model image with ring outlines and a scale bar."""
+from __future__ import annotations
+
+import math
+
+import bqplot as bq
+import ipywidgets as w
+import numpy as np
+
+from ...physics.constants import ARCSEC_RAD, RAD_PER_MAS
+from ..model_views import ring_outline
+from ..palette import BRIGHTNESS_SCHEME, INK, ring_colour
+from .base import EMPTY, assign, axis, new_figure, swap_scale
+
+__all__ = ["ProfilesFigure", "ImageFigure"]
+
+
+class ProfilesFigure:
+    """T(r), τ(10 µm)(r) and I_ν(r) of every ring, side by side."""
+
+    def __init__(self):
+        self.parts = {}
+        figs = []
+        for key, title, ylabel, ylog in (("temperature", "temperature", "T [K]", True),
+                                         ("tau", "optical depth at 10 µm", "τ (vertical)", True),
+                                         ("intensity", "brightness", "I_ν [Jy sr⁻¹]", True)):
+            sx = bq.LogScale()
+            sy = bq.LogScale() if ylog else bq.LinearScale()
+            line = bq.Lines(x=EMPTY, y=EMPTY, scales={"x": sx, "y": sy}, stroke_width=2, display_legend=(key == "temperature"))
+            ax = axis(sx, "r [au]")
+            fig = new_figure(title, [line], [ax, axis(sy, ylabel, "vertical", tick_format=".2~e" if key == "intensity" else ".3~g")],
+                             f"dx-fig-profile-{key}", height="250px")
+            self.parts[key] = {"line": line, "figure": fig, "ax": ax}
+            figs.append(fig)
+        self.widget = w.HBox(figs, layout={"width": "100%"})
+
+    def update_data(self, view):
+        """Profiles do not depend on the data."""
+
+    def update_model(self, frame):
+        """Draw ``frame.profiles`` (from :func:`~diskexplorer.observables.profiles.radial_profiles`)."""
+        prof = frame.profiles
+        r = prof["radius"].values
+        labels = [str(x) for x in prof["ring"].values]
+        colours = [ring_colour(k) for k in range(len(labels))]
+        for key, part in self.parts.items():
+            y = np.asarray(prof[key].values, float)
+            if y.size == 0:
+                assign(part["line"], x=EMPTY, y=EMPTY)
+                continue
+            y = np.where(np.isfinite(y) & (y > 0), y, np.nan)
+            assign(part["line"], x=r, y=y, colors=colours, labels=labels)
+        assign(self.parts["intensity"]["figure"],
+               title=f"brightness at {prof['intensity'].attrs.get('wavelength_um', 0):.3g} µm")
+
+    def update_pins(self, pins):
+        """No pin overlays on profiles."""
+
+    def apply_style(self, state):
+        """Log or linear radius axes from ``state.log_profiles``."""
+        for part in self.parts.values():
+            swap_scale(part["figure"], part["ax"], "x", state.log_profiles)
+
+
+def _nice_length(x):
+    """A round number (1, 2 or 5 × 10ⁿ) not larger than ``x``."""
+    if not x > 0:
+        return 1.0
+    e = math.floor(math.log10(x))
+    for m in (5, 2, 1):
+        if m * 10**e <= x:
+            return m * 10**e
+    return 10**e
+
+
+class ImageFigure:
+    """The model image (log brightness), ring edges, and a scale bar in au."""
+
+    def __init__(self):
+        self.sx = bq.LinearScale(reverse=True)  # East to the left, as on the sky
+        self.sy = bq.LinearScale()
+        self.colour = bq.ColorScale(colors=list(BRIGHTNESS_SCHEME))
+        self.heat = bq.HeatMap(x=np.arange(2.0), y=np.arange(2.0), color=np.zeros((2, 2)),
+                               scales={"x": self.sx, "y": self.sy, "color": self.colour})
+        xy = {"x": self.sx, "y": self.sy}
+        self.outlines = bq.Lines(x=EMPTY, y=EMPTY, scales=xy, stroke_width=1.1, line_style="dashed")
+        self.bar = bq.Lines(x=EMPTY, y=EMPTY, scales=xy, colors=[INK], stroke_width=3)
+        self.bar_label = bq.Label(x=[0.0], y=[0.0], text=[""], scales=xy, colors=[INK], font_weight="bolder",
+                                  default_size=12, align="middle")
+        self.figure = new_figure("model image", [self.heat, self.outlines, self.bar, self.bar_label],
+                                 [axis(self.sx, "Δα (East ←) [mas]"), axis(self.sy, "Δδ (North ↑) [mas]", "vertical"),
+                                  bq.ColorAxis(scale=self.colour, label="log₁₀ I / I_max", side="right")],
+                                 "dx-fig-image", height="440px")
+        # Equal scales on both axes, so an inclined ring keeps its true shape and angle.
+        self.figure.min_aspect_ratio = 1.0
+        self.figure.max_aspect_ratio = 1.0
+        self.figure.layout.width = "470px"
+        self.figure.fig_margin = {"top": 34, "bottom": 48, "left": 62, "right": 80}
+        self.figure.min_aspect_ratio = 1.0
+        self.figure.max_aspect_ratio = 1.0
+        self.widget = self.figure
+
+    def update_data(self, view):
+        """The image does not depend on the data."""
+
+    def update_model(self, frame):
+        """Draw ``frame.image`` (DataArray from :func:`model_image`) for ``frame.scene``."""
+        img = frame.image
+        scene = frame.scene
+        x = img["x"].values
+        y = img["y"].values
+        data = np.asarray(img.values, float)
+        peak = data.max() if data.size and data.max() > 0 else 1.0
+        # The star sits in one pixel and is ~100× brighter than a ring pixel: a log scale
+        # with a floor of 10⁻⁴ shows both.
+        logimg = np.log10(np.maximum(data / peak, 1e-4))
+        assign(self.heat, x=x, y=y, color=logimg)
+        assign(self.colour, min=-4.0, max=0.0)
+        edges = img.attrs.get("ring_edges_mas", [])
+        xs, ys, cols = [], [], []
+        enabled = [k for k, r in enumerate(scene.rings) if r.enabled]
+        for k, (lo, hi) in zip(enabled, edges):
+            for rad in (lo, hi):
+                ox, oy = ring_outline(rad, scene.inclination, scene.position_angle)
+                xs.append(ox)
+                ys.append(oy)
+                cols.append(ring_colour(k))
+        if xs:
+            assign(self.outlines, x=np.vstack(xs), y=np.vstack(ys), colors=cols)
+        else:
+            assign(self.outlines, x=EMPTY, y=EMPTY)
+        half = float(x.max()) if x.size else 1.0
+        mas_per_au = ARCSEC_RAD / scene.distance / RAD_PER_MAS
+        au = _nice_length(0.4 * half / mas_per_au)
+        length = au * mas_per_au
+        # The x scale is reversed: the bar's right end sits at +0.9 × half (East side, left).
+        x0 = -0.9 * half
+        assign(self.bar, x=np.array([x0, x0 + length]), y=np.array([-0.88 * half, -0.88 * half]))
+        assign(self.bar_label, x=[x0 + length / 2], y=[-0.8 * half], text=[f"{au:g} au"])
+        assign(self.sx, min=float(x.min()), max=float(x.max()))
+        assign(self.sy, min=float(y.min()), max=float(y.max()))
+        assign(self.figure, title=f"model image at {img.attrs.get('wavelength_um', 0):.3g} µm")
+
+    def update_pins(self, pins):
+        """No pin overlays on the image."""
+
+    def apply_style(self, state):
+        """No toggles."""

@@ -1,0 +1,284 @@
+"""One card per ring (add, remove, duplicate, enable) with its dust-mixture editor."""
+from __future__ import annotations
+
+import html
+import math
+from dataclasses import replace
+
+import ipywidgets as w
+
+from ..physics.parameters import ParameterSpec, parameter_specs
+from ..physics.ring import MODULATION_AMPLITUDE_SPEC as AMPLITUDE_SPEC
+from ..physics.ring import MODULATION_ANGLE_SPEC as ANGLE_SPEC
+from ..physics.ring import Ring
+from .controls import ParamControl, _guarded
+from .palette import MUTED, ring_colour
+
+__all__ = ["RingDeck", "RingCard", "MixtureEditor", "renormalise", "AMPLITUDE_SPEC", "ANGLE_SPEC"]
+
+#: The modulation is declared as (c1, s1); the cards show it as amplitude and angle, whose
+#: ranges follow from that declaration: √(c1² + s1²) ≤ max |c1|, angle a full turn.
+
+_SHAPES = [("hollow spheres (DHS)", "dhs"), ("spheres (Mie)", "mie"), ("ellipsoids (CDE)", "cde")]
+
+
+def renormalise(fractions, changed, value):
+    """Set one mass fraction and rescale the others so that all sum to 1.
+
+    Parameters
+    ----------
+    fractions : dict of str to float
+        Current fractions (summing to 1).
+    changed : str
+        Species whose fraction the user set.
+    value : float
+        Its new fraction, clipped to [0, 1].
+
+    Returns
+    -------
+    dict
+        New fractions, same keys, summing to 1. The others keep their proportions; if
+        they were all zero they share the remainder equally.
+    """
+    value = min(max(float(value), 0.0), 1.0)
+    others = [k for k in fractions if k != changed]
+    rest = sum(fractions[k] for k in others)
+    out = {changed: value}
+    if not others:
+        out[changed] = 1.0
+        return out
+    for k in others:
+        out[k] = (1.0 - value) * (fractions[k] / rest if rest > 0 else 1.0 / len(others))
+    return out
+
+
+def _species():
+    try:
+        from ..dust import list_species
+        return [s["name"] for s in list_species()]
+    except Exception:  # noqa: BLE001 - dust package unfinished: no mixture editor
+        return []
+
+
+def _sizes(species):
+    try:
+        from ..dust import get_library
+        lib = get_library()
+        return sorted({float(x) for sp in species for x in lib.sizes(sp, "dhs")}) or [0.1, 1.0]
+    except Exception:  # noqa: BLE001
+        return [0.1, 0.3, 1.0, 1.5, 3.0, 5.0]
+
+
+class MixtureEditor(w.VBox):
+    """Mass fractions per species (kept normalised), grain size and shape method of a ring's dust.
+
+    Parameters
+    ----------
+    dust : DustMix or None
+        None is an opaque (black-body) ring.
+    on_change : callable
+        Called with the new dust (a DustMix or None).
+    """
+
+    def __init__(self, dust, on_change):
+        self._callback = on_change
+        self._quiet = False
+        self.species = _species()
+        frac_spec = ParameterSpec(name="fraction", unit="", label="f", description="mass fraction",
+                                  valid=(0.0, 1.0), closed=(True, True), bounds=(0.0, 1.0))
+        self.fraction_controls = {}
+        rows = []
+        for sp in self.species:
+            c = ParamControl(replace(frac_spec, label=sp.replace("_", " ")), 0.0,
+                             (lambda s: lambda v: self._on_fraction(s, v))(sp), step=0.01)
+            c.label.layout.width = "120px"
+            c.slider.layout.width = "140px"
+            c.number.layout.width = "70px"
+            self.fraction_controls[sp] = c
+            rows.append(c)
+        self.opaque = w.Checkbox(value=dust is None, description="opaque (no dust opacity)", indent=False)
+        self.opaque.observe(self._on_opaque, "value")
+        self.size = w.Dropdown(options=[(f"{s:g} µm", s) for s in _sizes(self.species)], description="grain radius",
+                               style={"description_width": "86px"}, layout={"width": "220px"})
+        self.shape = w.Dropdown(options=_SHAPES, description="shape", style={"description_width": "86px"},
+                                layout={"width": "260px"})
+        self.size.observe(lambda ch: self._emit(), "value")
+        self.shape.observe(lambda ch: self._on_shape(), "value")
+        self.sum_label = w.HTML()
+        self.body = w.VBox([self.size, self.shape] + rows + [self.sum_label])
+        super().__init__([self.opaque, self.body])
+        self.add_class("dx-mixture")
+        self.sync(dust)
+
+    # -- reading -------------------------------------------------------------------
+    @property
+    def fractions(self):
+        """The fractions shown, by species (sum 1 unless opaque)."""
+        return {sp: c.value for sp, c in self.fraction_controls.items()}
+
+    def sync(self, dust):
+        """Show ``dust`` (a DustMix or None) without calling back."""
+        self._quiet = True
+        try:
+            self.opaque.value = dust is None or not hasattr(dust, "fractions")
+            self.body.layout.display = "none" if self.opaque.value else None
+            if not self.opaque.value:
+                fr = {}
+                for key, f in dust.fractions:
+                    name = key if isinstance(key, str) else key[0]
+                    fr[name] = fr.get(name, 0.0) + f
+                for sp, c in self.fraction_controls.items():
+                    c.set_value(round(fr.get(sp, 0.0), 6))
+                if dust.grain_size in [v for _, v in self.size.options]:
+                    self.size.value = dust.grain_size
+                self.shape.value = dust.shape
+                self.size.disabled = dust.shape == "cde"
+            self._show_sum()
+        finally:
+            self._quiet = False
+
+    def _show_sum(self):
+        total = sum(self.fractions.values())
+        self.sum_label.value = f"<span style='color:{MUTED};font-size:11px'>sum of mass fractions: {total:.3f}</span>"
+
+    # -- writing -------------------------------------------------------------------
+    def _on_fraction(self, species, value):
+        if self._quiet:
+            return
+        new = renormalise(self.fractions, species, value)
+        self._quiet = True
+        try:
+            for sp, c in self.fraction_controls.items():
+                c.set_value(round(new[sp], 6))
+        finally:
+            self._quiet = False
+        self._show_sum()
+        self._emit()
+
+    def _on_shape(self):
+        self.size.disabled = self.shape.value == "cde"
+        self._emit()
+
+    def _on_opaque(self, change):
+        if self._quiet:
+            return
+        self.body.layout.display = "none" if change["new"] else None
+        if not change["new"] and sum(self.fractions.values()) <= 0:
+            first = self.species[0] if self.species else None
+            if first:
+                self._quiet = True
+                self.fraction_controls[first].set_value(1.0)
+                self._quiet = False
+        self._emit()
+
+    def current(self):
+        """The dust the editor shows: a DustMix, or None when opaque."""
+        if self.opaque.value or not self.species:
+            return None
+        from ..dust import DustMix
+        fr = {sp: f for sp, f in self.fractions.items() if f > 0}
+        return DustMix(fr, grain_size=self.size.value, shape=self.shape.value)
+
+    def _emit(self):
+        if self._quiet:
+            return
+        self._callback(self.current())
+
+
+class RingCard(w.VBox):
+    """Controls of one ring: header (name, enable, duplicate, remove) and its parameters."""
+
+    def __init__(self, deck, index, ring):
+        self.deck = deck
+        self.index = index
+        state = deck.state
+        specs = parameter_specs(Ring)
+        self.name = w.Text(value=ring.name, layout={"width": "130px"})
+        self.name.observe(lambda ch: self._edit(name=ch["new"]), "value")
+        self.enabled = w.Checkbox(value=ring.enabled, description="on", indent=False, layout={"width": "50px"})
+        self.enabled.observe(lambda ch: self._edit(enabled=ch["new"]), "value")
+        self.duplicate_button = w.Button(description="duplicate", layout={"width": "80px"})
+        self.remove_button = w.Button(description="remove", layout={"width": "70px"}, button_style="")
+        self.duplicate_button.on_click(lambda b: _guarded(state, lambda: state.duplicate_ring(self.index)))
+        self.remove_button.on_click(lambda b: _guarded(state, lambda: state.remove_ring(self.index)))
+        self.swatch = w.HTML()
+        header = w.HBox([self.swatch, self.name, self.enabled, self.duplicate_button, self.remove_button],
+                        layout={"align_items": "center"})
+        self.controls = {
+            name: ParamControl(specs[name], getattr(ring, name),
+                               (lambda n: lambda v: self._edit(**{n: v}))(name), css=f"dx-ring-{name}")
+            for name in ("r_in", "r_out", "t_in", "q", "sigma_in", "p")}
+        self.amplitude = ParamControl(AMPLITUDE_SPEC, ring.modulation_amplitude, lambda v: self._modulate(),
+                                      css="dx-ring-amplitude")
+        self.angle = ParamControl(ANGLE_SPEC, ring.modulation_angle, lambda v: self._modulate(), css="dx-ring-angle")
+        self.mixture = MixtureEditor(ring.dust, lambda dust: self._edit(dust=dust))
+        dust_box = w.Accordion([self.mixture], titles=("dust mixture",), selected_index=None)
+        super().__init__([header] + list(self.controls.values()) + [self.amplitude, self.angle, dust_box])
+        self.add_class("dx-ring-card")
+        self.sync(index, ring)
+
+    def _edit(self, **changes):
+        if self.deck.syncing:
+            return
+        if not _guarded(self.deck.state, lambda: self.deck.state.update_ring(self.index, **changes)):
+            self.sync(self.index, self.deck.state.scene.rings[self.index])
+
+    def _modulate(self):
+        c1, s1 = Ring.modulation(self.amplitude.value, self.angle.value)
+        self._edit(c1=c1, s1=s1)
+
+    def sync(self, index, ring):
+        """Show ``ring`` as ring number ``index``."""
+        self.index = index
+        colour = ring_colour(index)
+        self.swatch.value = (f"<span style='display:inline-block;width:12px;height:12px;border-radius:6px;"
+                             f"background:{colour};margin-right:4px'></span>")
+        if self.name.value != ring.name:
+            self.name.value = ring.name
+        if self.enabled.value != ring.enabled:
+            self.enabled.value = ring.enabled
+        for name, c in self.controls.items():
+            c.set_value(getattr(ring, name))
+        # Angle is undefined at zero amplitude: keep the one shown.
+        if not math.isclose(self.amplitude.value, ring.modulation_amplitude, abs_tol=1e-9):
+            self.amplitude.set_value(ring.modulation_amplitude)
+        if ring.modulation_amplitude > 0 and not math.isclose(
+                (self.angle.value - ring.modulation_angle + 180) % 360 - 180, 0.0, abs_tol=1e-6):
+            self.angle.set_value(ring.modulation_angle)
+        if ring.dust is not self.mixture_dust:
+            self.mixture.sync(ring.dust)
+        self.mixture_dust = ring.dust
+
+    mixture_dust = None
+
+
+class RingDeck(w.VBox):
+    """The ring cards of the state's scene, rebuilt when rings are added or removed."""
+
+    def __init__(self, state):
+        self.state = state
+        self.syncing = False
+        self.cards = []
+        self.add_button = w.Button(description="add a ring", icon="plus", layout={"width": "140px"})
+        self.add_button.on_click(lambda b: _guarded(state, state.add_ring))
+        self.count = w.HTML()
+        self.card_box = w.VBox()
+        head = w.HTML("<div class='dx-section-title'>rings</div>")
+        super().__init__([head, w.HBox([self.add_button, self.count]), self.card_box])
+        state.observe(lambda ch: self.sync(), "scene")
+        self.sync()
+
+    def sync(self):
+        """Match the cards to the state's rings (rebuild if their number changed)."""
+        rings = self.state.scene.rings
+        self.syncing = True
+        try:
+            if len(rings) != len(self.cards):
+                self.cards = [RingCard(self, k, r) for k, r in enumerate(rings)]
+                self.card_box.children = self.cards
+            else:
+                for k, (card, ring) in enumerate(zip(self.cards, rings)):
+                    card.sync(k, ring)
+        finally:
+            self.syncing = False
+        self.count.value = f"<span style='color:{MUTED}'>{len(rings)} ring(s)</span>"

@@ -1,0 +1,95 @@
+"""Save and restore a session file, asking before an existing file is overwritten."""
+from __future__ import annotations
+
+import html
+import math
+
+import ipywidgets as w
+
+from ..errors import DiskExplorerError
+from .data_panel import load_into_state
+from .session import (VIEW_SETTINGS, read_session, scene_from_dict, session_to_dict, write_session)
+
+__all__ = ["SessionPanel", "restore_session"]
+
+
+def restore_session(state, document):
+    """Apply a session document to ``state``: scene, data (re-read from paths), filters, view, pins.
+
+    Data files that cannot be read leave a message; everything else is still restored.
+    """
+    scene = scene_from_dict(document["scene"])
+    pins = [{"name": p["name"], "scene": scene_from_dict(p["scene"])} for p in document.get("pins", [])]
+    data = document.get("data", {})
+    with state.hold_trait_notifications():
+        if data.get("oifits"):
+            load_into_state(state, "oifits", data["oifits"])
+        for kind in ("photometry", "spectrum"):
+            if data.get(kind):
+                load_into_state(state, kind, [data[kind]])
+        f = document.get("filters", {})
+        state.band_filter = tuple(f.get("bands", ()))
+        state.instrument_filter = tuple(f.get("instruments", ()))
+        lo, hi = f.get("baseline_range_m", [0.0, None])
+        state.baseline_range = (float(lo or 0.0), math.inf if hi is None else float(hi))
+        for k, v in document.get("view", {}).items():
+            if k in VIEW_SETTINGS:
+                setattr(state, k, v)
+        state.pins = pins
+        state.scene = scene
+
+
+class SessionPanel(w.VBox):
+    """A path box with save / restore; an existing file needs a second, explicit confirmation."""
+
+    def __init__(self, state):
+        self.state = state
+        self.path = w.Text(value="diskexplorer-session.json", layout={"width": "250px"})
+        self.save_button = w.Button(description="save", layout={"width": "70px"})
+        self.restore_button = w.Button(description="restore", layout={"width": "70px"})
+        self.confirm_text = w.HTML()
+        self.overwrite_button = w.Button(description="overwrite", button_style="warning", layout={"width": "90px"})
+        self.cancel_button = w.Button(description="keep the file", layout={"width": "110px"})
+        self.confirm = w.HBox([self.confirm_text, self.overwrite_button, self.cancel_button],
+                              layout={"display": "none"})
+        self.save_button.on_click(lambda b: self.save())
+        self.restore_button.on_click(lambda b: self.restore())
+        self.overwrite_button.on_click(lambda b: self.save(overwrite=True))
+        self.cancel_button.on_click(lambda b: self._hide_confirm())
+        super().__init__([w.HTML("<div class='dx-section-title'>session</div>"),
+                          w.HBox([self.path, self.save_button, self.restore_button]), self.confirm])
+
+    def _hide_confirm(self):
+        self.confirm.layout.display = "none"
+
+    def save(self, overwrite=False):
+        """Write the session; if the file exists and ``overwrite`` is False, ask first.
+
+        Returns
+        -------
+        bool
+            Whether the file was written.
+        """
+        try:
+            path = write_session(self.path.value, session_to_dict(self.state), overwrite=overwrite)
+        except FileExistsError:
+            self.confirm_text.value = f"<b>{html.escape(self.path.value)}</b> exists. Overwrite it?&nbsp;"
+            self.confirm.layout.display = None
+            return False
+        except (OSError, DiskExplorerError) as exc:
+            self.state.say(f"session not saved: {exc}")
+            return False
+        self._hide_confirm()
+        self.state.say(f"session saved to {path}")
+        return True
+
+    def restore(self):
+        """Read the session file and apply it."""
+        try:
+            doc = read_session(self.path.value)
+            restore_session(self.state, doc)
+        except (DiskExplorerError, KeyError, TypeError, ValueError) as exc:
+            self.state.say(f"session not restored: {exc}")
+            return False
+        self.state.say(f"session restored from {self.path.value}")
+        return True
