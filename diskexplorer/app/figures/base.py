@@ -6,7 +6,7 @@ import numpy as np
 
 from ..palette import INK, MUTED
 
-__all__ = ["assign", "same", "new_figure", "error_segments", "swap_scale", "EMPTY"]
+__all__ = ["tick_segments", "grouped_ticks", "assign", "same", "new_figure", "error_segments", "swap_scale", "EMPTY"]
 
 #: An empty float array (marks start empty and are filled by the first update).
 EMPTY = np.zeros(0)
@@ -76,6 +76,37 @@ def error_segments(x, y, err):
     ys[0::3] = y - err
     ys[1::3] = y + err
     ys[2::3] = np.nan
+    return xs, ys
+
+
+def tick_segments(x, y, half_width):
+    """One polyline of short horizontal ticks centred on (x, y), split by NaN.
+
+    The model at thousands of data points is drawn as one SVG path rather than one circle
+    per point: a slider step then redraws one element, not thousands.
+    """
+    x, y = np.asarray(x, float), np.asarray(y, float)
+    n = x.size
+    xs = np.empty(3 * n)
+    ys = np.empty(3 * n)
+    xs[0::3] = x - half_width
+    xs[1::3] = x + half_width
+    xs[2::3] = np.nan
+    ys[0::3] = ys[1::3] = y
+    ys[2::3] = np.nan
+    return xs, ys
+
+
+def grouped_ticks(x, y, group, n_groups, half_width):
+    """Tick polylines, one row per group (rows padded with NaN), for marks coloured by group."""
+    x, y, group = np.asarray(x, float), np.asarray(y, float), np.asarray(group)
+    rows = [tick_segments(x[group == g], y[group == g], half_width) for g in range(n_groups)]
+    width = max((r[0].size for r in rows), default=0) or 1
+    xs = np.full((n_groups, width), np.nan)
+    ys = np.full((n_groups, width), np.nan)
+    for g, (rx, ry) in enumerate(rows):
+        xs[g, :rx.size] = rx
+        ys[g, :ry.size] = ry
     return xs, ys
 
 

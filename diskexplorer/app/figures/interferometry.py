@@ -6,7 +6,7 @@ import ipywidgets as w
 import numpy as np
 
 from ..palette import INK, MUTED, OKABE_ITO, RING_COLOURS, WAVELENGTH_SCHEME
-from .base import EMPTY, assign, axis, error_segments, new_figure, swap_scale
+from .base import EMPTY, assign, axis, error_segments, grouped_ticks, new_figure, swap_scale, tick_segments
 
 __all__ = ["Vis2Figure", "ClosureFigure", "CorrelatedFluxFigure", "wavelength_colours"]
 
@@ -23,6 +23,8 @@ def wavelength_colours(wavelength, lo, hi):
 #: At most this many points per scatter are sent to the browser: SVG scatters of ~10⁴
 #: circles take seconds to redraw in Chromium. χ² always uses every point.
 MAX_DRAWN = 2500
+#: Wavelength bins (colours) of the residual ticks.
+RESIDUAL_BINS = 12
 
 
 class _PointsFigure:
@@ -41,11 +43,12 @@ class _PointsFigure:
                                stroke_width=1)
         self.data = bq.Scatter(x=EMPTY, y=EMPTY, color=EMPTY, scales=sc, default_size=14, stroke=None,
                                opacities=[0.85])
-        self.model = bq.Scatter(x=EMPTY, y=EMPTY, scales={"x": self.sx, "y": self.sy}, colors=[INK],
-                                default_size=4, marker="circle", opacities=[0.9])
-        self.pin_marks = bq.Scatter(x=EMPTY, y=EMPTY, scales={"x": self.sx, "y": self.sy},
-                                    colors=[OKABE_ITO["reddish_purple"]], default_size=4, visible=False,
-                                    opacities=[0.35])
+        # Model and pin values at the data points are ticks in one path each (see tick_segments).
+        self.model = bq.Lines(x=EMPTY, y=EMPTY, scales={"x": self.sx, "y": self.sy}, colors=[INK],
+                              stroke_width=2.4, opacities=[0.9])
+        self.pin_marks = bq.Lines(x=EMPTY, y=EMPTY, scales={"x": self.sx, "y": self.sy},
+                                  colors=[OKABE_ITO["reddish_purple"]], stroke_width=2.4, visible=False,
+                                  opacities=[0.45])
         self.ax = axis(self.sx, "spatial frequency B/λ [Mλ]")
         self.ay = axis(self.sy, self.ylabel, "vertical")
         self.cax = bq.ColorAxis(scale=self.colour, label="λ [µm]", side="right",
@@ -56,9 +59,9 @@ class _PointsFigure:
                                  + [self.model], [self.ax, self.ay, self.cax], self.css)
         self.figure.fig_margin = {"top": 34, "bottom": 48, "left": 62, "right": 70}
         self.rx, self.ry = bq.LinearScale(), bq.LinearScale()
-        self.residuals = bq.Scatter(x=EMPTY, y=EMPTY, color=EMPTY,
-                                    scales={"x": self.rx, "y": self.ry, "color": self.colour},
-                                    default_size=10, stroke=None, opacities=[0.8])
+        # Residuals: ticks grouped into wavelength bins, one coloured path per bin.
+        self.residuals = bq.Lines(x=EMPTY, y=EMPTY, scales={"x": self.rx, "y": self.ry}, stroke_width=2.4,
+                                  colors=wavelength_colours(np.linspace(0, 1, RESIDUAL_BINS), 0, 1))
         self.zero = bq.Lines(x=[0.0, 1.0], y=[0.0, 0.0], scales={"x": self.rx, "y": self.ry}, colors=[MUTED],
                              line_style="dashed")
         self.rax = axis(self.rx, "spatial frequency B/λ [Mλ]")
@@ -88,11 +91,16 @@ class _PointsFigure:
                 assign(m, x=EMPTY, y=EMPTY)
             return
         lo, hi = view.wavelength_range
+        f = (np.asarray(pts["wavelength"], float) - lo) / max(hi - lo, 1e-9)
+        self._bin = np.clip((f * RESIDUAL_BINS).astype(int), 0, RESIDUAL_BINS - 1)
+        assign(self.residuals, colors=wavelength_colours(lo + (np.arange(RESIDUAL_BINS) + 0.5) / RESIDUAL_BINS
+                                                         * (hi - lo), lo, hi))
         assign(self.colour, min=lo, max=hi)
         ex, ey = error_segments(pts["freq"], pts["value"], pts["error"])
         assign(self.errors, x=ex, y=ey)
         assign(self.data, x=pts["freq"], y=pts["value"], color=pts["wavelength"])
         fmax = float(np.max(pts["freq"])) * 1.05
+        self._tick = 0.004 * fmax
         assign(self.sx, min=0.0, max=fmax)
         assign(self.rx, min=0.0, max=fmax)
         assign(self.zero, x=np.array([0.0, fmax]))
@@ -102,12 +110,14 @@ class _PointsFigure:
         result = frame.result
         if self._points is None or result is None or self.model_key not in result.model:
             assign(self.model, x=EMPTY, y=EMPTY)
-            assign(self.residuals, x=EMPTY, y=EMPTY, color=EMPTY)
+            assign(self.residuals, x=EMPTY, y=EMPTY)
             return
         pts = self._points
-        assign(self.model, x=pts["freq"], y=np.asarray(result.model[self.model_key])[self._shown])
+        mx, my = tick_segments(pts["freq"], np.asarray(result.model[self.model_key])[self._shown], self._tick)
+        assign(self.model, x=mx, y=my)
         r = np.asarray(result.residuals[self.model_key])[self._shown]
-        assign(self.residuals, x=pts["freq"], y=r, color=pts["wavelength"])
+        rx, ry = grouped_ticks(pts["freq"], r, self._bin, RESIDUAL_BINS, self._tick)
+        assign(self.residuals, x=rx, y=ry)
 
     def update_pins(self, pins):
         """The first pin's model at the data points, faint (more would hide the data)."""
@@ -115,8 +125,9 @@ class _PointsFigure:
             assign(self.pin_marks, visible=False)
             return
         name, colour, f = pins[0]
-        assign(self.pin_marks, x=self._points["freq"], y=np.asarray(f.result.model[self.model_key])[self._shown],
-               colors=[colour], visible=True)
+        px, py = tick_segments(self._points["freq"], np.asarray(f.result.model[self.model_key])[self._shown],
+                               self._tick)
+        assign(self.pin_marks, x=px, y=py, colors=[colour], visible=True)
 
 
 class Vis2Figure(_PointsFigure):
