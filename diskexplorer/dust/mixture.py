@@ -132,7 +132,10 @@ class DustMix:
         total = sum(merged.values())
         if not total > 0:
             raise DustError(f"DustMix fractions {dict(merged)!r}: need at least one positive fraction")
-        canon = tuple(sorted(((k, v / total) for k, v in merged.items() if v > 0), key=lambda kv: repr(kv[0])))
+        # Fractions that already sum to 1 (to rounding) are kept as given, so a mixture
+        # written out and read back compares equal to the original.
+        scale = 1.0 if abs(total - 1.0) <= 1e-12 else total
+        canon = tuple(sorted(((k, v / scale) for k, v in merged.items() if v > 0), key=lambda kv: repr(kv[0])))
         object.__setattr__(self, "fractions", canon)
         object.__setattr__(self, "grain_size", round(size, 9))
         object.__setattr__(self, "shape", shape)
