@@ -26,8 +26,13 @@ from .observables import (
 # data
 from .data import ObservationSet, read_oifits, read_photometry, read_spectrum, write_oifits
 
-# judging against data
-from .fitting import Comparison
+# judging against data, seeding fits
+from .fitting import (Comparison, RefineResult, StartingPoint, export_start, make_snippet, read_start, refine,
+                      write_start)
+
+
+# reports
+from .report import EvaluationReport, evaluate
 
 
 def explore(data=None, scene=None, **kwargs):
@@ -50,4 +55,8 @@ __all__ = [
     "ObservationSet", "read_oifits", "write_oifits", "read_photometry", "read_spectrum",
     # judging, exploring
     "Comparison", "explore",
+    # seeding fits
+    "export_start", "write_start", "read_start", "StartingPoint", "make_snippet", "refine", "RefineResult",
+    # reports
+    "evaluate", "EvaluationReport",
 ]

@@ -1,4 +1,11 @@
-"""The ``diskexplorer`` command line."""
+"""The ``diskexplorer`` command line: serve the explorer, regenerate the sample data,
+list or add dust species, and evaluate a model against data into a static report.
+
+Every command answers ``--help``. Errors a user can cause (bad arguments, missing or
+malformed files, outputs that exist already) end with one line on stderr and a
+non-zero exit status: 2 for usage errors and refused overwrites, 1 for unreadable or
+invalid input.
+"""
 from __future__ import annotations
 
 import argparse
@@ -52,9 +59,127 @@ def _cmd_sample_data(args):
 
 def _cmd_species(args):
     from .dust import list_species
+    if args.add is not None:
+        return _add_species(args)
+    for name in ("nk", "density"):
+        if getattr(args, name) is not None:
+            return _usage("species", f"--{name} is only used with --add NAME")
     for sp in list_species():
         print(f"{sp['name']:<24} ρ = {sp['density']:.2f} g/cm3  {sp['description']}")
         print(f"{'':<24} source: {sp['source']}")
+    return 0
+
+
+def _usage(command, message):
+    print(f"diskexplorer {command}: {message}", file=sys.stderr)
+    return 2
+
+
+def _add_species(args):
+    """Compute κ of a user species and write it as a κ table (registration is per process)."""
+    import numpy as np
+
+    from .dust import library_grid, register_species, species_kappa
+
+    if args.nk is None or args.density is None:
+        return _usage("species", "--add needs --nk FILE (wavelength µm, n, k) and --density RHO (g/cm3)")
+    if not os.path.isfile(args.nk):
+        raise FileNotFoundError(f"{args.nk}: no such optical-constants file")
+    out = Path(args.out or f"{args.add}_kappa_{args.method}.txt")
+    if out.exists() and not args.force:
+        raise FileExistsError(f"{out} exists; pass --force to overwrite it or --out to choose another name")
+    size = None if args.method == "cde" else args.grain_size
+    register_species(args.add, nk=args.nk, density=args.density, source=args.source or os.path.basename(args.nk),
+                     description=f"user species from {os.path.basename(args.nk)}")
+    print(f"computing κ of {args.add!r} ({args.method}{'' if size is None else f', a = {size:g} µm'}) "
+          "on the library wavelength grid …", flush=True)
+    lam = np.asarray(library_grid(), float)
+    kappa = np.asarray(species_kappa(args.add, grain_size=size if size is not None else 0.1,
+                                     shape=args.method, wavelength=lam), float)
+    good = np.isfinite(kappa) & (kappa > 0)
+    if not np.any(good):
+        raise ValueError(f"the optical constants of {args.nk} do not overlap the library grid "
+                         f"({lam[0]:g}–{lam[-1]:g} µm)")
+    header = (f"kappa table of user species {args.add} (diskexplorer species --add)\n"
+              f"optical constants: {args.nk}; density {args.density:g} g/cm3; method {args.method}"
+              f"{'' if size is None else f'; grain size {size:g} um'}\n"
+              "columns: wavelength [um], kappa_abs [cm2/g]")
+    out.parent.mkdir(parents=True, exist_ok=True)
+    np.savetxt(out, np.column_stack([lam[good], kappa[good]]), fmt="%.6e", header=header)
+    print(f"wrote {out} ({int(good.sum())} rows, {lam[good][0]:g}–{lam[good][-1]:g} µm)")
+    print("note: diskexplorer keeps no species registry between runs, so the species was registered for this "
+          "command only. Use the table as a ring's dust (dust=\"" + str(out) + "\", or a starting point's "
+          "{\"kind\": \"kappa_table\", \"path\": ...}), or register it in a session with "
+          f"register_species({args.add!r}, kappa={str(out)!r}).")
+    return 0
+
+
+def _read_session_inputs(path):
+    """Scene and data description of an explorer session file, or None if ``path`` is not one."""
+    import json
+
+    try:
+        with open(path, encoding="utf-8") as fh:
+            doc = json.load(fh)
+    except (OSError, ValueError):
+        return None  # let the starting-point reader report what is wrong
+    if not (isinstance(doc, dict) and str(doc.get("schema", "")).startswith("diskexplorer-session/")):
+        return None
+    # Deferred and only for sessions: the app package imports the widget libraries.
+    from .app.session import read_session, scene_from_dict
+    from .fitting.data_description import DataDescription
+
+    doc = read_session(path)
+    data = dict(doc.get("data") or {})
+    filters = doc.get("filters") or {}
+    oifits = data.get("oifits") or []
+    if isinstance(oifits, str):
+        oifits = [oifits]
+    data["oifits"] = [{"path": p, "bands": list(filters.get("bands") or []) or None,
+                       "instruments": list(filters.get("instruments") or []) or None} for p in oifits]
+    desc = DataDescription.from_dict({k: v for k, v in data.items() if k in ("oifits", "photometry", "spectrum")
+                                      and v})
+    lo, hi = (filters.get("baseline_range_m") or [0.0, None])
+    if (lo or 0.0) > 0.0 or hi is not None:
+        print("diskexplorer evaluate: note: the session's baseline filter is not applied", flush=True)
+    return scene_from_dict(doc["scene"]), desc
+
+
+def _cmd_evaluate(args):
+    from .report import FORMATS, data_description_with, evaluate
+
+    formats = [f.strip().lower() for f in args.formats.split(",") if f.strip()]
+    bad = [f for f in formats if f not in FORMATS]
+    if bad or not formats:
+        return _usage("evaluate", f"--formats {args.formats!r}: choose from {', '.join(FORMATS)}")
+    if args.npix < 16:
+        return _usage("evaluate", f"--npix {args.npix}: expected at least 16 pixels per side")
+    if not os.path.exists(args.start):
+        raise FileNotFoundError(f"{args.start}: no such starting-point or session file")
+    out = args.out or f"{Path(args.start).stem}_evaluation"
+    try:
+        wavelengths = [float(x) for x in args.image_wavelengths.split(",") if x.strip()]
+    except ValueError:
+        return _usage("evaluate", f"--image-wavelengths {args.image_wavelengths!r}: expected numbers in µm, "
+                                  "comma-separated")
+
+    def say(message):
+        print(message, flush=True)
+
+    session = _read_session_inputs(args.start)
+    common = dict(out=out, formats=formats, force=args.force, progress=say,
+                  image_wavelengths=wavelengths, npix=args.npix)
+    if session is not None:
+        scene, desc = session
+        say(f"reading the session {args.start}")
+        base = os.path.dirname(os.path.abspath(args.start))
+        report = evaluate(scene, data=data_description_with(desc, args.data), base_dir=base, **common)
+    else:
+        report = evaluate(args.start, data=args.data, **common)
+    print()
+    print(report.chi2_text())
+    print()
+    print(f"wrote {len(report.files)} files to {out}")
     return 0
 
 
@@ -69,14 +194,78 @@ def build_parser():
     p.add_argument("--out", default="sample_data", help="folder to write (default ./sample_data)")
     p.add_argument("--force", action="store_true", help="overwrite existing files")
     p.set_defaults(func=_cmd_sample_data)
-    p = sub.add_parser("species", help="list the built-in dust species with their sources")
+    p = sub.add_parser(
+        "species", help="list the dust species with their sources, or add one from optical constants",
+        description="Without options: list every dust species with density and source. With --add: compute "
+                    "the mass absorption coefficient κ of a new species from a user (n, k) file on the "
+                    "library wavelength grid and write it as a κ table (wavelength µm, κ cm2/g) usable as "
+                    "a ring's dust. diskexplorer keeps no species registry between runs.")
+    p.add_argument("--add", metavar="NAME", help="name of a species to add from --nk")
+    p.add_argument("--nk", metavar="FILE", help="optical constants: three columns, wavelength µm, n, k")
+    p.add_argument("--density", metavar="RHO", type=float, help="bulk density of the material in g/cm3")
+    p.add_argument("--method", choices=("dhs", "mie", "cde"), default="dhs",
+                   help="grain shape method: distribution of hollow spheres (default), Mie spheres, or "
+                        "continuous distribution of ellipsoids (size-independent)")
+    p.add_argument("--grain-size", metavar="UM", type=float, default=0.1,
+                   help="grain radius in µm for dhs and mie (default 0.1)")
+    p.add_argument("--source", help="citation of the optical constants, kept as provenance")
+    p.add_argument("--out", metavar="FILE", help="κ table to write (default NAME_kappa_METHOD.txt)")
+    p.add_argument("--force", action="store_true", help="overwrite an existing κ table")
     p.set_defaults(func=_cmd_species)
+    p = sub.add_parser(
+        "evaluate", help="compare a model with data: χ² table, residual CSVs, netCDF model cube, figures",
+        description="Evaluate the model of a starting-point document (diskexplorer.start JSON, as exported "
+                    "by the explorer or diskexplorer.fitting.export_start) or of an explorer session file "
+                    "against the data it names. Prints χ² per data kind and instrument and writes, into "
+                    "--out: chi2.csv, residuals_<kind>.csv, model.nc (image cube, SED, model at the data) "
+                    "and the figures sed, silicate_band, vis2, closure_phase, image and profiles.")
+    p.add_argument("start", metavar="START.json", help="starting-point document or explorer session file")
+    p.add_argument("--data", metavar="PATH", nargs="+",
+                   help="data files to use instead (OIFITS files or folders, one photometry table, one "
+                        "spectrum; classified by content); each kind given replaces the document's data of "
+                        "that kind, other kinds are kept")
+    p.add_argument("--out", metavar="DIR", help="output folder (default START_evaluation)")
+    p.add_argument("--formats", default="png", help="figure formats, comma-separated: png, pdf (default png)")
+    p.add_argument("--image-wavelengths", default="1.65,2.2,3.5,4.8,8.5,10,12.5", metavar="UM,UM,...",
+                   help="wavelengths of the model image cube in µm (default 1.65,2.2,3.5,4.8,8.5,10,12.5)")
+    p.add_argument("--npix", type=int, default=256, help="image pixels per side (default 256)")
+    p.add_argument("--force", action="store_true", help="overwrite existing outputs")
+    p.set_defaults(func=_cmd_evaluate)
     return parser
 
 
 def main(argv=None):
+    """Run the command line.
+
+    Parameters
+    ----------
+    argv : list of str, optional
+        Arguments without the program name (default ``sys.argv[1:]``).
+
+    Returns
+    -------
+    int
+        Exit status: 0 on success, 1 for unreadable or invalid input, 2 for usage errors
+        and outputs that exist already (argparse exits with 2 itself on bad arguments).
+    """
+    from .errors import DiskExplorerError
+
     args = build_parser().parse_args(argv)
-    return args.func(args)
+    command = args.command
+    try:
+        return args.func(args)
+    except FileExistsError as exc:
+        print(f"diskexplorer {command}: {_one_line(exc)}", file=sys.stderr)
+        return 2
+    except (DiskExplorerError, FileNotFoundError, OSError, ValueError) as exc:
+        # ValueError: numpy/astropy refusing a file's content after our own checks passed.
+        print(f"diskexplorer {command}: {_one_line(exc)}", file=sys.stderr)
+        return 1
+
+
+def _one_line(exc):
+    text = str(exc) or type(exc).__name__
+    return " ".join(text.split())
 
 
 if __name__ == "__main__":

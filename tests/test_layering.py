@@ -17,7 +17,7 @@ ALLOWED = {
 
 def test_core_import_loads_no_widgets():
     code = ("import sys, diskexplorer, diskexplorer.physics, diskexplorer.observables, diskexplorer.dust, "
-            "diskexplorer.data, diskexplorer.fitting\n"
+            "diskexplorer.data, diskexplorer.fitting, diskexplorer.report, diskexplorer.sample, diskexplorer.cli\n"
             "bad = [m for m in sys.modules if m.split('.')[0] in ('ipywidgets', 'bqplot', 'voila', 'traitlets', 'IPython')]\n"
             "print(','.join(bad))")
     out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True)
