@@ -28,7 +28,8 @@ from .data import ObservationSet, read_oifits, read_photometry, read_spectrum, w
 
 # judging against data, seeding fits
 from .fitting import (Comparison, RefineResult, StartingPoint, export_start, make_snippet, read_start, refine,
-                      write_start)
+                      scan_grid, write_start)
+from .physics import gaps_of, sublimation_radius
 
 
 # reports
@@ -57,6 +58,9 @@ __all__ = [
     "Comparison", "explore",
     # seeding fits
     "export_start", "write_start", "read_start", "StartingPoint", "make_snippet", "refine", "RefineResult",
+    "scan_grid",
+    # derived quantities
+    "sublimation_radius", "gaps_of",
     # reports
     "evaluate", "EvaluationReport",
 ]

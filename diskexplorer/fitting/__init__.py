@@ -16,6 +16,9 @@ from .vector import (FreeParameter, free_parameters, initial_walkers, log_prior,
 # refinement
 from .refine import RefineResult, refine
 
+# grid scans
+from .scan import axis_values, best_point, confidence_levels, scan_grid, write_scan
+
 __all__ = [
     "Comparison", "ComparisonResult", "DATA_KINDS",
     # starting points
@@ -25,4 +28,6 @@ __all__ = [
     "make_log_probability", "make_snippet",
     # refinement
     "refine", "RefineResult",
+    # grid scans
+    "scan_grid", "best_point", "confidence_levels", "write_scan", "axis_values",
 ]

@@ -1,0 +1,521 @@
+"""χ² grid scans over two or more parameters of a scene, on dask.distributed or in process.
+
+A scan sets the scanned parameters (addressed by path, e.g. ``rings.0.t_in``) to every
+point of a regular grid, keeps the rest of the scene fixed — or refines chosen parameters
+locally at each point — and records the weighted total χ² and the χ² of every data kind
+in an :class:`xarray.Dataset`.
+
+Execution: the grid is cut into chunks; each task evaluates a whole chunk with one shared
+:class:`~diskexplorer.fitting.Comparison`. The data travel to each worker once
+(``client.scatter(..., broadcast=True)``) and the comparison built from them is cached on
+the worker (:mod:`~diskexplorer.fitting.scan_worker`), so no grid point pickles the data.
+
+Use from a widget
+-----------------
+``progress(done, total)`` and ``cancel()`` are called from the thread running
+:func:`scan_grid`, after every finished chunk and (on a cluster) every ~0.1 s while
+waiting. To keep a notebook responsive, run the scan in a :class:`threading.Thread`, let
+``progress`` set a progress bar's value, and pass ``cancel=stop_event.is_set`` with a
+:class:`threading.Event` set by a "Stop" button. A cancelled scan cancels its pending
+tasks and returns the partial dataset (unevaluated points NaN, ``attrs["status"] ==
+"cancelled"``).
+"""
+from __future__ import annotations
+
+import json
+import math
+import os
+import re
+import time
+import uuid
+from pathlib import Path
+
+import numpy as np
+import xarray as xr
+
+from ..errors import ParameterError
+from .comparison import Comparison
+from .paths import canonical_path, get_value, parameter_paths, spec_for
+from .scan_worker import evaluate_chunk
+
+__all__ = ["scan_grid", "best_point", "confidence_levels", "write_scan", "axis_values", "safe_name"]
+
+_POLL_S = 0.1  # how often a waiting scan polls cancel() and the futures
+
+
+# ------------------------------------------------------------------------------ axes
+def safe_name(path):
+    """A variable-name-safe form of a parameter path: ``rings.0.t_in`` → ``rings_0_t_in``."""
+    return re.sub(r"\W", "_", path)
+
+
+def axis_values(spec):
+    """The grid values of one axis.
+
+    Parameters
+    ----------
+    spec : array_like or tuple
+        Either the values themselves (list or array, any order, ≥ 1 finite value), or a
+        tuple ``(lo, hi, n)`` / ``(lo, hi, n, "log")`` / ``(lo, hi, n, "linear")``: n
+        values from lo to hi inclusive, evenly spaced in the value or in its logarithm.
+        Only a *tuple* whose third entry is an integer is read as a range.
+
+    Returns
+    -------
+    ndarray of float
+
+    Raises
+    ------
+    ParameterError
+        Malformed specification (n < 1, non-positive log range, NaN values).
+    """
+    if isinstance(spec, tuple) and len(spec) in (3, 4) and isinstance(spec[2], (int, np.integer)) \
+            and not isinstance(spec[2], bool):
+        lo, hi, n = float(spec[0]), float(spec[1]), int(spec[2])
+        scale = spec[3] if len(spec) == 4 else "linear"
+        if n < 1:
+            raise ParameterError(f"scan axis {spec!r}: n = {n}; expected ≥ 1 points")
+        if scale == "log":
+            if not (lo > 0 and hi > 0):
+                raise ParameterError(f"scan axis {spec!r}: a log axis needs lo > 0 and hi > 0")
+            values = np.geomspace(lo, hi, n)
+        elif scale == "linear":
+            values = np.linspace(lo, hi, n)
+        else:
+            raise ParameterError(f"scan axis {spec!r}: scale {scale!r}; expected 'log' or 'linear'")
+    else:
+        values = np.atleast_1d(np.asarray(spec, dtype=float))
+        if values.ndim != 1 or values.size < 1:
+            raise ParameterError(f"scan axis values must be a 1-D sequence, got shape {values.shape}")
+    if not np.all(np.isfinite(values)):
+        raise ParameterError(f"scan axis {spec!r}: values must be finite")
+    return values
+
+
+def _parse_axes(scene, axes):
+    items = list(axes.items()) if hasattr(axes, "items") else list(axes)
+    if not items:
+        raise ParameterError("scan_grid: no axes given; expected {path: values or (lo, hi, n[, 'log'])}")
+    paths, values = [], []
+    for item in items:
+        try:
+            path, spec = item
+        except (TypeError, ValueError):
+            raise ParameterError(f"scan_grid: axis {item!r}; expected (path, values) pairs") from None
+        path = canonical_path(scene, path)
+        if path in paths:
+            raise ParameterError(f"scan_grid: axis {path} given twice")
+        vals = axis_values(spec)
+        owner = spec_for(path)
+        for v in vals:  # refuse values no scene could hold before any work is sent out
+            if not owner.contains(v):
+                raise ParameterError(f"scan axis {path} = {v!r} {owner.unit}".rstrip()
+                                     + f" is outside the allowed range {owner.describe_range()}")
+        paths.append(path)
+        values.append(vals)
+    return paths, values
+
+
+# ------------------------------------------------------------------------------ data
+def _payload(data):
+    """(comparison, payload dict) from a Comparison or a data dict."""
+    if isinstance(data, Comparison):
+        interf = data.observer.interferometric
+        accuracy = interf.accuracy if interf is not None else 1
+        payload = dict(observations=data.observations, photometry=data.photometry,
+                       spectrum=data.spectrum, weights=dict(data.weights), accuracy=accuracy)
+        return data, payload
+    if isinstance(data, dict):
+        extra = set(data) - {"observations", "photometry", "spectrum", "weights", "accuracy", "paths"}
+        if extra:
+            raise ParameterError(f"scan_grid: data has unknown key(s) {sorted(extra)}; expected "
+                                 "observations, photometry, spectrum (and weights, accuracy)")
+        payload = dict(observations=data.get("observations"), photometry=data.get("photometry"),
+                       spectrum=data.get("spectrum"), weights=dict(data.get("weights") or {}),
+                       accuracy=data.get("accuracy", 1))
+        comp = Comparison(payload["observations"], payload["photometry"], payload["spectrum"],
+                          weights=payload["weights"], accuracy=payload["accuracy"])
+        return comp, payload
+    raise ParameterError(f"scan_grid: data must be a Comparison or a dict(observations=..., "
+                         f"photometry=..., spectrum=...), got {type(data).__name__}")
+
+
+def _token(payload):
+    """A content token of the data, so a persistent cluster reuses its cached comparison."""
+    try:
+        from dask.base import tokenize
+
+        return "scan-data-" + tokenize(payload)
+    except Exception:  # objects dask cannot hash deterministically: a fresh token is still correct
+        return "scan-data-" + uuid.uuid4().hex
+
+
+def _scene_repr(scene, free):
+    """The scene as a JSON string (the starting-point document when it can be built)."""
+    try:
+        from .start_document import export_start
+
+        return json.dumps(export_start(scene, free=free)["scene"], default=str)
+    except Exception:  # e.g. dust the document cannot describe: fall back to the plain values
+        return json.dumps({p: get_value(scene, p) for p in parameter_paths(scene)}
+                          | {"ring_names": [r.name for r in scene.rings]}, default=str)
+
+
+# ------------------------------------------------------------------------------ execution
+def _open_client(scheduler, n_workers):
+    """(client, owned objects to close) for a scheduler specification."""
+    from distributed import Client, LocalCluster
+
+    if isinstance(scheduler, Client):
+        return scheduler, []
+    if scheduler is None:
+        # Spawned worker processes, one single-threaded worker per core: the engine is
+        # numpy-bound and the GIL would serialise threads. Loopback only.
+        cluster = LocalCluster(n_workers=n_workers or os.cpu_count() or 1, threads_per_worker=1,
+                               processes=True, host="127.0.0.1", dashboard_address="127.0.0.1:0")
+        client = Client(cluster)
+        return client, [client, cluster]
+    if isinstance(scheduler, str):
+        client = Client(scheduler)
+        return client, [client]
+    if hasattr(scheduler, "scheduler_address"):  # a cluster object (LocalCluster, ...)
+        client = Client(scheduler)
+        return client, [client]
+    raise ParameterError(f"scan_grid: scheduler {scheduler!r}; expected None, 'serial', an address "
+                         "such as 'tcp://127.0.0.1:8786', a distributed.Client or a cluster")
+
+
+def _address(client):
+    try:
+        return str(client.scheduler.address)
+    except Exception:
+        return "unknown"
+
+
+def _n_workers(client):
+    try:
+        return max(1, len(client.scheduler_info().get("workers", {})))
+    except Exception:
+        return 1
+
+
+def scan_grid(scene, data, axes, *, refine_free=None, refine_max_nfev=10, scheduler=None,
+              n_workers=None, chunk_size=None, progress=None, cancel=None):
+    """χ² of a scene over a regular grid of parameters.
+
+    Parameters
+    ----------
+    scene : Scene
+        The current state: the scanned parameters are replaced at each grid point, every
+        other parameter stays as it is (or starts the refinement). Not modified.
+    data : Comparison or dict
+        A :class:`~diskexplorer.fitting.Comparison` or ``dict(observations=...,
+        photometry=..., spectrum=...)`` (optionally ``weights``, ``accuracy``), e.g. the
+        result of :func:`~diskexplorer.sample.load_sample_data`.
+    axes : mapping of str to spec, or sequence of (str, spec)
+        Parameter path (``rings.0.r_in``, ``rings[inner].t_in``, ``geometry.inclination``)
+        → values (list/array) or ``(lo, hi, n[, "log"])`` (see :func:`axis_values`), in the
+        parameter's declared unit. Usually two or more axes; the first is the slowest
+        dimension of the result.
+    refine_free : sequence of str, optional
+        Paths refined by :func:`~diskexplorer.fitting.refine` at every grid point (a
+        profile-likelihood-like map); must not overlap the axes.
+    refine_max_nfev : int
+        Model evaluations per refinement (small: a scan multiplies it by the grid size).
+    scheduler : None, "serial", str, distributed.Client or cluster
+        None: start a LocalCluster on 127.0.0.1 (one single-threaded worker process per
+        core, or ``n_workers``) for this scan and shut it down afterwards. ``"serial"``:
+        evaluate in this process without dask. An address (``"tcp://127.0.0.1:8786"``):
+        connect to an existing scheduler. A Client or cluster object: use it (left open).
+    n_workers : int, optional
+        Workers of the LocalCluster started when ``scheduler`` is None.
+    chunk_size : int, optional
+        Grid points per task; default about four tasks per worker, at most 256 points
+        (fewer, longer tasks amortise overhead; more tasks balance load and make
+        progress and cancellation finer).
+    progress : callable, optional
+        ``progress(done, total)`` in grid points, after each finished chunk.
+    cancel : callable, optional
+        ``cancel() -> bool``; when True, pending tasks are cancelled and the partial
+        result is returned.
+
+    Returns
+    -------
+    xarray.Dataset
+        Coordinates: one per axis, named :func:`safe_name` of the path (attrs ``path``,
+        ``units``, ``long_name``). Variables: ``chi2`` (weighted total), ``chi2_<kind>`` per
+        data kind, and with refinement ``refined_<name>`` per refined parameter. NaN marks
+        points the model refuses (r_in ≥ r_out …) or that were cancelled. Attributes
+        (netCDF-safe): ``scene`` (JSON), ``axes`` and ``free_parameters`` (JSON lists of
+        paths), ``npoints`` (JSON dict per kind at the input scene), ``npoints_total``,
+        ``weights`` (JSON), ``status`` ("complete" or "cancelled"), ``n_evaluated``,
+        ``scheduler``, ``elapsed_s``.
+
+    Raises
+    ------
+    SeedError
+        Unknown parameter paths.
+    ParameterError
+        Malformed axes, axis values outside a parameter's valid range, unusable data.
+
+    Notes
+    -----
+    χ² = Σ_k w_k Σ_i ((data − model)/σ)², as in :meth:`Comparison.compare`. Grid point
+    (i, j, …) is evaluated exactly as ``Comparison.compare(set_values(scene, {...}))``, so
+    serial and distributed scans agree to rounding (≲ 1e-15 relative: numpy's vectorised
+    reductions may round differently in another process).
+
+    Examples
+    --------
+    >>> ds = scan_grid(scene, data, {"rings.0.r_in": (0.2, 0.5, 20, "log"),
+    ...                              "rings.0.t_in": (1200, 1800, 15)})      # doctest: +SKIP
+    >>> best_point(ds)                                                        # doctest: +SKIP
+    """
+    t0 = time.perf_counter()
+    paths, values = _parse_axes(scene, axes)
+    refine_free = [canonical_path(scene, p) for p in (refine_free or ())]
+    overlap = set(refine_free) & set(paths)
+    if overlap:
+        raise ParameterError(f"scan_grid: {sorted(overlap)} are both scanned and refined")
+    comparison, payload = _payload(data)
+    reference = comparison.compare(scene)  # also proves the data are usable before work is sent
+    kinds = list(reference.chi2)
+    shape = tuple(v.size for v in values)
+    total = int(np.prod(shape))
+    mesh = np.meshgrid(*values, indexing="ij")
+    points = np.stack([m.ravel() for m in mesh], axis=1)
+    chi2 = np.full((total, 1 + len(kinds)), np.nan)
+    refined = np.full((total, len(refine_free)), np.nan)
+    token = _token(payload)
+
+    serial = isinstance(scheduler, str) and scheduler == "serial"
+    client, owned = (None, []) if serial else _open_client(scheduler, n_workers)
+    try:
+        where = "serial" if serial else _address(client)
+        workers = 1 if serial else _n_workers(client)
+        if chunk_size is None:
+            chunk_size = min(256, max(1, math.ceil(total / (4 * workers))))
+        chunk_size = int(chunk_size)
+        if chunk_size < 1:
+            raise ParameterError(f"scan_grid: chunk_size = {chunk_size}; expected ≥ 1")
+        starts = list(range(0, total, chunk_size))
+        args = (paths, kinds, refine_free, int(refine_max_nfev))
+        if serial:
+            status, done = _run_serial(comparison, token, scene, points, starts, chunk_size, args,
+                                       chi2, refined, progress, cancel)
+        else:
+            status, done = _run_dask(client, payload, token, scene, points, starts, chunk_size, args,
+                                     chi2, refined, progress, cancel)
+    finally:
+        for obj in owned:
+            obj.close()
+
+    coords = {}
+    for path, vals in zip(paths, values):
+        spec = spec_for(path)
+        coords[safe_name(path)] = xr.Variable(safe_name(path), vals, attrs={
+            "path": path, "units": spec.unit, "long_name": spec.description})
+    dims = [safe_name(p) for p in paths]
+    data_vars = {"chi2": (dims, chi2[:, 0].reshape(shape), {"long_name": "weighted total chi-squared"})}
+    for k, kind in enumerate(kinds):
+        data_vars[f"chi2_{kind}"] = (dims, chi2[:, 1 + k].reshape(shape),
+                                     {"long_name": f"chi-squared of {kind}",
+                                      "weight": float(reference.weights.get(kind, 1.0))})
+    for k, path in enumerate(refine_free):
+        spec = spec_for(path)
+        data_vars[f"refined_{safe_name(path)}"] = (dims, refined[:, k].reshape(shape), {
+            "path": path, "units": spec.unit, "long_name": f"refined {spec.description}"})
+    attrs = {
+        "title": "chi-squared grid scan (diskexplorer)",
+        "scene": _scene_repr(scene, paths + refine_free),
+        "axes": json.dumps(paths),
+        "free_parameters": json.dumps(paths + refine_free),
+        "refined_parameters": json.dumps(refine_free),
+        "refine_max_nfev": int(refine_max_nfev) if refine_free else 0,
+        "npoints": json.dumps(reference.npoints),
+        "npoints_total": int(reference.n_total),
+        "weights": json.dumps(reference.weights),
+        "chi2_at_scene": float(reference.total),
+        "status": status,
+        "n_evaluated": int(done),
+        "scheduler": where,
+        "elapsed_s": float(time.perf_counter() - t0),
+    }
+    return xr.Dataset(data_vars, coords=coords, attrs=attrs)
+
+
+def _store(chi2, refined, start, result):
+    c, r = result
+    chi2[start:start + len(c)] = c
+    refined[start:start + len(r)] = r
+
+
+def _run_serial(comparison, token, scene, points, starts, chunk_size, args, chi2, refined, progress, cancel):
+    paths, kinds, refine_free, nfev = args
+    total, done = len(points), 0
+    for start in starts:
+        if cancel is not None and cancel():
+            return "cancelled", done
+        chunk = points[start:start + chunk_size]
+        # The comparison is handed over directly; the token only keys the process cache.
+        _store(chi2, refined, start, evaluate_chunk(comparison, token, scene, paths, chunk, kinds,
+                                                    refine_free, nfev))
+        done += len(chunk)
+        if progress is not None:
+            progress(done, total)
+    return "complete", done
+
+
+def _run_dask(client, payload, token, scene, points, starts, chunk_size, args, chi2, refined,
+              progress, cancel):
+    paths, kinds, refine_free, nfev = args
+    total, done = len(points), 0
+    # One copy of data and scene per worker, shipped once; tasks refer to them by future.
+    data_f, scene_f = client.scatter([payload, scene], broadcast=True, hash=False)
+    run = uuid.uuid4().hex[:8]
+    pending = {}
+    for n, start in enumerate(starts):
+        chunk = points[start:start + chunk_size]
+        fut = client.submit(evaluate_chunk, data_f, token, scene_f, paths, chunk, kinds, refine_free,
+                            nfev, key=f"scan-chunk-{run}-{n}", pure=False)
+        pending[fut] = (start, len(chunk))
+    status = "complete"
+    try:
+        while pending:
+            if cancel is not None and cancel():
+                status = "cancelled"
+                break
+            finished = [f for f in pending if f.done()]
+            if not finished:
+                time.sleep(_POLL_S)
+                continue
+            for fut in finished:
+                start, n = pending.pop(fut)
+                _store(chi2, refined, start, fut.result())  # re-raises a task's error here
+                done += n
+                if progress is not None:
+                    progress(done, total)
+    finally:
+        if pending:
+            client.cancel(list(pending))
+        client.cancel([data_f, scene_f])
+    return status, done
+
+
+# ------------------------------------------------------------------------------ results
+def best_point(ds):
+    """The grid point of least total χ².
+
+    Parameters
+    ----------
+    ds : xarray.Dataset
+        A result of :func:`scan_grid`.
+
+    Returns
+    -------
+    dict
+        Parameter path → value at the minimum (scanned axes, and refined parameters if
+        any), plus ``"chi2"`` (the total) and ``"chi2_<kind>"`` per kind.
+
+    Raises
+    ------
+    ParameterError
+        If every point is NaN.
+    """
+    chi2 = ds["chi2"].values
+    if not np.any(np.isfinite(chi2)):
+        raise ParameterError("best_point: the scan holds no finite chi2 value")
+    index = np.unravel_index(np.nanargmin(chi2), chi2.shape)
+    at = dict(zip(ds["chi2"].dims, index))
+    out = {}
+    for dim in ds["chi2"].dims:
+        out[ds[dim].attrs.get("path", dim)] = float(ds[dim].values[at[dim]])
+    for name, var in ds.data_vars.items():
+        if name.startswith("refined_"):
+            out[var.attrs.get("path", name)] = float(var.isel(at).values)
+    out["chi2"] = float(chi2[index])
+    for name in ds.data_vars:
+        if name.startswith("chi2_"):
+            out[name] = float(ds[name].isel(at).values)
+    return out
+
+
+def confidence_levels(ds, n_free, levels=(0.6827, 0.9545, 0.9973), absolute=False):
+    """Δχ² thresholds of joint confidence regions for ``n_free`` parameters.
+
+    Parameters
+    ----------
+    ds : xarray.Dataset or None
+        A scan result; used only for its minimum χ² when ``absolute``.
+    n_free : int
+        Number of parameters of interest (degrees of freedom of Δχ²), usually the number
+        of scanned axes.
+    levels : sequence of float
+        Confidence levels in (0, 1) (default 1σ, 2σ, 3σ of a Gaussian).
+    absolute : bool
+        Return χ²_min + Δχ² instead of Δχ² (contour levels for a map).
+
+    Returns
+    -------
+    dict of float to float
+        level → Δχ² = ``scipy.stats.chi2.ppf(level, n_free)`` (or χ²_min + Δχ²).
+
+    Notes
+    -----
+    Valid when the errors are Gaussian and correctly scaled (reduced χ² near 1 at the
+    minimum) and the model is near-linear over the region; for n_free = 1, 2: 1σ is
+    Δχ² = 1.00 and 2.30. With badly scaled errors, rescale χ² by χ²_min/ν first.
+    """
+    from scipy.stats import chi2 as chi2_dist
+
+    if not (isinstance(n_free, (int, np.integer)) and n_free >= 1):
+        raise ParameterError(f"confidence_levels: n_free = {n_free!r}; expected an integer ≥ 1")
+    offset = 0.0
+    if absolute:
+        offset = float(np.nanmin(ds["chi2"].values))
+    out = {}
+    for level in levels:
+        if not 0.0 < level < 1.0:
+            raise ParameterError(f"confidence_levels: level {level!r}; expected 0 < level < 1")
+        out[float(level)] = float(chi2_dist.ppf(level, n_free)) + offset
+    return out
+
+
+def write_scan(ds, path, overwrite=False):
+    """Write a scan result to netCDF (``.nc``) or zarr (``.zarr``).
+
+    Parameters
+    ----------
+    ds : xarray.Dataset
+        A result of :func:`scan_grid`.
+    path : str or path-like
+        Target file (netCDF, any suffix but ``.zarr``) or directory (zarr, ``.zarr``).
+    overwrite : bool
+        Replace an existing file or store; default refuse.
+
+    Returns
+    -------
+    pathlib.Path
+
+    Raises
+    ------
+    FileExistsError
+        ``path`` exists and ``overwrite`` is False.
+    ImportError
+        zarr requested but not installed.
+    """
+    path = Path(path)
+    if path.exists() and not overwrite:
+        raise FileExistsError(f"{path} exists; pass overwrite=True to replace it")
+    if path.suffix == ".zarr":
+        try:
+            import zarr  # noqa: F401  (only to give a clear message when it is missing)
+        except ImportError:
+            raise ImportError(f"writing {path}: the zarr package is not installed; use a .nc path "
+                              "(netCDF) or install zarr") from None
+        ds.to_zarr(path, mode="w")
+    else:
+        if path.exists():
+            path.unlink()  # netCDF4 refuses to clobber some open-mode combinations
+        ds.to_netcdf(path, engine="netcdf4")
+    return path

@@ -1,0 +1,118 @@
+"""The part of a χ² grid scan that runs on a worker: evaluate a chunk of grid points.
+
+Kept in its own small module so that dask workers (spawned processes) import the task
+function by reference and nothing else from the scan machinery. The data are shipped once
+per worker (scattered with ``broadcast=True``) and the :class:`Comparison` built from them
+is cached here, in a worker-local module global keyed by a token, so every chunk of a scan
+— and later scans of the same data on a persistent cluster — reuse one evaluator.
+"""
+from __future__ import annotations
+
+import threading
+from collections import OrderedDict
+
+import numpy as np
+
+from ..errors import ParameterError
+
+__all__ = ["comparison_for", "evaluate_chunk", "clear_cache"]
+
+# token -> Comparison. A Comparison holds ~20 MB of cached kernels for the demo data,
+# so only a few are kept per process.
+_COMPARISONS: "OrderedDict[str, object]" = OrderedDict()
+_MAX_CACHED = 4
+_LOCK = threading.Lock()  # workers may run several threads; build each comparison once
+
+
+def clear_cache():
+    """Forget every cached comparison of this process."""
+    with _LOCK:
+        _COMPARISONS.clear()
+
+
+def comparison_for(token, payload):
+    """The cached :class:`~diskexplorer.fitting.Comparison` for ``token`` (built on first use).
+
+    Parameters
+    ----------
+    token : str
+        Identifies the data and weights; equal tokens must mean equal data.
+    payload : dict or Comparison
+        ``observations``, ``photometry``, ``spectrum``, ``weights`` and ``accuracy``, or a
+        ready comparison (serial runs pass it directly).
+    """
+    with _LOCK:
+        comp = _COMPARISONS.get(token)
+        if comp is not None:
+            _COMPARISONS.move_to_end(token)
+            return comp
+        from .comparison import Comparison  # deferred: workers import the engine only when needed
+
+        if isinstance(payload, Comparison):
+            comp = payload
+        else:
+            comp = Comparison(payload.get("observations"), payload.get("photometry"),
+                              payload.get("spectrum"), weights=payload.get("weights"),
+                              accuracy=payload.get("accuracy", 1))
+        _COMPARISONS[token] = comp
+        while len(_COMPARISONS) > _MAX_CACHED:
+            _COMPARISONS.popitem(last=False)
+        return comp
+
+
+def evaluate_chunk(payload, token, scene, paths, values, kinds, refine_free=(), refine_max_nfev=10):
+    """χ² of many grid points with one shared comparison.
+
+    Parameters
+    ----------
+    payload : dict or Comparison
+        The data (see :func:`comparison_for`); on a cluster a scattered future that dask
+        resolves to the worker's in-memory copy.
+    token : str
+        Cache key of the data.
+    scene : Scene
+        The scene whose other parameters stay fixed (or start the refinement).
+    paths : sequence of str
+        Canonical parameter paths of the scanned axes.
+    values : ndarray, shape (n_points, n_axes)
+        Parameter values of each grid point, in declared units.
+    kinds : sequence of str
+        Data kinds whose χ² is returned, in column order.
+    refine_free : sequence of str
+        Paths refined at each grid point (empty: no refinement).
+    refine_max_nfev : int
+        Model evaluations allowed per refinement.
+
+    Returns
+    -------
+    chi2 : ndarray, shape (n_points, 1 + len(kinds))
+        Weighted total χ², then χ² per kind; NaN where the model refuses the point
+        (e.g. r_in ≥ r_out).
+    refined : ndarray, shape (n_points, len(refine_free))
+        Refined values of the free parameters (NaN without refinement or for refused points).
+    """
+    from .paths import set_values
+
+    comp = comparison_for(token, payload)
+    values = np.asarray(values, dtype=float)
+    kinds = list(kinds)
+    refine_free = list(refine_free or ())
+    chi2 = np.full((values.shape[0], 1 + len(kinds)), np.nan)
+    refined = np.full((values.shape[0], len(refine_free)), np.nan)
+    for i, row in enumerate(values):
+        try:
+            trial = set_values(scene, dict(zip(paths, row)))
+            if refine_free:
+                from .refine import refine
+
+                res = refine(trial, comp, free=refine_free, max_nfev=refine_max_nfev)
+                trial = res.scene
+                refined[i] = [p.value for p in res.parameters]
+        except ParameterError:
+            # A combination the model refuses (r_in ≥ r_out, ...) is a hole in the map, not
+            # a failure of the scan.
+            continue
+        result = comp.compare(trial)
+        chi2[i, 0] = result.total
+        chi2[i, 1:] = [result.chi2.get(k, np.nan) for k in kinds]
+    return chi2, refined
