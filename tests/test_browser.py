@@ -15,7 +15,13 @@ CHROMIUM = "/usr/bin/chromium"
 ROOT = Path(__file__).resolve().parents[1]
 NOTEBOOK = ROOT / "diskexplorer" / "app" / "explorer.ipynb"
 OUT = ROOT / "test-output"
-SHOTS = ROOT / "docs" / "screenshots"
+# Figures (by CSS class) on each page of the figure tabs; each must draw at least one SVG path.
+PAGES = {
+    "interferometry": ("dx-fig-vis2", "dx-fig-vis2-residuals", "dx-fig-t3", "dx-fig-t3-residuals", "dx-fig-corrflux"),
+    "SED & spectrum": ("dx-fig-sed", "dx-fig-spectrum", "dx-fig-silicate"),
+    "disk structure": ("dx-fig-image", "dx-fig-profile-temperature", "dx-fig-profile-tau",
+                       "dx-fig-profile-intensity"),
+}
 ARGS = ["--headless", "--no-sandbox", "--disable-gpu", "--disable-quic", "--no-first-run",
         "--disable-background-networking", "--disable-component-update", "--disable-sync"]
 
@@ -63,11 +69,18 @@ def _curve_paths(page):
                          ".map(p => p.getAttribute('d') || '').join('|')")
 
 
+def _assert_figures_drawn(page, classes):
+    for css in classes:
+        page.wait_for_function(
+            f"() => {{ const f = document.querySelector('.{css}'); return f && f.querySelector('svg') && "
+            f"Array.from(f.querySelectorAll('svg path, svg image, svg rect.heatmap, svg circle'))"
+            f".some(e => (e.getAttribute('d') || 'x').length > 1); }}", timeout=30_000)
+
+
 def test_slider_moves_model_curve(voila_url):
     from playwright.sync_api import sync_playwright
 
     OUT.mkdir(exist_ok=True)
-    SHOTS.mkdir(parents=True, exist_ok=True)
     with sync_playwright() as p:
         browser = p.chromium.launch(executable_path=CHROMIUM, headless=True, args=ARGS)
         try:
@@ -80,7 +93,8 @@ def test_slider_moves_model_curve(voila_url):
                 ".some(p => (p.getAttribute('d') || '').length > 200)", timeout=60_000)
             first_render = time.time() - t0
             page.wait_for_timeout(800)
-            page.screenshot(path=str(SHOTS / "interferometry.png"), full_page=True)
+            page.screenshot(path=str(OUT / "first_render.png"), full_page=True)
+            _assert_figures_drawn(page, PAGES["interferometry"])
             before = _curve_paths(page)
             handle = page.locator(".dx-inclination .noUi-handle").first
             handle.focus()
@@ -97,9 +111,10 @@ def test_slider_moves_model_curve(voila_url):
             print(f"\nfirst render {first_render:.1f} s; key press to redrawn V² curve {redraw_ms:.0f} ms")
             page.wait_for_timeout(500)
             page.screenshot(path=str(OUT / "after_slider.png"), full_page=True)
-            for label, name in (("SED & spectrum", "sed_spectrum.png"), ("disk structure", "structure.png")):
+            for label in ("SED & spectrum", "disk structure"):
                 page.get_by_text(label, exact=True).first.click()
                 page.wait_for_timeout(2500)
-                page.screenshot(path=str(SHOTS / name), full_page=True)
+                _assert_figures_drawn(page, PAGES[label])
+                page.screenshot(path=str(OUT / f"page_{label.split()[0].lower()}.png"), full_page=True)
         finally:
             browser.close()

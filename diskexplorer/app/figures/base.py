@@ -55,8 +55,13 @@ def new_figure(title, marks, axes, css_class, height="290px", legend=False):
 
 
 def axis(scale, label, orientation="horizontal", **kw):
-    """An axis with the label style of the explorer (labels carry the unit)."""
-    return bq.Axis(scale=scale, label=label, orientation=orientation, label_color=MUTED,
+    """An axis with the label style of the explorer (labels carry the unit).
+
+    bqplot 0.13 orients an axis by its ``side``: "bottom" for horizontal, "left" (or
+    "right") for vertical.
+    """
+    kw.setdefault("side", "bottom" if orientation == "horizontal" else "left")
+    return bq.Axis(scale=scale, label=label, label_color=MUTED,
                    grid_color="#e6e4de", grid_lines="solid", tick_style={"font-size": "10px"},
                    label_offset="36px" if orientation == "horizontal" else "46px", **kw)
 

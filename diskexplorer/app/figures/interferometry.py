@@ -51,7 +51,7 @@ class _PointsFigure:
                                   opacities=[0.45])
         self.ax = axis(self.sx, "spatial frequency B/λ [Mλ]")
         self.ay = axis(self.sy, self.ylabel, "vertical")
-        self.cax = bq.ColorAxis(scale=self.colour, label="λ [µm]", side="right", orientation="vertical",
+        self.cax = bq.ColorAxis(scale=self.colour, label="λ [µm]", side="right",
                                 label_color=MUTED, tick_style={"font-size": "9px"})
         self.extra_marks = []
         self._build_extra(sc)

@@ -89,8 +89,7 @@ class ImageFigure:
                                   default_size=12, align="middle")
         self.figure = new_figure("model image", [self.heat, self.outlines, self.bar, self.bar_label],
                                  [axis(self.sx, "Δα (East ←) [mas]"), axis(self.sy, "Δδ (North ↑) [mas]", "vertical"),
-                                  bq.ColorAxis(scale=self.colour, label="log₁₀ I / I_max", side="right",
-                                               orientation="vertical")],
+                                  bq.ColorAxis(scale=self.colour, label="log₁₀ I / I_max", side="right")],
                                  "dx-fig-image", height="440px")
         # Equal scales on both axes, so an inclined ring keeps its true shape and angle.
         self.figure.min_aspect_ratio = 1.0
