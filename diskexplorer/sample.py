@@ -51,7 +51,11 @@ SAMPLE_FILES = {
     "oifits": ("aurelis_QT-HK.fits", "aurelis_QT-LM.fits", "aurelis_QT-N.fits"),
     "photometry": "aurelis_photometry.csv",
     "spectrum": "aurelis_nband_spectrum.csv",
+    "start": "aurelis_start.json",
 }
+#: Free parameters of the sample starting point (the recovery tests of sample_data/README.md).
+START_FREE = ("rings.0.r_in", "rings.0.t_in", "geometry.inclination", "geometry.position_angle",
+              "rings.1.t_in")
 
 
 def demo_scene() -> Scene:
@@ -153,8 +157,8 @@ def write_sample_data(folder, overwrite=False, progress=print):
 
     folder = Path(folder)
     folder.mkdir(parents=True, exist_ok=True)
-    targets = [folder / n for n in SAMPLE_FILES["oifits"]] + [folder / SAMPLE_FILES["photometry"],
-                                                              folder / SAMPLE_FILES["spectrum"]]
+    targets = [folder / n for n in SAMPLE_FILES["oifits"]] + [folder / SAMPLE_FILES[k]
+                                                              for k in ("photometry", "spectrum", "start")]
     existing = [p for p in targets if p.exists()]
     if existing and not overwrite:
         raise FileExistsError(f"{existing[0]} exists; pass overwrite=True to regenerate the sample data")
@@ -198,7 +202,35 @@ def write_sample_data(folder, overwrite=False, progress=print):
     path.write_text("\n".join(lines) + "\n")
     written.append(path)
     progress(f"wrote {path}")
+    written.append(write_sample_start(folder, scene))
+    progress(f"wrote {written[-1]}")
     return written
+
+
+def write_sample_start(folder, scene=None):
+    """Write the sample starting point: the true scene, five free parameters, the sample data.
+
+    Data paths in the document are relative to ``folder`` (where the document lives).
+    """
+    from .fitting.comparison import Comparison
+    from .fitting.data_description import DataDescription
+    from .fitting.start_document import export_start, write_start
+
+    folder = Path(folder)
+    scene = demo_scene() if scene is None else scene
+    data = DataDescription.from_dict({
+        "oifits": [{"path": n} for n in SAMPLE_FILES["oifits"]],
+        "photometry": {"path": SAMPLE_FILES["photometry"]},
+        "spectrum": {"path": SAMPLE_FILES["spectrum"]},
+    })
+    loaded = load_sample_data(folder)
+    judged = Comparison(loaded["observations"], loaded["photometry"], loaded["spectrum"]).compare(scene)
+    doc = export_start(scene, free=list(START_FREE), data=data, comparison_result=judged,
+                       title="Aurelis (invented demo star): true scene of the sample data")
+    doc["created"] = "2026-12-02T00:00:00Z"  # fixed, so regeneration is byte-identical
+    path = folder / SAMPLE_FILES["start"]
+    write_start(path, doc, overwrite=True)
+    return path
 
 
 def sample_data_dir() -> Path:
