@@ -310,7 +310,7 @@ def residual_tables(comparison, result):
         the comparison. Column names carry their units: ``wavelength_um``,
         ``spatial_frequency_Mlambda`` (B/λ in 10⁶ wavelengths; for closure phases the
         longest baseline of the triangle), ``u_m``, ``v_m``, ``data``, ``error``,
-        ``model``, ``residual`` ((data − model)/error, closure phases wrapped to ±180°;
+        ``model``, ``residual`` ((data − model)/error, closure phases by chord length, see diskexplorer.fitting.comparison.phase_residual;
         upper limits contribute only where the model exceeds them). Data are in V²,
         degrees (``t3phi``), visibility amplitude or Jy (``photometry``, ``spectrum``,
         ``flux``); the SED kinds add one ``model_<component>`` column per component (Jy).

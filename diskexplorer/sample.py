@@ -122,9 +122,12 @@ def simulate_observations(scene, rng=None):
                                  tri[:, 3][:, None], wl[None, :])
         t3 = np.abs(scene.triple_product(tri[:, 0][:, None], tri[:, 1][:, None], tri[:, 2][:, None],
                                          tri[:, 3][:, None], wl[None, :]))
-        cp_e = np.full(cp.shape, cp_err)
-        cp_obs = (cp + rng.normal(0.0, 1.0, cp.shape) * cp_e + 180.0) % 360.0 - 180.0
         t3_err = 0.05 * t3 + 0.005
+        # Closure-phase noise grows as the triple amplitude falls (σ_φ ≈ σ_|T3| / |T3| rad),
+        # on top of the instrument's floor: near a visibility null the phase is poorly known.
+        cp_e = np.hypot(cp_err, np.degrees(0.005 / np.maximum(t3, 1e-6)))
+        cp_e = np.minimum(cp_e, 90.0)
+        cp_obs = (cp + rng.normal(0.0, 1.0, cp.shape) * cp_e + 180.0) % 360.0 - 180.0
         t3_obs = t3 + rng.normal(0.0, 1.0, t3.shape) * t3_err
         obs = ObservationSet.from_arrays(
             vis2=dict(u=base[:, 0], v=base[:, 1], wavelength=wl, vis2=v2_obs, vis2_err=v2_err,

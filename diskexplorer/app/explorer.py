@@ -13,12 +13,15 @@ from .controls import ExtendedPanel, GeometryPanel, ParamControl, StarPanel
 from .data_panel import DataPanel
 from .data_view import DataView
 from .debounce import Debouncer
+from .derived_panel import DerivedPanel
+from .export_panel import ExportPanel
 from .figures import (Chi2Table, ClosureFigure, CorrelatedFluxFigure, ImageFigure, ProfilesFigure,
                       SedFigure, SpectrumFigure, Vis2Figure)
 from .model_views import image, profiles, sed_curves, vis2_curve
 from .palette import ACCENT, INK, MUTED, PAPER
 from .pins import PinBoard, pin_colour
 from .ring_cards import RingDeck
+from .scan_panel import ScanPanel
 from .session_panel import SessionPanel
 from .state import ExplorerState, tiers_for
 
@@ -87,6 +90,8 @@ class Explorer(w.VBox):
         Where the debounced recompute waits (default: the running asyncio loop).
     delay : float
         Debounce window, s.
+    jobs : {"thread", "sync"}
+        How refinements and grid scans run: background threads, or at once (tests).
 
     Attributes
     ----------
@@ -95,9 +100,14 @@ class Explorer(w.VBox):
     figures : dict of figure objects by name
     timings : list of float
         Duration of each recompute, s (the benchmark reads it).
+    export_panel, scan_panel, derived_panel : ExportPanel, ScanPanel, DerivedPanel
+        The starting-point, χ² grid and derived-quantities pages.
     """
 
-    def __init__(self, scene, data=None, scheduler=None, delay=0.04):
+    #: Figure-tab index of each page (the structure page is also used by ``structure_visible``).
+    PAGES = {"interferometry": 0, "spectra": 1, "structure": 2, "start": 3, "scan": 4, "derived": 5}
+
+    def __init__(self, scene, data=None, scheduler=None, delay=0.04, jobs="thread"):
         data = dict(data or {})
         paths = data.pop("paths", {}) or {}
         self.state = ExplorerState(scene=scene, observations=data.get("observations"),
@@ -130,6 +140,13 @@ class Explorer(w.VBox):
         self.data_panel = DataPanel(st)
         self.pin_board = PinBoard(st)
         self.session_panel = SessionPanel(st)
+        # Long jobs (refinement, scans) run in background threads unless ``jobs="sync"``.
+        self.export_panel = ExportPanel(st, comparison=lambda: self.view.comparison if self.view else None,
+                                        result=lambda: self.frame.result if self.frame else None,
+                                        visible=lambda: self._page_visible("start"), runner=jobs)
+        self.scan_panel = ScanPanel(st, comparison=lambda: self.view.comparison if self.view else None,
+                                    runner=jobs)
+        self.derived_panel = DerivedPanel(st, visible=lambda: self._page_visible("derived"))
         self.message = w.HTML()
         self.message.add_class("dx-message")
         st.observe(self._on_notice, "notice")
@@ -170,8 +187,9 @@ class Explorer(w.VBox):
                             w.HBox([w.HTML("<b>profiles</b>", layout={"width": "60px"}), self.profile_wl,
                                     self.toggles["log_profiles"]]),
                             f["profiles"].widget])
-        self.figure_tabs = w.Tab([inter, spectra, structure],
-                                 titles=("interferometry", "SED & spectrum", "disk structure"))
+        self.figure_tabs = w.Tab([inter, spectra, structure, self.export_panel, self.scan_panel, self.derived_panel],
+                                 titles=("interferometry", "SED & spectrum", "disk structure", "starting point",
+                                         "χ² grid", "derived quantities"))
         self.figure_tabs.layout = {"flex": "1 1 auto", "min_width": "560px"}
         self.figure_tabs.observe(self._on_tab_change, "selected_index")
         header = w.HBox([w.HTML(f"{_CSS}<span style='font-size:18px;font-weight:700'>diskexplorer</span>"
@@ -233,6 +251,12 @@ class Explorer(w.VBox):
                 self._update_structure(picked)
         if "pins" in tiers:
             self._update_pins()
+        if "model" in tiers:
+            self.scan_panel.sync_paths()
+        if tiers & {"model", "export"}:
+            self.export_panel.refresh()
+        if tiers & {"model", "derived"}:
+            self.derived_panel.refresh()
         self.timings.append(time.perf_counter() - t0)
         self.recompute_log.append(sorted(tiers))
 
@@ -260,7 +284,14 @@ class Explorer(w.VBox):
     @property
     def structure_visible(self):
         """Whether the disk-structure page (image, profiles) is on screen."""
-        return self.figure_tabs.selected_index == 2 or self.render_hidden
+        return self._page_visible("structure")
+
+    def _page_visible(self, page):
+        # Pages that are not shown are refreshed when they are opened, not on every change.
+        tabs = getattr(self, "figure_tabs", None)
+        if tabs is None:
+            return self.render_hidden
+        return tabs.selected_index == self.PAGES[page] or self.render_hidden
 
     def _update_structure(self, which=("image", "profiles")):
         # Image and profiles cost more than every other view together; they are computed
@@ -280,6 +311,11 @@ class Explorer(w.VBox):
     def _on_tab_change(self, change):
         if self.structure_visible and self._structure_stale and self.frame is not None:
             self._update_structure(tuple(self._structure_stale))
+        if self.frame is not None:
+            if self._page_visible("start"):
+                self.export_panel.on_shown()
+            if self._page_visible("derived"):
+                self.derived_panel.on_shown()
 
     def _update_pins(self):
         pins = []
@@ -297,7 +333,7 @@ class Explorer(w.VBox):
                                     else None for _, _, fr in pins])
 
 
-def explore(data=None, scene=None, *, scheduler=None, delay=0.04):
+def explore(data=None, scene=None, *, scheduler=None, delay=0.04, jobs="thread"):
     """Open the explorer.
 
     Parameters
@@ -311,6 +347,8 @@ def explore(data=None, scene=None, *, scheduler=None, delay=0.04):
         Debounce scheduler (tests pass a :class:`~diskexplorer.app.debounce.ManualScheduler`).
     delay : float
         Debounce window in s.
+    jobs : {"thread", "sync"}
+        Whether refinements and scans run in background threads (the app) or at once (tests).
 
     Returns
     -------
@@ -326,4 +364,4 @@ def explore(data=None, scene=None, *, scheduler=None, delay=0.04):
         data = data if data is not None else demo_data
     if isinstance(data, ObservationSet):
         data = {"observations": data}
-    return Explorer(scene, data, scheduler=scheduler, delay=delay)
+    return Explorer(scene, data, scheduler=scheduler, delay=delay, jobs=jobs)

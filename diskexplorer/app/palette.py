@@ -10,7 +10,7 @@ white) and "YlOrBr" for brightness (monotonic lightness).
 from __future__ import annotations
 
 __all__ = ["OKABE_ITO", "COMPONENT_COLOURS", "RING_COLOURS", "PIN_COLOURS", "WAVELENGTH_SCHEME",
-           "BRIGHTNESS_SCHEME", "ring_colour", "INK", "MUTED", "PAPER", "ACCENT"]
+           "BRIGHTNESS_SCHEME", "DELTA_CHI2_SCHEME", "ring_colour", "INK", "MUTED", "PAPER", "ACCENT"]
 
 #: Okabe & Ito (2008) palette by the names the authors gave.
 OKABE_ITO = {
@@ -37,6 +37,10 @@ WAVELENGTH_SCHEME = ("#882E72", "#1965B0", "#4EB265", "#CAE0AB", "#F6C141", "#DC
 #: rings on a white page, so the image uses it reversed: faint is pale).
 BRIGHTNESS_SCHEME = ("#FFFFE5", "#FFF7BC", "#FEE391", "#FEC44F", "#FB9A29", "#EC7014", "#CC4C02",
                      "#993404", "#662506")
+
+#: Δχ² maps: the same YlOrBr sequence, dark at the minimum, so the best-fitting valley is
+#: the darkest, most salient region and poor fits fade towards the page colour.
+DELTA_CHI2_SCHEME = tuple(reversed(BRIGHTNESS_SCHEME))
 
 #: Interface colours (neutral greys plus one accent from the same palette).
 INK = "#1d2430"

@@ -1,7 +1,7 @@
 """Saving and restoring an explorer session as JSON.
 
-A session holds the scene, the paths the data came from, the filters, the view settings
-and the pins. Data are stored as paths, not copies: restoring re-reads the files.
+A session holds the scene, the paths the data came from, the filters, the view settings,
+the pins and the starting-point set-up (free parameters, bounds, priors, weights). Data are stored as paths, not copies: restoring re-reads the files.
 """
 from __future__ import annotations
 
@@ -22,7 +22,9 @@ SESSION_SCHEMA = "diskexplorer-session/1"
 
 #: State traits saved as view settings.
 VIEW_SETTINGS = ("curve_position_angle", "image_wavelength", "profile_wavelength", "log_sed_x",
-                 "log_sed_y", "log_vis2", "log_freq", "log_profiles")
+                 "log_sed_y", "log_vis2", "log_freq", "log_profiles",
+                 # assumptions of the derived-quantities panel
+                 "t_sub", "q_r", "gap_aspect_ratio", "gap_alpha")
 
 _RING_FIELDS = ("r_in", "r_out", "t_in", "q", "sigma_in", "p", "c1", "s1", "name", "enabled")
 
@@ -87,6 +89,8 @@ def session_to_dict(state):
                     "baseline_range_m": [_finite(b) for b in state.baseline_range]},
         "view": {k: getattr(state, k) for k in VIEW_SETTINGS},
         "pins": [{"name": p["name"], "scene": scene_to_dict(p["scene"])} for p in state.pins],
+        # free/fixed, bounds, priors and weights of the starting-point panel
+        "fit_setup": dict(state.fit_setup),
     }
 
 

@@ -14,7 +14,8 @@ __all__ = ["SessionPanel", "restore_session"]
 
 
 def restore_session(state, document):
-    """Apply a session document to ``state``: scene, data (re-read from paths), filters, view, pins.
+    """Apply a session document to ``state``: scene, data (re-read from paths), filters, view, pins,
+    starting-point set-up.
 
     Data files that cannot be read leave a message; everything else is still restored.
     """
@@ -37,6 +38,8 @@ def restore_session(state, document):
                 setattr(state, k, v)
         state.pins = pins
         state.scene = scene
+        from .export_panel import clean_fit_setup
+        state.fit_setup = clean_fit_setup(document.get("fit_setup") or {})
 
 
 class SessionPanel(w.VBox):

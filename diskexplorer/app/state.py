@@ -30,6 +30,10 @@ TIERS = {
     "scene": "model",
     "observations": "data", "photometry": "data", "spectrum": "data",
     "band_filter": "data", "instrument_filter": "data", "baseline_range": "data",
+    # The starting-point set-up and the derived-quantity assumptions change no observable:
+    # they refresh only their own panel.
+    "fit_setup": "export",
+    "t_sub": "derived", "q_r": "derived", "gap_aspect_ratio": "derived", "gap_alpha": "derived",
 }
 
 
@@ -65,6 +69,17 @@ class ExplorerState(t.HasTraits):
         Pinned states, each ``{"name": str, "scene": Scene}``.
     notice : str
         The latest message for the message area (HTML-escaped text).
+    fit_setup : dict
+        The starting-point set-up the export panel edits: ``free`` (list of parameter
+        paths), ``bounds`` (path → [lo, hi] in the declared unit, only those the user set),
+        ``priors`` (path → ``{"kind": ..., "mean": ..., "sigma": ...}``, only those set) and
+        ``weights`` (data kind → weight in the total χ²; missing kinds weigh 1).
+    t_sub : float
+        Dust sublimation temperature assumed by the derived quantities, K.
+    q_r : float
+        Q_R = Q_abs(T★)/Q_abs(T_sub) of the sublimating grains (1/cooling efficiency).
+    gap_aspect_ratio, gap_alpha : float
+        Disk aspect ratio h/r and viscosity α assumed when gaps are read as planets.
     """
 
     scene = t.Instance(Scene)
@@ -85,6 +100,11 @@ class ExplorerState(t.HasTraits):
     log_profiles = t.Bool(True)
     pins = t.List()
     notice = t.Unicode("")
+    fit_setup = t.Dict()
+    t_sub = t.Float(1500.0)
+    q_r = t.Float(1.0)
+    gap_aspect_ratio = t.Float(0.05)
+    gap_alpha = t.Float(1e-3)
 
     # ------------------------------------------------------------------ editing
     def update_scene(self, **changes):

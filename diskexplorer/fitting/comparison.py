@@ -7,14 +7,22 @@ import numpy as np
 
 from ..observables.observer import Observer
 
-__all__ = ["Comparison", "ComparisonResult", "DATA_KINDS"]
+__all__ = ["Comparison", "ComparisonResult", "DATA_KINDS", "phase_residual"]
 
 #: Data kinds a comparison can judge, in display order.
 DATA_KINDS = ("vis2", "t3phi", "t3amp", "visamp", "photometry", "spectrum", "flux")
 
 
-def _wrap_degrees(x):
-    return (np.asarray(x) + 180.0) % 360.0 - 180.0
+def phase_residual(data_deg, model_deg, error_deg):
+    """Normalised closure-phase residual by chord length on the unit circle.
+
+    (180/π) · 2 sin(Δ/2) / σ with Δ = data − model: equal to Δ/σ for small Δ, but
+    continuous through ±180° (a wrapped difference jumps there, which traps least-squares
+    refinements when a model visibility crosses zero and its phase flips by 180°).
+    Common practice for fitting closure phases.
+    """
+    delta = np.radians(np.asarray(data_deg, float) - np.asarray(model_deg, float))
+    return np.degrees(2.0 * np.sin(0.5 * delta)) / np.asarray(error_deg, float)
 
 
 @dataclass
@@ -28,7 +36,7 @@ class ComparisonResult:
     model : dict of ndarray
         Model values per data kind, aligned with the data.
     residuals : dict of ndarray
-        (data − model)/error per kind (closure phases wrapped to ±180°).
+        (data − model)/error per kind (closure phases by chord length, see :func:`phase_residual`).
     chi2 : dict of float
         χ² per kind.
     npoints : dict of int
@@ -159,7 +167,7 @@ class Comparison:
         if "t3phi" in self.kinds:
             ds = obs.t3
             model["t3phi"] = pred.t3phi
-            resid["t3phi"] = _wrap_degrees(ds["t3phi"].values - pred.t3phi) / ds["t3phi_err"].values
+            resid["t3phi"] = phase_residual(ds["t3phi"].values, pred.t3phi, ds["t3phi_err"].values)
             amp = np.abs(pred.t3)
             model["t3amp"] = amp
             with np.errstate(invalid="ignore", divide="ignore"):

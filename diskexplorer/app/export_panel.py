@@ -1,0 +1,663 @@
+"""The starting-point panel: free/fixed, bounds and priors per parameter, the live document,
+save (asking before overwriting), the Python snippet, import, and a quick local refinement.
+
+Everything the user sets here lives in ``state.fit_setup`` (the single source of truth, so
+sessions save it); the table writes there, and the explorer's one recompute redraws the
+document. Refinement runs :func:`~diskexplorer.fitting.refine` in a background thread
+(:class:`~diskexplorer.app.background.JobRunner`); its result is only shown until the user
+accepts it into the model or discards it.
+"""
+from __future__ import annotations
+
+import dataclasses
+import html
+import json
+import math
+
+import ipywidgets as w
+
+from ..errors import DiskExplorerError
+from ..fitting.data_description import DataDescription
+from ..fitting.paths import get_value, parameter_paths, set_values, spec_for
+from ..fitting.priors import PRIOR_KINDS, default_prior
+from ..fitting.vector import default_bounds
+from .background import JobRunner, Throttle
+from .controls import unit_text
+from .figures.base import assign as _assign
+from .palette import ACCENT, INK, MUTED, OKABE_ITO
+
+__all__ = ["ExportPanel", "clean_fit_setup", "describe_state_data", "doc_free", "WEIGHT_KINDS"]
+
+#: Data kinds whose weight the panel sets, with the words shown for them.
+WEIGHT_KINDS = (("vis2", "V²"), ("t3phi", "closure phase"), ("photometry", "photometry"),
+                ("spectrum", "spectrum"))
+
+_PRE = (f"margin:0;padding:6px 8px;font-size:11px;line-height:1.35;background:#f4f2ec;color:{INK};"
+        "border:1px solid #e6e4de;max-height:560px;overflow:auto;white-space:pre")
+_W = {"name": "196px", "value": "62px", "free": "30px", "lo": "76px", "hi": "76px", "prior": "100px",
+      "mean": "66px", "sigma": "60px"}
+
+
+def clean_fit_setup(setup):
+    """A well-formed copy of a ``fit_setup`` dict; malformed entries are dropped.
+
+    Parameters
+    ----------
+    setup : dict
+        ``free`` (list of str), ``bounds`` (path → [lo, hi]), ``priors`` (path → dict with
+        ``kind`` and, for a normal prior, ``mean`` and ``sigma``), ``weights`` (kind → float).
+
+    Returns
+    -------
+    dict
+        With all four keys present.
+    """
+    setup = setup if isinstance(setup, dict) else {}
+    free = [p for p in setup.get("free", []) if isinstance(p, str)]
+    bounds = {}
+    for p, b in (setup.get("bounds") or {}).items():
+        try:
+            lo, hi = (float(x) for x in b)
+        except (TypeError, ValueError):
+            continue
+        bounds[str(p)] = [lo, hi]
+    priors = {}
+    for p, d in (setup.get("priors") or {}).items():
+        if isinstance(d, dict) and d.get("kind") in PRIOR_KINDS:
+            entry = {"kind": d["kind"]}
+            if d["kind"] == "normal":
+                try:
+                    entry.update(mean=float(d["mean"]), sigma=float(d["sigma"]))
+                except (KeyError, TypeError, ValueError):
+                    continue
+            priors[str(p)] = entry
+    weights = {}
+    for k, v in (setup.get("weights") or {}).items():
+        try:
+            weights[str(k)] = float(v)
+        except (TypeError, ValueError):
+            continue
+    return {"free": list(dict.fromkeys(free)), "bounds": bounds, "priors": priors, "weights": weights}
+
+
+def describe_state_data(state, weights=None):
+    """The data the explorer judges the model against, as a :class:`DataDescription`.
+
+    Parameters
+    ----------
+    state : ExplorerState
+        Its ``data_sources`` name the files; ``band_filter`` and ``instrument_filter`` become
+        each OIFITS entry's ``bands`` and ``instruments``.
+    weights : dict, optional
+        Weight per data kind.
+
+    Returns
+    -------
+    (DataDescription, list of str)
+        The description and notes on what it cannot record (a baseline selection; data
+        that were not read from files).
+    """
+    src = state.data_sources or {}
+    notes = []
+    oifits = [{"path": str(p), "bands": list(state.band_filter) or None,
+               "instruments": list(state.instrument_filter) or None} for p in src.get("oifits", []) or []]
+    d = {"oifits": oifits, "photometry": src.get("photometry"), "spectrum": src.get("spectrum"),
+         "weights": dict(weights or {})}
+    lo, hi = state.baseline_range
+    if lo > 0 or math.isfinite(hi):
+        notes.append(f"the baseline selection ({lo:g}–{hi:g} m) is not part of the document")
+    for kind, present in (("oifits", state.observations is not None), ("photometry", state.photometry is not None),
+                          ("spectrum", state.spectrum is not None)):
+        if present and not src.get(kind):
+            notes.append(f"the loaded {kind} data were not read from a file and are not named")
+    return DataDescription.from_dict(d), notes
+
+
+def _fmt(x):
+    if x is None or not math.isfinite(x):
+        return "–"
+    return f"{x:.4g}"
+
+
+class _Row:
+    """The widgets of one parameter's row."""
+
+    def __init__(self, path, on_edit):
+        spec = spec_for(path)
+        self.path = path
+        unit = unit_text(spec.unit)
+        self.name = w.HTML(f"<span style='white-space:nowrap' title='{html.escape(spec.description)}'>"
+                           f"{html.escape(path)}</span>"
+                           + (f" <span style='color:{MUTED}'>[{html.escape(unit)}]</span>" if unit else ""),
+                           layout={"width": _W["name"]})
+        self.value = w.HTML(layout={"width": _W["value"]})
+        self.free = w.Checkbox(value=False, indent=False, layout={"width": _W["free"]})
+        self.lo = w.FloatText(layout={"width": _W["lo"]})
+        self.hi = w.FloatText(layout={"width": _W["hi"]})
+        self.prior = w.Dropdown(options=list(PRIOR_KINDS), layout={"width": _W["prior"]})
+        self.mean = w.FloatText(layout={"width": _W["mean"], "visibility": "hidden"})
+        self.sigma = w.FloatText(layout={"width": _W["sigma"], "visibility": "hidden"})
+        for name in ("free", "lo", "hi", "prior", "mean", "sigma"):
+            getattr(self, name).observe((lambda n: lambda ch: on_edit(self, n))(name), "value")
+        # No shrinking: inside the scrolling table a flex row would otherwise be squeezed.
+        self.box = w.HBox([self.name, self.value, self.free, self.lo, self.hi, self.prior, self.mean, self.sigma],
+                          layout={"align_items": "center", "flex": "0 0 auto"})
+        self.box.add_class("dx-export-row")
+
+
+class ExportPanel(w.VBox):
+    """Starting point for a formal fit: the table, the document, save/import, refinement.
+
+    Parameters
+    ----------
+    state : ExplorerState
+    comparison : callable, optional
+        Returns the :class:`~diskexplorer.fitting.Comparison` of the loaded (filtered) data,
+        or None without data; refinement uses it.
+    result : callable, optional
+        Returns the live :class:`~diskexplorer.fitting.ComparisonResult` (or None); its χ²
+        goes into the document's ``judgement``.
+    visible : callable, optional
+        Whether the panel is on screen; while it is not, refreshes are deferred.
+    runner : {"thread", "sync"}
+        How refinement runs: in a background thread (the app) or at once (tests).
+
+    Attributes
+    ----------
+    rows : dict of str to _Row
+        One row per parameter path (built the first time the panel is shown).
+    document : dict or None
+        The last document built (None when the set-up is invalid).
+    document_error : str
+        Why the set-up does not make a document ("" when it does).
+    saved_path : str or None
+        Where the document was last saved (the snippet refers to it).
+    refine_result : RefineResult or None
+        The refinement waiting for accept or discard.
+    """
+
+    def __init__(self, state, comparison=None, result=None, visible=None, runner="thread"):
+        self.state = state
+        self._comparison = comparison or (lambda: None)
+        self._result = result or (lambda: None)
+        self._visible = visible or (lambda: True)
+        self.runner = JobRunner(runner)
+        self.rows = {}
+        self.document = None
+        self.document_error = ""
+        self.saved_path = None
+        self.snippet = ""
+        self.refine_result = None
+        self._refine_start = None
+        self._quiet = False
+        self._stale = True
+        self._throttle = Throttle(0.2)
+
+        head = w.HBox([w.HTML(f"<b style='width:{_W[k]};display:inline-block'>{t}</b>", layout={"width": _W[k]})
+                       for k, t in (("name", "parameter"), ("value", "value"), ("free", "free"), ("lo", "lower"),
+                                    ("hi", "upper"), ("prior", "prior"), ("mean", "mean"), ("sigma", "σ"))])
+        head.add_class("dx-export-head")
+        self.table = w.VBox(layout={"max_height": "470px", "overflow": "auto", "width": "690px"})
+        self.fix_all_button = w.Button(description="fix all", layout={"width": "70px"})
+        self.fix_all_button.on_click(lambda b: self._set_setup(free=[]))
+
+        # refinement
+        self.weights = {k: w.BoundedFloatText(value=1.0, min=0.0, max=1e6, description=label,
+                                              style={"description_width": "initial"}, layout={"width": "150px"})
+                        for k, label in WEIGHT_KINDS}
+        for box in self.weights.values():
+            box.observe(lambda ch: self._on_weight(), "value")
+        self.refine_button = w.Button(description="refine free parameters", button_style="primary",
+                                      layout={"width": "190px"})
+        self.cancel_button = w.Button(description="cancel", disabled=True, layout={"width": "80px"})
+        self.progress = w.Label("")
+        self.progress.add_class("dx-refine-progress")
+        self.result_html = w.HTML()
+        self.accept_button = w.Button(description="accept into the model", button_style="success",
+                                      layout={"width": "180px"})
+        self.discard_button = w.Button(description="discard", layout={"width": "80px"})
+        self.result_actions = w.HBox([self.accept_button, self.discard_button], layout={"display": "none"})
+        self.refine_button.on_click(lambda b: self.start_refine())
+        self.cancel_button.on_click(lambda b: self.cancel_refine())
+        self.accept_button.on_click(lambda b: self.accept())
+        self.discard_button.on_click(lambda b: self.discard())
+
+        # document, save, import
+        self.path = w.Text(value="diskexplorer-start.json", layout={"width": "230px"})
+        self.path.add_class("dx-start-path")
+        self.save_button = w.Button(description="save", layout={"width": "64px"})
+        self.import_button = w.Button(description="import", layout={"width": "70px"})
+        self.confirm_text = w.HTML()
+        self.overwrite_button = w.Button(description="overwrite", button_style="warning", layout={"width": "90px"})
+        self.keep_button = w.Button(description="keep the file", layout={"width": "110px"})
+        self.confirm = w.HBox([self.confirm_text, self.overwrite_button, self.keep_button],
+                              layout={"display": "none"})
+        self.save_button.on_click(lambda b: self.save())
+        self.import_button.on_click(lambda b: self.import_start())
+        self.overwrite_button.on_click(lambda b: self.save(overwrite=True))
+        self.keep_button.on_click(lambda b: self._hide_confirm())
+        self.view = w.ToggleButtons(options=[("document", "document"), ("Python snippet", "snippet")],
+                                    value="document", style={"button_width": "110px"})
+        self.view.observe(lambda ch: self._show_view(), "value")
+        self.viewer = w.HTML(layout={"width": "100%"})
+        self.viewer.add_class("dx-start-document")
+        self.notes = w.HTML()
+
+        left = w.VBox([w.HTML("<div class='dx-section-title'>parameters of the starting point</div>"),
+                       head, self.table, self.fix_all_button,
+                       w.HTML("<div class='dx-section-title'>quick local refinement</div>"),
+                       w.HBox(list(self.weights.values())[:2]), w.HBox(list(self.weights.values())[2:]),
+                       w.HBox([self.refine_button, self.cancel_button, self.progress],
+                              layout={"align_items": "center"}),
+                       self.result_html, self.result_actions],
+                      layout={"width": "700px", "min_width": "700px"})
+        right = w.VBox([w.HTML("<div class='dx-section-title'>document</div>"),
+                        w.HBox([self.path, self.save_button, self.import_button]), self.confirm,
+                        self.view, self.viewer, self.notes],
+                       layout={"flex": "1 1 auto", "min_width": "300px", "padding": "0 0 0 10px"})
+        super().__init__([w.HBox([left, right], layout={"width": "100%"})])
+        self.add_class("dx-export-panel")
+        self._sync_weights()
+
+    # ------------------------------------------------------------------ set-up
+    @property
+    def setup(self):
+        """The state's starting-point set-up (a cleaned copy)."""
+        return clean_fit_setup(self.state.fit_setup)
+
+    @property
+    def free_paths(self):
+        """Free parameter paths of the current scene, in document order."""
+        free = set(self.setup["free"])
+        return [p for p in parameter_paths(self.state.scene) if p in free]
+
+    def bounds_for(self, path):
+        """(lo, hi) of ``path``: the user's, else the declared default around the current value."""
+        b = self.setup["bounds"].get(path)
+        if b is not None:
+            return float(b[0]), float(b[1])
+        return default_bounds(spec_for(path), get_value(self.state.scene, path))
+
+    def prior_for(self, path):
+        """The prior of ``path`` as a dict (the user's, else the declared default)."""
+        p = self.setup["priors"].get(path)
+        if p is not None:
+            return dict(p)
+        return default_prior(spec_for(path), self.bounds_for(path)[0]).as_dict()
+
+    def _set_setup(self, **changes):
+        setup = self.setup
+        setup.update(changes)
+        setup = clean_fit_setup(setup)
+        if setup != clean_fit_setup(self.state.fit_setup):
+            self.state.fit_setup = setup
+
+    def _on_weight(self):
+        if self._quiet:
+            return
+        weights = {k: float(box.value) for k, box in self.weights.items()}
+        # Weights of 1 are the default: store only what differs, so sessions stay small.
+        self._set_setup(weights={k: v for k, v in weights.items() if v != 1.0})
+
+    def _on_edit(self, row, name):
+        if self._quiet:
+            return
+        path = row.path
+        setup = self.setup
+        if name == "free":
+            free = [p for p in setup["free"] if p != path] + ([path] if row.free.value else [])
+            self._set_setup(free=free)
+        elif name in ("lo", "hi"):
+            self._set_setup(bounds={**setup["bounds"], path: [float(row.lo.value), float(row.hi.value)]})
+        else:
+            kind = row.prior.value
+            entry = {"kind": kind}
+            if kind == "normal":
+                mean, sigma = float(row.mean.value), float(row.sigma.value)
+                if name == "prior" or not sigma > 0:
+                    # A first choice of "normal" starts centred on the current value, 10 % of the range wide.
+                    lo, hi = self.bounds_for(path)
+                    mean = get_value(self.state.scene, path) if name == "prior" else mean
+                    sigma = sigma if sigma > 0 else (hi - lo) / 10.0
+                entry.update(mean=mean, sigma=sigma)
+            self._set_setup(priors={**setup["priors"], path: entry})
+
+    # ------------------------------------------------------------------ view
+    def refresh(self):
+        """Show the state: rows, values and the document (deferred while the panel is hidden)."""
+        if not self._visible():
+            self._stale = True
+            return
+        self._stale = False
+        self._sync_rows()
+        self._sync_weights()
+        self.update_document()
+
+    def on_shown(self):
+        """The panel came on screen: catch up if something changed meanwhile."""
+        if self._stale:
+            self.refresh()
+
+    def _sync_weights(self):
+        weights = self.setup["weights"]
+        self._quiet = True
+        try:
+            for k, box in self.weights.items():
+                v = float(weights.get(k, 1.0))
+                if box.value != v:
+                    box.value = v
+        finally:
+            self._quiet = False
+
+    def _sync_rows(self):
+        scene = self.state.scene
+        paths = parameter_paths(scene)
+        if list(self.rows) != paths:
+            # Ring added, removed or the scene replaced: rows follow the parameter list.
+            self.rows = {p: self.rows.get(p) or _Row(p, self._on_edit) for p in paths}
+            self.table.children = [r.box for r in self.rows.values()]
+        setup = self.setup
+        free = set(setup["free"])
+        self._quiet = True
+        try:
+            for p, row in self.rows.items():
+                lo, hi = self.bounds_for(p)
+                prior = self.prior_for(p)
+                value = get_value(scene, p)
+                inside = lo <= value <= hi
+                text = _fmt(value) if inside else f"<span style='color:{OKABE_ITO['vermillion']}' " \
+                                                  f"title='outside the bounds'>{_fmt(value)} ⚠</span>"
+                _assign(row.value, value=text)
+                _assign(row.free, value=p in free)
+                _assign(row.lo, value=float(lo))
+                _assign(row.hi, value=float(hi))
+                _assign(row.prior, value=prior["kind"])
+                normal = prior["kind"] == "normal"
+                if normal:
+                    _assign(row.mean, value=float(prior["mean"]))
+                    _assign(row.sigma, value=float(prior["sigma"]))
+                vis = "visible" if normal else "hidden"
+                if row.mean.layout.visibility != vis:
+                    row.mean.layout.visibility = vis
+                    row.sigma.layout.visibility = vis
+        finally:
+            self._quiet = False
+
+    def build_document(self):
+        """The starting-point document of the live scene with this set-up.
+
+        Returns
+        -------
+        dict
+            From :func:`~diskexplorer.fitting.export_start`.
+
+        Raises
+        ------
+        SeedError
+            Bounds that do not hold the current value, priors that do not fit, …
+        """
+        from ..fitting.start_document import export_start
+
+        setup = self.setup
+        scene = self.state.scene
+        paths = set(parameter_paths(scene))
+        weights = {k: setup["weights"].get(k, 1.0) for k, _ in WEIGHT_KINDS}
+        data, self._data_notes = describe_state_data(self.state, weights)
+        result = self._result()
+        if result is not None:
+            # The judgement is recorded with the weights the document asks the fit to use.
+            result = dataclasses.replace(result, weights={k: weights.get(k, v) for k, v in result.weights.items()})
+        return export_start(scene, free=[p for p in self.free_paths],
+                            bounds={p: tuple(b) for p, b in setup["bounds"].items() if p in paths},
+                            priors={p: v for p, v in setup["priors"].items() if p in paths},
+                            data=data, comparison_result=result)
+
+    def update_document(self):
+        """Rebuild the document and show it (or why it cannot be built)."""
+        self._data_notes = []
+        try:
+            self.document = self.build_document()
+            self.document_error = ""
+        except DiskExplorerError as exc:
+            self.document = None
+            self.document_error = str(exc)
+        self._show_view()
+
+    def _show_view(self):
+        if self.view.value == "snippet":
+            body = (html.escape(self.snippet) if self.snippet else
+                    f"<span style='color:{MUTED}'>save the document first: the snippet reads it from its file</span>")
+        elif self.document is None:
+            body = (f"<span style='color:{OKABE_ITO['vermillion']}'>no document: "
+                    f"{html.escape(self.document_error)}</span>")
+        else:
+            body = html.escape(json.dumps(self.document, indent=1, ensure_ascii=False))
+        _assign(self.viewer, value=f"<pre style='{_PRE}'>{body}</pre>")
+        n = len(self.free_paths)
+        notes = [f"{n} free parameter{'s' if n != 1 else ''}"] + list(getattr(self, "_data_notes", []))
+        _assign(self.notes, value=f"<div style='font-size:11px;color:{MUTED}'>" + "<br>".join(map(html.escape, notes))
+                + "</div>")
+
+    # ------------------------------------------------------------------ save / import
+    def _hide_confirm(self):
+        self.confirm.layout.display = "none"
+
+    def save(self, overwrite=False):
+        """Write the document to the path box; an existing file needs explicit confirmation.
+
+        Returns
+        -------
+        bool
+            Whether the file was written. An existing file is never replaced unless
+            ``overwrite`` (the "overwrite" button) is given.
+        """
+        from ..fitting.snippet import make_snippet
+        from ..fitting.start_document import write_start
+
+        path = self.path.value.strip()
+        if not path:
+            self.state.say("starting point not saved: give a file name")
+            return False
+        try:
+            doc = self.build_document()
+            written = write_start(path, doc, overwrite=overwrite)
+        except FileExistsError:
+            self.confirm_text.value = f"<b>{html.escape(path)}</b> exists. Overwrite it?&nbsp;"
+            self.confirm.layout.display = None
+            return False
+        except (OSError, DiskExplorerError) as exc:
+            self.state.say(f"starting point not saved: {exc}")
+            return False
+        self._hide_confirm()
+        self.saved_path = written
+        try:
+            self.snippet = make_snippet(written)
+        except DiskExplorerError as exc:  # written but does not read back: say so, keep the file
+            self.snippet = ""
+            self.state.say(f"saved {written}, but it does not read back: {exc}")
+            return True
+        self._show_view()
+        self.state.say(f"starting point saved to {written} ({len(doc_free(doc))} free parameters); "
+                       "its Python snippet is under “Python snippet”")
+        return True
+
+    def import_start(self, source=None):
+        """Read a starting point (path box, or ``source``) into the model and the table.
+
+        On any error the message area says why and neither the model nor the set-up changes.
+
+        Returns
+        -------
+        bool
+        """
+        from ..fitting.start_import import read_start
+
+        source = self.path.value.strip() if source is None else source
+        try:
+            start = read_start(source)
+        except (DiskExplorerError, OSError, ValueError, KeyError, TypeError) as exc:
+            self.state.say(f"starting point not imported: {exc}")
+            return False
+        setup = self.setup
+        setup.update(free=list(start.paths),
+                     bounds={p: [f.lo, f.hi] for p, f in start.parameters.items()},
+                     priors={p: f.prior.as_dict() for p, f in start.parameters.items()})
+        if start.data.weights:
+            setup["weights"] = {k: v for k, v in start.data.weights.items() if v != 1.0}
+        with self.state.hold_trait_notifications():
+            self.state.scene = start.scene
+            self.state.fit_setup = clean_fit_setup(setup)
+        where = source if isinstance(source, str) else "the document"
+        extra = "" if start.data.empty else "; the data it names are not loaded (use the data tab)"
+        self.state.say(f"starting point imported from {where}: {len(start.free)} free parameters{extra}")
+        return True
+
+    # ------------------------------------------------------------------ refinement
+    def start_refine(self):
+        """Refine the free parameters from the live scene (background thread or at once).
+
+        Returns
+        -------
+        bool
+            Whether a refinement was started.
+        """
+        from ..fitting.refine import refine
+
+        if self.runner.busy:
+            return False
+        free = self.free_paths
+        if not free:
+            self.state.say("tick at least one parameter as free to refine it")
+            return False
+        comparison = self._comparison()
+        if comparison is None or not comparison.kinds:
+            self.state.say("load data to refine against")
+            return False
+        scene = self.state.scene
+        bounds = {p: self.bounds_for(p) for p in free}
+        weights = {k: float(box.value) for k, box in self.weights.items()}
+        # All weights 1 is the comparison's own weighting: passing None lets refine reuse the
+        # bound comparison instead of building a new one (an Observer per refinement).
+        weights = None if all(v == 1.0 for v in weights.values()) else weights
+        self._refine_start = scene
+        self.discard(quiet=True)
+        self.refine_button.disabled = True
+        self.cancel_button.disabled = False
+        self.progress.value = "starting …"
+        runner = self.runner
+        throttle = self._throttle
+
+        def progress(i, chi2):
+            if throttle.ready():
+                runner.post(lambda: setattr(self.progress, "value", f"evaluation {i} · best χ² {chi2:,.6g}"))
+
+        def job():
+            try:
+                res = refine(scene, comparison, free, weights=weights, bounds=bounds, progress=progress,
+                             cancel=runner.cancel_event.is_set)
+            except Exception as exc:  # noqa: BLE001 - any failure must end the job visibly
+                runner.post(lambda: self._finish(None, exc))
+                return
+            runner.post(lambda: self._finish(res, None))
+
+        runner.start(job, name="diskexplorer-refine")
+        return True
+
+    def refine_now(self):
+        """Run a refinement synchronously, whatever the runner (tests, scripts)."""
+        mode, self.runner.mode = self.runner.mode, "sync"
+        try:
+            return self.start_refine()
+        finally:
+            self.runner.mode = mode
+
+    def cancel_refine(self):
+        """Stop a running refinement; the best state so far is offered as its result."""
+        self.runner.cancel()
+        self.progress.value = "cancelling …"
+
+    def _finish(self, result, error):
+        self.refine_button.disabled = False
+        self.cancel_button.disabled = True
+        if error is not None:
+            self.progress.value = ""
+            self.state.say(f"refinement failed: {error}")
+            return
+        self.refine_result = result
+        self.progress.value = f"done: {result.nfev} model evaluations"
+        self.result_html.value = self._result_table(result)
+        self.result_actions.layout.display = None
+
+    def _result_table(self, res):
+        start = self._refine_start
+        rows = []
+        for p, err in zip(res.parameters, res.uncertainties):
+            unit = html.escape(unit_text(p.unit))
+            at_edge = " ⚠ at a bound" if (math.isclose(p.value, p.lo) or math.isclose(p.value, p.hi)) else ""
+            rows.append(f"<tr><td>{html.escape(p.path)}</td><td>{_fmt(get_value(start, p.path))}</td>"
+                        f"<td><b>{_fmt(p.value)}</b></td><td>± {_fmt(float(err))}</td><td>{unit}"
+                        f"<span style='color:{OKABE_ITO['vermillion']}'>{at_edge}</span></td></tr>")
+        colour = OKABE_ITO["bluish_green"] if res.chi2_after < res.chi2_before else MUTED
+        return (f"<style>.dx-refine-table td, .dx-refine-table th {{padding: 1px 8px; text-align: right}}"
+                f" .dx-refine-table td:first-child {{text-align: left}}</style>"
+                f"<div style='font-size:12px;color:{INK}'>χ² {res.chi2_before:,.6g} → "
+                f"<b style='color:{colour}'>{res.chi2_after:,.6g}</b> "
+                f"<span style='color:{MUTED}'>({html.escape(str(res.message))})</span>"
+                f"<table class='dx-refine-table' style='border-collapse:collapse;margin-top:4px'>"
+                f"<tr style='color:{ACCENT}'><th align=left>parameter</th><th>start</th><th>refined</th>"
+                f"<th>1σ</th><th></th></tr>{''.join(rows)}</table>"
+                f"<div style='color:{MUTED};font-size:11px'>1σ from (JᵀJ)⁻¹, not rescaled by χ²/N; "
+                "the model is unchanged until you accept</div></div>")
+
+    def accept(self):
+        """Put the refined values into the model (and so into the controls).
+
+        Returns
+        -------
+        bool
+        """
+        res = self.refine_result
+        if res is None:
+            return False
+        if self.state.scene is self._refine_start:
+            scene = res.scene
+        else:
+            # The user moved something while refinement ran: apply only the refined values.
+            try:
+                scene = set_values(self.state.scene, {p.path: p.value for p in res.parameters})
+            except (DiskExplorerError, IndexError, KeyError) as exc:
+                self.state.say(f"refined values not applied: {exc}")
+                return False
+        self.state.scene = scene
+        self.discard(quiet=True)
+        self.state.say(f"refined values accepted: χ² {res.chi2_before:,.6g} → {res.chi2_after:,.6g}")
+        return True
+
+    def discard(self, quiet=False):
+        """Drop the refinement result; the model stays as it is."""
+        had = self.refine_result is not None
+        self.refine_result = None
+        self.result_html.value = ""
+        self.result_actions.layout.display = "none"
+        if had and not quiet:
+            self.progress.value = "result discarded"
+
+
+def doc_free(doc):
+    """Paths of the free parameters of a starting-point document (document order)."""
+    out = []
+
+    def walk(node, prefix):
+        if isinstance(node, dict):
+            if "free" in node and "value" in node:
+                if node["free"]:
+                    out.append(prefix)
+                return
+            for k, v in node.items():
+                walk(v, f"{prefix}.{k}" if prefix else k)
+        elif isinstance(node, list):
+            for k, v in enumerate(node):
+                walk(v, f"{prefix}.{k}")
+
+    walk(doc.get("scene", {}), "")
+    return out

@@ -1,0 +1,140 @@
+"""Headless tests of the χ² grid panel: a serial scan fills the map, a click moves the model."""
+import time
+import warnings
+
+import numpy as np
+import pytest
+
+from diskexplorer.app import explore
+from diskexplorer.app.debounce import ManualScheduler
+from diskexplorer.app.demo import fallback_data, fallback_scene
+from diskexplorer.app.scan_panel import cell_edges, default_range
+from diskexplorer.fitting import Comparison
+
+SCAN_PAGE = 4
+
+
+@pytest.fixture(scope="module")
+def material():
+    scene = fallback_scene()
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")  # the synthetic sets share an array name on purpose
+        data = fallback_data(scene)
+    return scene, data
+
+
+def _app(material, jobs="sync"):
+    scene, data = material
+    app = explore(data=dict(data), scene=scene, scheduler=ManualScheduler(), jobs=jobs)
+    app.figure_tabs.selected_index = SCAN_PAGE
+    return app
+
+
+def settle(app):
+    app.debouncer.scheduler.advance(1.0)
+
+
+def _set_axes(panel, n=3):
+    panel.x_axis.path.value = "rings.0.r_in"
+    panel.y_axis.path.value = "rings.0.t_in"
+    panel.x_axis.lo.value, panel.x_axis.hi.value, panel.x_axis.n.value, panel.x_axis.log.value = 0.3, 0.42, n, True
+    panel.y_axis.lo.value, panel.y_axis.hi.value, panel.y_axis.n.value = 1400.0, 1600.0, n
+    panel.scheduler.value = "serial"
+
+
+def test_building_the_app_starts_no_cluster(material):
+    app = _app(material)
+    assert app.scan_panel._clients == {}
+    assert app.scan_panel.scheduler.value == "local"
+    assert "rings.0.r_in" in app.scan_panel.x_axis.path.options
+
+
+def test_cell_edges_and_default_range():
+    assert cell_edges([1.0, 2.0, 3.0]) == pytest.approx([0.5, 1.5, 2.5, 3.5])
+    assert cell_edges([1.0, 10.0, 100.0], log=True) == pytest.approx([10 ** -0.5, 10 ** 0.5, 10 ** 1.5, 10 ** 2.5])
+    lo, hi, log = default_range("rings.0.r_in", 0.4)
+    assert log and lo == pytest.approx(0.4 / 1.2) and hi == pytest.approx(0.48)
+
+
+def test_serial_scan_fills_the_map_and_a_click_sets_the_scene(material):
+    app = _app(material)
+    panel = app.scan_panel
+    _set_axes(panel)
+    scene = app.state.scene
+    assert panel.scan_now()
+    assert app.state.scene is scene  # a scan never moves the model
+    assert len(panel.datasets) == 3  # one block per row: the map was redrawn as rows arrived
+    assert np.all(np.isfinite(panel.chi2)) and panel.chi2.shape == (3, 3)
+    assert np.asarray(panel.heat.color).shape == (3, 3) and panel.heat.visible
+    assert np.asarray(panel.heat.column).size == 4 and np.asarray(panel.heat.row).size == 4
+    assert panel.best.visible and "complete: 9 of 9" in panel.progress.value
+    # χ² of a grid point equals the core's comparison at that point
+    from diskexplorer.fitting.paths import set_values
+
+    _, ys, _, xs = panel.axes
+    ref = app.view.comparison.compare(set_values(scene, {"rings.0.t_in": ys[1], "rings.0.r_in": xs[2]})).total
+    assert panel.chi2[1, 2] == pytest.approx(ref, rel=1e-12)
+    i, j = np.unravel_index(np.argmin(panel.chi2), panel.chi2.shape)
+    assert panel.best.x[0] == pytest.approx(xs[j]) and panel.best.y[0] == pytest.approx(ys[i])
+    assert "2.30" in panel.levels.value and "6.18" in panel.levels.value
+    # clicking a cell: the message the browser sends with interactions={"click": "select"}
+    panel.heat.set_state({"selected": [[2, 0]]})
+    assert app.state.scene.rings[0].t_in == pytest.approx(ys[2])
+    assert app.state.scene.rings[0].r_in == pytest.approx(xs[0])
+    assert app.ring_deck.cards[0].controls["t_in"].value == pytest.approx(ys[2])
+    assert "grid point" in app.message.value
+    settle(app)
+    assert app.frame.result.total == pytest.approx(panel.chi2[2, 0], rel=1e-12)
+
+
+def test_ranges_around_the_model(material):
+    app = _app(material)
+    panel = app.scan_panel
+    panel.x_axis.path.value = "rings.0.t_in"
+    app.ring_deck.cards[0].controls["t_in"].number.value = 1200.0
+    panel.centre_button.click()
+    assert panel.x_axis.lo.value < 1200.0 < panel.x_axis.hi.value
+    assert (panel.x_axis.lo.value + panel.x_axis.hi.value) / 2 == pytest.approx(1200.0)
+
+
+def test_bad_input_is_refused_with_a_message(material):
+    app = _app(material)
+    panel = app.scan_panel
+    _set_axes(panel)
+    panel.y_axis.path.value = "rings.0.r_in"
+    assert not panel.scan_now() and "two different" in app.message.value
+    _set_axes(panel)
+    panel.x_axis.lo.value = -1.0
+    panel.x_axis.log.value = False
+    assert not panel.scan_now() and "rings.0.r_in" in app.message.value
+    _set_axes(panel)
+    panel.scheduler.value = "somewhere"
+    assert not panel.scan_now() and "tcp://" in app.message.value
+    assert panel._clients == {}
+
+
+class _SlowComparison(Comparison):
+    """The real comparison, 15 ms slower per model."""
+
+    def compare(self, scene):
+        time.sleep(0.015)
+        return super().compare(scene)
+
+
+def test_cancel_keeps_the_rows_done(material):
+    app = _app(material, jobs="thread")
+    panel = app.scan_panel
+    view = app.view
+    slow = _SlowComparison(view.observations, view.photometry, view.spectrum)
+    panel._comparison = lambda: slow
+    _set_axes(panel, n=8)
+    panel.start_button.click()
+    t0 = time.time()
+    while len(panel.datasets) < 2 and time.time() - t0 < 15:
+        time.sleep(0.01)
+    panel.cancel_button.click()
+    assert panel.runner.wait(15)
+    done_rows = int(np.sum(np.all(np.isfinite(panel.chi2), axis=1)))
+    assert 2 <= done_rows < 8 and np.isnan(panel.chi2[-1]).all()
+    assert panel.progress.value.startswith("cancelled")
+    assert not panel.start_button.disabled
