@@ -23,7 +23,12 @@ VIEWS = [
     ("structure.png", ["disk structure"]),
     ("data_panel.png", ["data"]),
     ("pins_session.png", ["pins & session"]),
+    ("export.png", ["starting point"]),
+    ("scan.png", ["χ² grid", "start scan"]),
+    ("derived.png", ["derived quantities"]),
 ]
+# Extra waiting after the last click (a scan on the local cluster takes a while).
+WAIT_MS = {"scan.png": 45_000}
 
 
 def main(extra_views=()):
@@ -52,6 +57,7 @@ def main(extra_views=()):
                 for label in tabs:
                     page.get_by_text(label, exact=True).first.click()
                     page.wait_for_timeout(2500)
+                page.wait_for_timeout(WAIT_MS.get(name, 0))
                 page.screenshot(path=str(SHOTS / name), full_page=False)
                 print(f"wrote {SHOTS / name}")
                 page.close()

@@ -27,7 +27,7 @@ class ProfilesFigure:
             sx = bq.LogScale()
             sy = bq.LogScale() if ylog else bq.LinearScale()
             line = bq.Lines(x=EMPTY, y=EMPTY, scales={"x": sx, "y": sy}, stroke_width=2, display_legend=(key == "temperature"))
-            ax = axis(sx, "r [au]")
+            ax = axis(sx, "r [au]", tick_values=[0.03, 0.1, 0.3, 1, 3, 10, 30, 100])
             fig = new_figure(title, [line], [ax, axis(sy, ylabel, "vertical", tick_format=".2~e" if key == "intensity" else ".3~g")],
                              f"dx-fig-profile-{key}", height="250px")
             self.parts[key] = {"line": line, "figure": fig, "ax": ax}
@@ -89,7 +89,7 @@ class ImageFigure:
                                   default_size=12, align="middle")
         self.figure = new_figure("model image", [self.heat, self.outlines, self.bar, self.bar_label],
                                  [axis(self.sx, "Δα (East ←) [mas]"), axis(self.sy, "Δδ (North ↑) [mas]", "vertical"),
-                                  bq.ColorAxis(scale=self.colour, label="log₁₀ I / I_max", side="right")],
+                                  bq.ColorAxis(scale=self.colour, label="log₁₀ I", side="right")],
                                  "dx-fig-image", height="440px")
         # Equal scales on both axes, so an inclined ring keeps its true shape and angle.
         self.figure.min_aspect_ratio = 1.0
