@@ -77,11 +77,66 @@ def load_into_state(state, kind, paths, add=False):
     return True
 
 
+class SpeciesForm(w.VBox):
+    """Register a dust species of the user's from optical constants or a κ table.
+
+    Parameters
+    ----------
+    state : ExplorerState
+        Messages go to ``state.notice``.
+    on_added : callable
+        Called with the new species name (the explorer adds it to every mixture editor).
+
+    Notes
+    -----
+    The species lives for this session's Python process (as
+    :func:`diskexplorer.dust.register_species` does); sessions record mixtures by name.
+    """
+
+    def __init__(self, state, on_added):
+        self.state = state
+        self._on_added = on_added
+        self.name = w.Text(placeholder="name, e.g. my_glass", layout={"width": "160px"})
+        self.source_kind = w.ToggleButtons(options=[("n, k file", "nk"), ("κ table", "kappa")], value="nk",
+                                           style={"button_width": "80px"})
+        self.path = w.Text(placeholder="file path", layout={"width": "250px"})
+        self.density = w.BoundedFloatText(value=3.0, min=0.1, max=25.0, step=0.1, description="ρ [g cm⁻³]",
+                                          style={"description_width": "70px"}, layout={"width": "150px"})
+        self.add_button = w.Button(description="add species", layout={"width": "100px"})
+        self.add_button.on_click(lambda b: self.add())
+        super().__init__([w.HTML("<div class='dx-section-title'>add a dust species</div>"),
+                          w.HBox([self.name, self.source_kind]), w.HBox([self.path]),
+                          w.HBox([self.density, self.add_button])])
+        self.add_class("dx-species-form")
+
+    def add(self):
+        """Register the species described by the form; True on success."""
+        from ..dust import register_species
+        from ..errors import DiskExplorerError
+
+        name = self.name.value.strip()
+        path = self.path.value.strip()
+        try:
+            if not name or not path:
+                raise DiskExplorerError("give a species name and a file")
+            if self.source_kind.value == "nk":
+                register_species(name, nk=path, density=float(self.density.value), source=path)
+            else:
+                register_species(name, kappa=path, source=path)
+        except (DiskExplorerError, OSError, ValueError) as exc:
+            self.state.notice = f"error: species not added: {exc}"
+            return False
+        self.state.notice = f"added dust species {name!r} from {path}; mixtures now offer it"
+        self._on_added(name)
+        return True
+
+
 class DataPanel(w.VBox):
     """Path box, upload, filters (band, instrument, baseline range) and a summary."""
 
-    def __init__(self, state):
+    def __init__(self, state, on_species_added=lambda name: None):
         self.state = state
+        self.species_form = SpeciesForm(state, on_species_added)
         self.kind = w.ToggleButtons(options=KINDS, value="oifits", style={"button_width": "92px"})
         self.path = w.Text(placeholder="path(s), comma-separated", layout={"width": "250px"})
         self.path.add_class("dx-path")
@@ -106,7 +161,7 @@ class DataPanel(w.VBox):
             w.HTML("<div class='dx-section-title'>load data</div>"), self.kind,
             w.HBox([self.path, self.load_button]), w.HBox([self.upload, self.add_box]),
             w.HTML("<div class='dx-section-title'>filters</div>"), w.HBox([self.bands, self.instruments]),
-            self.baselines, self.summary])
+            self.baselines, self.summary, self.species_form])
         self.add_class("dx-data-panel")
         state.observe(lambda ch: self.sync(), ["observations", "photometry", "spectrum"])
         self.sync()

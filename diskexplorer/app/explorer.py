@@ -137,7 +137,7 @@ class Explorer(w.VBox):
         self.geometry_panel = GeometryPanel(st)
         self.extended_panel = ExtendedPanel(st)
         self.ring_deck = RingDeck(st)
-        self.data_panel = DataPanel(st)
+        self.data_panel = DataPanel(st, on_species_added=self._on_species_added)
         self.pin_board = PinBoard(st)
         self.session_panel = SessionPanel(st)
         # Long jobs (refinement, scans) run in background threads unless ``jobs="sync"``.
@@ -203,6 +203,10 @@ class Explorer(w.VBox):
         self.add_class("dx-root")
 
     # ------------------------------------------------------------------ the loop
+    def _on_species_added(self, name):
+        for card in self.ring_deck.cards:
+            card.mixture.add_species(name)
+
     def _on_notice(self, change):
         text = change["new"]
         self.message.value = "" if not text else (

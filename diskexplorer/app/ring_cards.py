@@ -86,16 +86,9 @@ class MixtureEditor(w.VBox):
         self.species = _species()
         frac_spec = ParameterSpec(name="fraction", unit="", label="f", description="mass fraction",
                                   valid=(0.0, 1.0), closed=(True, True), bounds=(0.0, 1.0))
+        self._frac_spec = frac_spec
         self.fraction_controls = {}
-        rows = []
-        for sp in self.species:
-            c = ParamControl(replace(frac_spec, label=sp.replace("_", " ")), 0.0,
-                             (lambda s: lambda v: self._on_fraction(s, v))(sp), step=0.01)
-            c.label.layout.width = "120px"
-            c.slider.layout.width = "140px"
-            c.number.layout.width = "70px"
-            self.fraction_controls[sp] = c
-            rows.append(c)
+        rows = [self._fraction_row(sp) for sp in self.species]
         self.opaque = w.Checkbox(value=dust is None, description="opaque (no dust opacity)", indent=False)
         self.opaque.observe(self._on_opaque, "value")
         self.size = w.Dropdown(options=[(f"{s:g} µm", s) for s in _sizes(self.species)], description="grain radius",
@@ -109,6 +102,24 @@ class MixtureEditor(w.VBox):
         super().__init__([self.opaque, self.body])
         self.add_class("dx-mixture")
         self.sync(dust)
+
+    def _fraction_row(self, species):
+        c = ParamControl(replace(self._frac_spec, label=species.replace("_", " ")), 0.0,
+                         lambda v: self._on_fraction(species, v), step=0.01)
+        c.label.layout.width = "120px"
+        c.slider.layout.width = "140px"
+        c.number.layout.width = "70px"
+        self.fraction_controls[species] = c
+        return c
+
+    def add_species(self, species):
+        """Offer a newly registered species (fraction 0) below the others."""
+        if species in self.fraction_controls:
+            return
+        self.species.append(species)
+        row = self._fraction_row(species)
+        children = list(self.body.children)
+        self.body.children = children[:-1] + [row, children[-1]]   # keep the sum line last
 
     # -- reading -------------------------------------------------------------------
     @property
