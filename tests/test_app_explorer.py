@@ -266,6 +266,26 @@ def test_pins_overlay_and_chi2(app):
     assert len(app.state.pins) == 3 and "hot rim" not in app.chi2.widget.value
 
 
+def test_pins_overlay_profiles_image_and_correlated_flux(app):
+    app.state.pin()
+    settle(app)
+    prof = app.figures["profiles"].parts["temperature"]["pin_line"]
+    assert prof.visible and np.isfinite(np.asarray(prof.y, float)).any()
+    outlines = app.figures["image"].pin_outlines
+    n_edges = 2 * sum(r.enabled for r in app.state.scene.rings)
+    assert outlines.visible and np.asarray(outlines.x).shape[0] == n_edges
+    corr = app.figures["corrflux"].pin_lines
+    assert corr.visible and np.allclose(np.asarray(corr.y, float), np.asarray(app.figures["corrflux"].lines.y, float),
+                                        equal_nan=True)
+    # moving the live ring leaves the pinned overlays where they were
+    pinned_t = np.asarray(prof.y, float).copy()
+    app.ring_deck.cards[0].controls["t_in"].slider.value = app.state.scene.rings[0].t_in + 200.0
+    settle(app)
+    np.testing.assert_array_equal(np.asarray(prof.y, float), pinned_t)
+    assert not np.allclose(np.asarray(corr.y, float), np.asarray(app.figures["corrflux"].lines.y, float),
+                           equal_nan=True)
+
+
 def test_session_save_confirm_restore(app, tmp_path):
     path = tmp_path / "s.json"
     panel = app.session_panel

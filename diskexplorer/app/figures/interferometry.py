@@ -203,9 +203,11 @@ class CorrelatedFluxFigure:
         sc = {"x": self.sx, "y": self.sy}
         self.lines = bq.Lines(x=EMPTY, y=EMPTY, scales=sc, stroke_width=1.6, display_legend=True,
                               marker="circle", marker_size=10)
+        self.pin_lines = bq.Lines(x=EMPTY, y=EMPTY, scales=sc, stroke_width=1.2, line_style="dashed",
+                                  visible=False)
         self.data = bq.Scatter(x=EMPTY, y=EMPTY, scales=sc, colors=[OKABE_ITO["vermillion"]], default_size=10,
                                visible=False)
-        self.figure = new_figure("correlated flux per baseline (model)", [self.lines, self.data],
+        self.figure = new_figure("correlated flux per baseline (model)", [self.pin_lines, self.lines, self.data],
                                  [axis(self.sx, "λ [µm]"), axis(self.sy, "|V| F_total [Jy]", "vertical")],
                                  "dx-fig-corrflux", height="300px")
         self.widget = self.figure
@@ -227,6 +229,12 @@ class CorrelatedFluxFigure:
         if not self._groups or frame.result is None:
             assign(self.lines, x=EMPTY, y=EMPTY)
             return
+        xs, ys = self._rows(frame)
+        colours = [RING_COLOURS[k % len(RING_COLOURS)] for k in range(len(self._groups))]
+        assign(self.lines, x=xs, y=ys, colors=colours, labels=[g["label"] for g in self._groups])
+
+    def _rows(self, frame):
+        """(λ, |V| F_total) per chosen baseline, NaN-padded rows."""
         corr = frame.result.prediction.correlated_flux
         wl = frame.wavelength_vis2
         n = max(g["index"].size for g in self._groups)
@@ -236,11 +244,19 @@ class CorrelatedFluxFigure:
             idx = g["index"]
             xs[k, :idx.size] = wl[idx]
             ys[k, :idx.size] = corr[idx]
-        colours = [RING_COLOURS[k % len(RING_COLOURS)] for k in range(len(self._groups))]
-        assign(self.lines, x=xs, y=ys, colors=colours, labels=[g["label"] for g in self._groups])
+        return xs, ys
 
     def update_pins(self, pins):
-        """Pins are not overlaid here (one line per baseline is busy enough)."""
+        """Each pin's correlated fluxes on the same baselines, dashed in the pin's colour."""
+        rows = [(self._rows(f), c) for _, c, f in pins
+                if self._groups and f.result is not None and f.wavelength_vis2 is not None]
+        if not rows:
+            assign(self.pin_lines, visible=False)
+            return
+        xs = np.vstack([r[0][0] for r in rows])
+        ys = np.vstack([r[0][1] for r in rows])
+        cols = [c for (x, _), c in rows for _ in range(x.shape[0])]
+        assign(self.pin_lines, x=xs, y=ys, colors=cols, opacities=[0.55] * len(cols), visible=True)
 
     def apply_style(self, state):
         """No toggles."""

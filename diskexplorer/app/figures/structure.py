@@ -8,7 +8,7 @@ import ipywidgets as w
 import numpy as np
 
 from ...physics.constants import ARCSEC_RAD, RAD_PER_MAS
-from ..model_views import ring_outline
+from ..model_views import profiles, ring_outline
 from ..palette import BRIGHTNESS_SCHEME, INK, ring_colour
 from .base import EMPTY, assign, axis, new_figure, swap_scale
 
@@ -27,12 +27,16 @@ class ProfilesFigure:
             sx = bq.LogScale()
             sy = bq.LogScale() if ylog else bq.LinearScale()
             line = bq.Lines(x=EMPTY, y=EMPTY, scales={"x": sx, "y": sy}, stroke_width=2, display_legend=(key == "temperature"))
+            pin_line = bq.Lines(x=EMPTY, y=EMPTY, scales={"x": sx, "y": sy}, stroke_width=1.4,
+                                line_style="dashed", visible=False)
             ax = axis(sx, "r [au]", tick_values=[0.03, 0.1, 0.3, 1, 3, 10, 30, 100])
-            fig = new_figure(title, [line], [ax, axis(sy, ylabel, "vertical", tick_format=".2~e" if key == "intensity" else ".3~g")],
+            fig = new_figure(title, [pin_line, line], [ax, axis(sy, ylabel, "vertical", tick_format=".2~e" if key == "intensity" else ".3~g")],
                              f"dx-fig-profile-{key}", height="250px")
-            self.parts[key] = {"line": line, "figure": fig, "ax": ax}
+            self.parts[key] = {"line": line, "pin_line": pin_line, "figure": fig, "ax": ax}
             figs.append(fig)
         self.widget = w.HBox(figs, layout={"width": "100%"})
+        self._pins = []
+        self._wavelength = 10.0
 
     def update_data(self, view):
         """Profiles do not depend on the data."""
@@ -52,9 +56,36 @@ class ProfilesFigure:
             assign(part["line"], x=r, y=y, colors=colours, labels=labels)
         assign(self.parts["intensity"]["figure"],
                title=f"brightness at {prof['intensity'].attrs.get('wavelength_um', 0):.3g} µm")
+        wavelength = float(prof["intensity"].attrs.get("wavelength_um", self._wavelength))
+        if wavelength != self._wavelength:
+            self._wavelength = wavelength
+            self._draw_pins()
 
     def update_pins(self, pins):
-        """No pin overlays on profiles."""
+        """Each pin's ring profiles, dashed in the pin's colour (``pins``: (name, colour, frame))."""
+        self._pins = list(pins)
+        self._draw_pins()
+
+    def _draw_pins(self):
+        rows = {key: ([], []) for key in self.parts}
+        colours = []
+        for _, colour, frame in self._pins:
+            if not frame.scene.rings:
+                continue
+            prof = profiles(frame.scene, self._wavelength)
+            r = prof["radius"].values
+            for k in range(prof.sizes["ring"]):
+                colours.append(colour)
+                for key in self.parts:
+                    y = prof[key].values[k]
+                    rows[key][0].append(r)
+                    rows[key][1].append(np.where(np.isfinite(y) & (y > 0), y, np.nan))
+        for key, part in self.parts.items():
+            if not colours:
+                assign(part["pin_line"], visible=False)
+                continue
+            assign(part["pin_line"], x=np.vstack(rows[key][0]), y=np.vstack(rows[key][1]), colors=colours,
+                   opacities=[0.6] * len(colours), visible=True)
 
     def apply_style(self, state):
         """Log or linear radius axes from ``state.log_profiles``."""
@@ -84,16 +115,16 @@ class ImageFigure:
                                scales={"x": self.sx, "y": self.sy, "color": self.colour})
         xy = {"x": self.sx, "y": self.sy}
         self.outlines = bq.Lines(x=EMPTY, y=EMPTY, scales=xy, stroke_width=1.1, line_style="dashed")
+        self.pin_outlines = bq.Lines(x=EMPTY, y=EMPTY, scales=xy, stroke_width=1.3, line_style="dotted",
+                                     visible=False)
         self.bar = bq.Lines(x=EMPTY, y=EMPTY, scales=xy, colors=[INK], stroke_width=3)
         self.bar_label = bq.Label(x=[0.0], y=[0.0], text=[""], scales=xy, colors=[INK], font_weight="bolder",
                                   default_size=12, align="middle")
-        self.figure = new_figure("model image", [self.heat, self.outlines, self.bar, self.bar_label],
+        self.figure = new_figure("model image", [self.heat, self.pin_outlines, self.outlines, self.bar, self.bar_label],
                                  [axis(self.sx, "Δα (East ←) [mas]"), axis(self.sy, "Δδ (North ↑) [mas]", "vertical"),
                                   bq.ColorAxis(scale=self.colour, label="log₁₀ I", side="right")],
                                  "dx-fig-image", height="440px")
         # Equal scales on both axes, so an inclined ring keeps its true shape and angle.
-        self.figure.min_aspect_ratio = 1.0
-        self.figure.max_aspect_ratio = 1.0
         self.figure.layout.width = "470px"
         self.figure.fig_margin = {"top": 34, "bottom": 48, "left": 62, "right": 80}
         self.figure.min_aspect_ratio = 1.0
@@ -142,7 +173,23 @@ class ImageFigure:
         assign(self.figure, title=f"model image at {img.attrs.get('wavelength_um', 0):.3g} µm")
 
     def update_pins(self, pins):
-        """No pin overlays on the image."""
+        """The pinned states' ring edges, dotted in each pin's colour, over the live image."""
+        xs, ys, cols = [], [], []
+        for _, colour, frame in pins:
+            sc = frame.scene
+            mas_per_au = ARCSEC_RAD / sc.distance / RAD_PER_MAS
+            for ring in sc.rings:
+                if not ring.enabled:
+                    continue
+                for rad in (ring.r_in, ring.r_out):
+                    ox, oy = ring_outline(rad * mas_per_au, sc.inclination, sc.position_angle)
+                    xs.append(ox)
+                    ys.append(oy)
+                    cols.append(colour)
+        if xs:
+            assign(self.pin_outlines, x=np.vstack(xs), y=np.vstack(ys), colors=cols, visible=True)
+        else:
+            assign(self.pin_outlines, visible=False)
 
     def apply_style(self, state):
         """No toggles."""
