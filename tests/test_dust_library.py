@@ -128,7 +128,7 @@ def test_mixture_hashable_and_equal_by_value():
     assert isinstance(a.fractions, tuple) and all(isinstance(p, tuple) for p in a.fractions)
     # Zero fractions drop out, so a slider at 0 gives the same mixture as leaving it out.
     assert DustMix({"olivine_glass": 1.0, "iron": 0.0}) == DustMix({"olivine_glass": 1.0})
-    # Round trip through the plain-data form (what a seed document stores).
+    # Round trip through the plain-data form (what a starting-point document stores).
     assert dust.resolve_dust(json.loads(json.dumps(a.as_dict()))) == a
 
 
