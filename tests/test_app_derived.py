@@ -1,23 +1,12 @@
 """Headless tests of the derived-quantities panel."""
-import warnings
 
 import pytest
 
 from diskexplorer.app import explore
 from diskexplorer.app.debounce import ManualScheduler
-from diskexplorer.app.demo import fallback_data, fallback_scene
 from diskexplorer.physics import derived
 
 DERIVED_PAGE = 5
-
-
-@pytest.fixture(scope="module")
-def material():
-    scene = fallback_scene()
-    with warnings.catch_warnings():
-        warnings.simplefilter("ignore")  # the synthetic sets share an array name on purpose
-        data = fallback_data(scene)
-    return scene, data
 
 
 @pytest.fixture

@@ -1,25 +1,14 @@
 """Headless tests of the starting-point panel: table → state → document, save, import, refinement."""
 import json
 import time
-import warnings
 
 import pytest
 
 from diskexplorer.app import explore
 from diskexplorer.app.debounce import ManualScheduler
-from diskexplorer.app.demo import fallback_data, fallback_scene
 from diskexplorer.fitting import Comparison, read_start
 
 START_PAGE = 3
-
-
-@pytest.fixture(scope="module")
-def material():
-    scene = fallback_scene()
-    with warnings.catch_warnings():
-        warnings.simplefilter("ignore")  # the synthetic sets share an array name on purpose
-        data = fallback_data(scene)
-    return scene, data
 
 
 def _app(material, jobs="sync"):

@@ -1,26 +1,15 @@
 """Headless tests of the χ² grid panel: a serial scan fills the map, a click moves the model."""
 import time
-import warnings
 
 import numpy as np
 import pytest
 
 from diskexplorer.app import explore
 from diskexplorer.app.debounce import ManualScheduler
-from diskexplorer.app.demo import fallback_data, fallback_scene
 from diskexplorer.app.scan_panel import cell_edges, default_range
 from diskexplorer.fitting import Comparison
 
 SCAN_PAGE = 4
-
-
-@pytest.fixture(scope="module")
-def material():
-    scene = fallback_scene()
-    with warnings.catch_warnings():
-        warnings.simplefilter("ignore")  # the synthetic sets share an array name on purpose
-        data = fallback_data(scene)
-    return scene, data
 
 
 def _app(material, jobs="sync"):

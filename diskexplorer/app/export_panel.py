@@ -25,6 +25,7 @@ from .background import JobRunner, Throttle
 from .controls import unit_text
 from .figures.base import assign as _assign
 from .palette import ACCENT, INK, MUTED, OKABE_ITO
+from .overwrite_guard import OverwriteGuard
 
 __all__ = ["ExportPanel", "clean_fit_setup", "describe_state_data", "doc_free", "WEIGHT_KINDS"]
 
@@ -227,15 +228,11 @@ class ExportPanel(w.VBox):
         self.path.add_class("dx-start-path")
         self.save_button = w.Button(description="save", layout={"width": "64px"})
         self.import_button = w.Button(description="import", layout={"width": "70px"})
-        self.confirm_text = w.HTML()
-        self.overwrite_button = w.Button(description="overwrite", button_style="warning", layout={"width": "90px"})
-        self.keep_button = w.Button(description="keep the file", layout={"width": "110px"})
-        self.confirm = w.HBox([self.confirm_text, self.overwrite_button, self.keep_button],
-                              layout={"display": "none"})
+        self.confirm = OverwriteGuard(lambda: self.save(overwrite=True))
+        # the confirm row's buttons, by the names tests and callers use
+        self.overwrite_button, self.keep_button = self.confirm.overwrite_button, self.confirm.keep_button
         self.save_button.on_click(lambda b: self.save())
         self.import_button.on_click(lambda b: self.import_start())
-        self.overwrite_button.on_click(lambda b: self.save(overwrite=True))
-        self.keep_button.on_click(lambda b: self._hide_confirm())
         self.view = w.ToggleButtons(options=[("document", "document"), ("Python snippet", "snippet")],
                                     value="document", style={"button_width": "110px"})
         self.view.observe(lambda ch: self._show_view(), "value")
@@ -440,7 +437,7 @@ class ExportPanel(w.VBox):
 
     # ------------------------------------------------------------------ save / import
     def _hide_confirm(self):
-        self.confirm.layout.display = "none"
+        self.confirm.hide()
 
     def save(self, overwrite=False):
         """Write the document to the path box; an existing file needs explicit confirmation.
@@ -462,8 +459,7 @@ class ExportPanel(w.VBox):
             doc = self.build_document()
             written = write_start(path, doc, overwrite=overwrite)
         except FileExistsError:
-            self.confirm_text.value = f"<b>{html.escape(path)}</b> exists. Overwrite it?&nbsp;"
-            self.confirm.layout.display = None
+            self.confirm.ask(path)
             return False
         except (OSError, DiskExplorerError) as exc:
             self.state.say(f"starting point not saved: {exc}")

@@ -1,13 +1,13 @@
 """Save and restore a session file, asking before an existing file is overwritten."""
 from __future__ import annotations
 
-import html
 import math
 
 import ipywidgets as w
 
 from ..errors import DiskExplorerError
 from .data_panel import load_into_state
+from .overwrite_guard import OverwriteGuard
 from .session import (VIEW_SETTINGS, read_session, scene_from_dict, session_to_dict, write_session)
 
 __all__ = ["SessionPanel", "restore_session"]
@@ -50,20 +50,16 @@ class SessionPanel(w.VBox):
         self.path = w.Text(value="diskexplorer-session.json", layout={"width": "250px"})
         self.save_button = w.Button(description="save", layout={"width": "70px"})
         self.restore_button = w.Button(description="restore", layout={"width": "70px"})
-        self.confirm_text = w.HTML()
-        self.overwrite_button = w.Button(description="overwrite", button_style="warning", layout={"width": "90px"})
-        self.cancel_button = w.Button(description="keep the file", layout={"width": "110px"})
-        self.confirm = w.HBox([self.confirm_text, self.overwrite_button, self.cancel_button],
-                              layout={"display": "none"})
+        self.confirm = OverwriteGuard(lambda: self.save(overwrite=True))
+        # the confirm row's buttons, by the names tests and callers use
+        self.overwrite_button, self.cancel_button = self.confirm.overwrite_button, self.confirm.keep_button
         self.save_button.on_click(lambda b: self.save())
         self.restore_button.on_click(lambda b: self.restore())
-        self.overwrite_button.on_click(lambda b: self.save(overwrite=True))
-        self.cancel_button.on_click(lambda b: self._hide_confirm())
         super().__init__([w.HTML("<div class='dx-section-title'>session</div>"),
                           w.HBox([self.path, self.save_button, self.restore_button]), self.confirm])
 
     def _hide_confirm(self):
-        self.confirm.layout.display = "none"
+        self.confirm.hide()
 
     def save(self, overwrite=False):
         """Write the session; if the file exists and ``overwrite`` is False, ask first.
@@ -76,8 +72,7 @@ class SessionPanel(w.VBox):
         try:
             path = write_session(self.path.value, session_to_dict(self.state), overwrite=overwrite)
         except FileExistsError:
-            self.confirm_text.value = f"<b>{html.escape(self.path.value)}</b> exists. Overwrite it?&nbsp;"
-            self.confirm.layout.display = None
+            self.confirm.ask(self.path.value)
             return False
         except (OSError, DiskExplorerError) as exc:
             self.state.say(f"session not saved: {exc}")
