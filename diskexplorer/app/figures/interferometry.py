@@ -51,13 +51,13 @@ class _PointsFigure:
                                   opacities=[0.45])
         self.ax = axis(self.sx, "spatial frequency B/λ [Mλ]")
         self.ay = axis(self.sy, self.ylabel, "vertical")
-        self.cax = bq.ColorAxis(scale=self.colour, label="λ [µm]", side="right",
-                                label_color=MUTED, tick_style={"font-size": "9px"})
+        # The wavelength key is written into the title: bqplot 0.13 draws a colour axis in
+        # this layout as a few pixels wide, unreadable.
         self.extra_marks = []
         self._build_extra(sc)
         self.figure = new_figure(self.title, [self.errors, self.data, self.pin_marks] + self.extra_marks
-                                 + [self.model], [self.ax, self.ay, self.cax], self.css)
-        self.figure.fig_margin = {"top": 34, "bottom": 48, "left": 62, "right": 70}
+                                 + [self.model], [self.ax, self.ay], self.css)
+        self.figure.fig_margin = {"top": 34, "bottom": 48, "left": 62, "right": 24}
         self.rx, self.ry = bq.LinearScale(), bq.LinearScale()
         # Residuals: ticks grouped into wavelength bins, one coloured path per bin.
         self.residuals = bq.Lines(x=EMPTY, y=EMPTY, scales={"x": self.rx, "y": self.ry}, stroke_width=2.4,
@@ -84,7 +84,8 @@ class _PointsFigure:
             self._shown = np.arange(0, n, int(np.ceil(n / MAX_DRAWN))) if n > MAX_DRAWN else slice(None)
             pts = {k: v[self._shown] for k, v in pts.items()}
             title = self.title if n <= MAX_DRAWN else f"{self.title} (drawn: {pts['freq'].size:,} of {n:,} points)"
-            assign(self.figure, title=title)
+            lo, hi = view.wavelength_range
+            assign(self.figure, title=f"{title} — colour: λ from {lo:.3g} µm (purple) to {hi:.3g} µm (red)")
         self._points = pts
         if pts is None:
             for m in (self.data, self.errors, self.model, self.residuals):
