@@ -94,6 +94,20 @@ class Evaluation:
     def flux_total(self):
         return self.flux_star + sum(self.flux_rings, np.zeros_like(self.flux_star)) + self.flux_extended
 
+    def components(self, ring_names, index=None):
+        """Flux densities (Jy) by component: "star", one per ring name, "extended", "total".
+
+        ``index`` maps points to the sampling's distinct wavelengths (``Sampling.wave_index``);
+        without it the arrays are per distinct wavelength.
+        """
+        pick = (lambda a: a) if index is None else (lambda a: a[index])
+        out = {"star": pick(self.flux_star)}
+        for name, flux in zip(ring_names, self.flux_rings):
+            out[name] = pick(flux)
+        out["extended"] = pick(self.flux_extended)
+        out["total"] = pick(self.flux_total)
+        return out
+
 
 def _geometry_frequencies(sampling, inclination, position_angle):
     """Face-on spatial frequency ρ (rad⁻¹) and its azimuth ψ in the disk frame."""

@@ -6,6 +6,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from .engine import Evaluator, Sampling
+from .scene import ring_labels
 
 __all__ = ["Observer", "Prediction"]
 
@@ -82,8 +83,6 @@ class Observer:
 
     def observe(self, scene) -> Prediction:
         """All predictions for ``scene``."""
-        from .scene import ring_labels
-
         nv, nt = self.n_vis, self.n_t3
         if self.interferometric is not None:
             ev = self.interferometric.evaluate(scene)
@@ -96,13 +95,8 @@ class Observer:
             flux_at_vis = np.zeros(0)
         sed = {}
         if self.photometric is not None:
-            ph = self.photometric.evaluate(scene)
-            idx = self.photometric.sampling.wave_index
-            sed["star"] = ph.flux_star[idx]
-            for name, flux in zip(ring_labels(scene.rings), ph.flux_rings):
-                sed[name] = flux[idx]
-            sed["extended"] = ph.flux_extended[idx]
-            sed["total"] = ph.flux_total[idx]
+            sed = self.photometric.evaluate(scene).components(ring_labels(scene.rings),
+                                                               self.photometric.sampling.wave_index)
         vis2 = vis.real * vis.real + vis.imag * vis.imag
         t3phi = np.arctan2(t3.imag, t3.real)
         t3phi *= 180.0 / np.pi

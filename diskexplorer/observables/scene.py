@@ -127,8 +127,9 @@ class Scene:
 
     def correlated_flux(self, u, v, wavelength):
         """Correlated flux |V| F_total in Jy at (u, v) in m and λ in µm."""
-        ev = self.evaluate(u, v, wavelength)
-        s = evaluator_for(u, v, wavelength).sampling
+        evaluator = evaluator_for(u, v, wavelength)
+        ev = evaluator.evaluate(self)
+        s = evaluator.sampling
         return np.abs(ev.vis) * ev.flux_total[s.wave_index].reshape(s.shape)
 
     def sed_components(self, wavelength):
@@ -141,15 +142,10 @@ class Scene:
             and ``"total"``, each an array of the shape of ``wavelength``.
         """
         lam = np.atleast_1d(np.asarray(wavelength, float))
-        ev = self.evaluate(np.zeros_like(lam), np.zeros_like(lam), lam)
-        s = evaluator_for(np.zeros_like(lam), np.zeros_like(lam), lam).sampling
-        out = {"star": ev.flux_star[s.wave_index]}
-        for name, flux in zip(ring_labels(self.rings), ev.flux_rings):
-            out[name] = flux[s.wave_index]
-        out["extended"] = ev.flux_extended[s.wave_index]
-        out["total"] = ev.flux_total[s.wave_index]
+        evaluator = evaluator_for(np.zeros_like(lam), np.zeros_like(lam), lam)
+        comps = evaluator.evaluate(self).components(ring_labels(self.rings), evaluator.sampling.wave_index)
         shape = np.shape(wavelength)
-        return {k: v.reshape(shape) for k, v in out.items()}
+        return {k: v.reshape(shape) for k, v in comps.items()}
 
     def sed(self, wavelength):
         """Total flux density F_ν in Jy at ``wavelength`` (µm)."""
