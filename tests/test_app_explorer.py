@@ -12,13 +12,6 @@ from diskexplorer.app.demo import demo_material
 from diskexplorer.physics.parameters import parameter_specs
 from diskexplorer.physics.ring import Ring
 
-try:
-    import diskexplorer.dust  # noqa: F401
-    HAVE_DUST = True
-except Exception:  # noqa: BLE001 - dust package unfinished
-    HAVE_DUST = False
-
-
 @pytest.fixture(scope="module")
 def material():
     return demo_material()
@@ -133,7 +126,6 @@ def test_modulation_controls_set_c1_s1(app):
     assert np.nanmax(np.abs(app.figures["t3"].model.y)) > 0.1
 
 
-@pytest.mark.skipif(not HAVE_DUST, reason="dust package not importable")
 def test_mixture_fractions_stay_normalised(app):
     mix = app.ring_deck.cards[0].mixture
     mix.fraction_controls["forsterite"].slider.value = 0.5

@@ -9,16 +9,13 @@ from __future__ import annotations
 
 import numpy as np
 
+from ..dust import DustMix
+
 __all__ = ["demo_material", "fallback_scene", "fallback_data"]
 
 
 def _dust(fractions, grain_size=1.5, shape="dhs"):
-    # The dust package is finished in parallel; a ring without it is a black surface.
-    try:
-        from ..dust import DustMix
-        return DustMix(fractions, grain_size=grain_size, shape=shape)
-    except Exception:  # noqa: BLE001 - any import or library failure means "no dust yet"
-        return None
+    return DustMix(fractions, grain_size=grain_size, shape=shape)
 
 
 def fallback_scene():
@@ -108,14 +105,6 @@ def demo_material():
     (Scene, dict)
         The scene and a dict with ``observations``, ``photometry``, ``spectrum``.
     """
-    try:
-        from .. import sample
-    except ImportError:
-        sample = None
-    if sample is not None:
-        try:
-            return sample.demo_scene(), sample.load_sample_data()
-        except Exception:  # noqa: BLE001 - a half-finished sample must not stop the app
-            pass
-    scene = fallback_scene()
-    return scene, fallback_data(scene)
+    from .. import sample
+
+    return sample.demo_scene(), sample.load_sample_data()

@@ -194,8 +194,6 @@ def default_new_ring(scene):
 
 
 def _default_dust():
-    try:
-        from ..dust import DustMix
-        return DustMix({"olivine_glass": 1.0})
-    except Exception:  # noqa: BLE001 - without the dust package, a black ring
-        return None
+    from ..dust import DustMix
+
+    return DustMix({"olivine_glass": 1.0})
