@@ -11,16 +11,17 @@ Run: .venv/bin/python benchmarks/bench_engine.py
 BLAS runs single-threaded here (as in the app): on 2 shared cores a threaded BLAS makes
 these small products slower and erratic.
 """
-os_env = __import__("os").environ
-os_env.setdefault("OPENBLAS_NUM_THREADS", "1")
-os_env.setdefault("OMP_NUM_THREADS", "1")
 import math
-
+import os
 import statistics
 import time
 
-import numpy as np
-from scipy import special
+# Before numpy loads its BLAS: one thread (see the docstring).
+os.environ.setdefault("OPENBLAS_NUM_THREADS", "1")
+os.environ.setdefault("OMP_NUM_THREADS", "1")
+
+import numpy as np  # noqa: E402
+from scipy import special  # noqa: E402
 
 from diskexplorer import PowerLawOpacity, Ring, Scene, Star
 from diskexplorer.observables import Observer

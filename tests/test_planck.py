@@ -37,7 +37,7 @@ def test_planck_is_overflow_safe_over_the_whole_range():
     with np.errstate(all="raise"):
         b = planck_nu(lam, temp)
     assert np.all(np.isfinite(b)) and np.all(b >= 0)
-    # Rayleigh-Jeans limit 2 k T / lambda^2 at lambda = 1 mm, T = 30000 K (x = 4.8e-4)
+    # Rayleigh-Jeans limit 2 k T / lambda^2 (standard textbook form; FROM MEMORY) at 1 mm, 30000 K (x = 4.8e-4)
     rj = 2 * 1.380649e-23 * 30000.0 / (1e-3) ** 2 / 1e-26
     assert planck_nu(1000.0, 30000.0) == pytest.approx(rj, rel=5e-4)
 
