@@ -143,6 +143,7 @@ class Evaluator:
         self._interp = _Cache(4)
         self._points = _Cache(16)
         self._stars = _Cache(4)
+        self._sums = _Cache(8)
 
     # ------------------------------------------------------------------ tiers
     def _grid(self, scene):
@@ -225,20 +226,25 @@ class Evaluator:
         return self._interp.get(key, make)
 
     def _ring_points(self, ring, scene, grid):
-        """Unnormalised complex visibility (Jy) of one ring at every point, and its flux."""
+        """Unnormalised visibility (Jy) of one ring at every point, and its flux per wavelength.
+
+        Real for an axisymmetric ring (its transform is real), complex for a modulated one.
+        """
         key = (ring, scene.distance, scene.inclination, scene.position_angle, grid)
 
         def make():
             h0, h1 = self._ring_transform(ring, scene.distance, scene.inclination, grid)
             matrix, cos_psi, sin_psi = self._interpolation(scene.inclination, scene.position_angle, grid)
-            values = np.empty(self.sampling.size, complex)
-            values.real = matrix @ h0.ravel()
-            if h1 is not None:
+            even = matrix @ h0.ravel()
+            if h1 is None:
+                values = even
+            else:
+                values = np.empty(self.sampling.size, complex)
+                values.real = even
                 # The m = 1 term: ∫ cos φ e^{-iz cos(φ-ψ)} dφ = -2πi J1(z) cos ψ (per unit 2π).
                 values.imag = -(ring.c1 * cos_psi + ring.s1 * sin_psi) * (matrix @ h1.ravel())
-            else:
-                values.imag = 0.0
-            return values, h0[:, 1].copy()
+            values.flags.writeable = False
+            return key, values, h0[:, 1].copy()
 
         return self._points.get(key, make)
 
@@ -255,44 +261,61 @@ class Evaluator:
                 nz = x > 1e-8
                 per_point = per_point.copy()
                 per_point[nz] *= 2.0 * special.j1(x[nz]) / x[nz]
+            per_point.flags.writeable = False
             return flux, per_point
 
         return self._stars.get(key, make)
 
     # ------------------------------------------------------------------ public
+    def _numerator(self, parts):
+        """Σ of the components' unnormalised visibilities (Jy), kept for the last few scenes.
+
+        ``parts`` lists (key, values) per component. Always summed in the scene's order,
+        so the result never depends on which scenes were evaluated before (the sample
+        data are regenerated bit for bit).
+        """
+        if not parts:
+            return np.zeros(self.sampling.size)
+        return self._sums.get(tuple(k for k, _ in parts), lambda: _frozen_sum([v for _, v in parts]))
+
     def evaluate(self, scene) -> Evaluation:
         """Complex visibilities and component fluxes of ``scene`` on this sampling."""
         s = self.sampling
         nwave = s.wavelengths.size
         grid = self._grid(scene)
-        numerator = None
-        flux_rings = []
+        parts, flux_rings = [], []
         for ring in scene.rings:
             if not ring.enabled:
                 flux_rings.append(np.zeros(nwave))
                 continue
-            values, flux = self._ring_points(ring, scene, grid)
-            if numerator is None:
-                numerator = values.copy()
-            else:
-                numerator += values
+            key, values, flux = self._ring_points(ring, scene, grid)
+            parts.append((key, values))
             flux_rings.append(flux)
-        if numerator is None:
-            numerator = np.zeros(s.size, complex)
         if scene.star is not None:
             flux_star, star_points = self._star_points(scene.star, scene.distance)
-            numerator.real += star_points
+            parts.append((("star", scene.star, scene.distance), star_points))
         else:
             flux_star = np.zeros(nwave)
+        numerator = self._numerator(parts)
         compact = flux_star + sum(flux_rings, np.zeros(nwave))
         f_ext = scene.extended_fraction
         flux_ext = compact * (f_ext / (1.0 - f_ext))
         total = compact + flux_ext
         with np.errstate(invalid="ignore", divide="ignore"):
-            numerator *= (1.0 / total)[s.wave_index]
-        vis = numerator
+            # A new array: callers own what they are given; the cached sums stay intact.
+            vis = np.multiply(numerator, (1.0 / total)[s.wave_index], dtype=complex)
         return Evaluation(vis=vis.reshape(s.shape), wavelengths=s.wavelengths,
                           flux_star=flux_star, flux_rings=flux_rings, flux_extended=flux_ext)
+
+
+def _frozen_sum(arrays):
+    """Element-wise sum (real unless some input is complex), returned read-only."""
+    dtype = np.result_type(*arrays)
+    out = np.array(arrays[0], dtype=dtype, copy=True)
+    for a in arrays[1:]:
+        out += a
+    out.flags.writeable = False
+    return out
 
 
 def direct_visibility(scene, u, v, wavelength, accuracy=2):
