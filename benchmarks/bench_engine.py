@@ -50,15 +50,26 @@ def standard_case(seed=1):
     return scene, vis, t3, wl
 
 
-def median_ms(fn, repeat=120, warmup=10):
-    for k in range(warmup):
-        fn(repeat + k)
-    times = []
-    for k in range(repeat):
-        t0 = time.perf_counter()
-        fn(k)
-        times.append(time.perf_counter() - t0)
-    return 1e3 * statistics.median(times)
+ROUNDS, REPEAT, WARMUP = 5, 100, 10
+
+
+def median_ms(fn, repeat=REPEAT, warmup=WARMUP):
+    """Median wall time in ms of fn(k), k = 0 … repeat − 1, after ``warmup`` calls."""
+    return side_by_side({"fn": fn}, repeat, warmup)["fn"]
+
+
+def side_by_side(fns, repeat=REPEAT, warmup=WARMUP, offset=0):
+    """Median ms of each of ``fns`` (name -> fn(k)), called in turn, the order rotating per k."""
+    names = list(fns)
+    times = {name: [] for name in names}
+    for k in range(warmup + repeat):
+        for j in range(len(names)):
+            name = names[(k + j) % len(names)]
+            t0 = time.perf_counter()
+            fns[name](offset + k)
+            if k >= warmup:
+                times[name].append(time.perf_counter() - t0)
+    return {name: 1e3 * statistics.median(t) for name, t in times.items()}
 
 
 def brute_force(scene, u, v, wl):
@@ -95,19 +106,13 @@ def main():
     n_points = obs.interferometric.sampling.size
     ev = obs.interferometric
 
-    temps = 1400.0 + 0.5 * np.arange(300)
-    t_ring = median_ms(lambda k: obs.observe(scene.with_ring(0, t_in=float(temps[k]))))
-    incs = 40.0 + 0.05 * np.arange(300)
-    t_inc = median_ms(lambda k: obs.observe(scene.replace(inclination=float(incs[k]))))
-    pas = 20.0 + 0.05 * np.arange(300)
-    t_pa = median_ms(lambda k: obs.observe(scene.replace(position_angle=float(pas[k]))))
-
     # floor: the product and the Planck table of the changed ring, nothing else
     ring = scene.rings[0]
     grid = ev._grid(scene)
     kernel = ev._kernel(ring, scene.distance, grid, 0)
     r_nodes = ev._ring_nodes(ring, scene.distance)[0]
     lam_u = ev.sampling.wavelengths
+    temps = 1400.0 + 0.01 * np.arange(ROUNDS * (REPEAT + WARMUP) + 1)
 
     def floor_product(k):
         b = planck_nu(lam_u[:, None], (temps[k] * (r_nodes / ring.r_in) ** -ring.q)[None, :])
@@ -122,8 +127,24 @@ def main():
         h = floor_product(k).ravel()[gather]
         return h[:obs.n_vis] ** 2
 
-    t_floor_product = median_ms(floor_product)
-    t_floor = median_ms(floor)
+    def ring_change(k):
+        obs.observe(scene.with_ring(0, t_in=float(temps[k])))
+
+    # The ring change and its floors run side by side, in turn, so that all three see
+    # the same state of this shared machine (measured here: the same ring change took
+    # 0.65 ms and, an hour later, 1.4 ms); each round gives one set of medians and one ratio.
+    rounds = [side_by_side({"ring": ring_change, "bare": floor_product, "floor": floor},
+                           offset=r * (REPEAT + WARMUP)) for r in range(ROUNDS)]
+    t_ring = statistics.median(r["ring"] for r in rounds)
+    t_floor_product = statistics.median(r["bare"] for r in rounds)
+    t_floor = statistics.median(r["floor"] for r in rounds)
+    bare_ratios = [r["ring"] / r["bare"] for r in rounds]
+    floor_ratios = [r["ring"] / r["floor"] for r in rounds]
+
+    incs = 40.0 + 0.05 * np.arange(REPEAT + WARMUP)
+    t_inc = median_ms(lambda k: obs.observe(scene.replace(inclination=float(incs[k]))))
+    pas = 20.0 + 0.05 * np.arange(REPEAT + WARMUP)
+    t_pa = median_ms(lambda k: obs.observe(scene.replace(position_angle=float(pas[k]))))
 
     # brute force over all points of the sampling (V² points and the three baselines per triangle)
     s = ev.sampling
@@ -138,13 +159,15 @@ def main():
           + ", ".join(str(ev._ring_nodes(r, scene.distance)[0].size) for r in scene.rings)
           + f"; frequency grid: {grid[1]} nodes")
     print(f"cold start (kernels, nodes, interpolation matrix): {1e3 * cold:8.1f} ms")
-    print(f"ring change (T_in of one ring), all observables:   {t_ring:8.2f} ms  median")
+    print(f"ring change (T_in of one ring), all observables:   {t_ring:8.2f} ms  median of {ROUNDS} rounds")
     print(f"geometry change (inclination), all observables:    {t_inc:8.2f} ms  median")
     print(f"geometry change (position angle), all observables: {t_pa:8.2f} ms  median")
     print(f"floor, bare (Planck table + matrix product of one ring): {t_floor_product:8.2f} ms  median"
-          f"  -> ring change / bare floor = {t_ring / t_floor_product:.2f}")
+          f"  -> ring change / bare floor = {statistics.median(bare_ratios):.2f}"
+          f"  (rounds: {' '.join(f'{x:.2f}' for x in bare_ratios)})")
     print(f"floor with output (+ one gather per data point, |V|²):   {t_floor:8.2f} ms  median"
-          f"  -> ring change / floor = {t_ring / t_floor:.2f}")
+          f"  -> ring change / floor = {statistics.median(floor_ratios):.2f}"
+          f"  (rounds: {' '.join(f'{x:.2f}' for x in floor_ratios)})")
     print(f"brute force (Bessel per point per node):           {t_brute:8.1f} ms"
           f"  -> speed-up over brute force = {t_brute / t_ring:.0f}x (ring change)")
     print(f"accuracy: max |V_engine - V_brute| = {err:.2e}")

@@ -74,8 +74,15 @@ class Evaluation:
 
     Attributes
     ----------
-    vis : ndarray (complex)
-        Normalised complex visibility at each point (shape of the sampling).
+    numerator_real, numerator_imag : ndarray or None (read-only)
+        Σ F_j V_j over the compact components at each point of the sampling (flat), in Jy:
+        the visibility before normalisation by the total flux, as real and imaginary parts
+        (``numerator_imag`` is ``None`` when no component breaks point symmetry; both are
+        ``None`` for an evaluation of fluxes only).
+    wave_index : ndarray of int
+        The distinct wavelength of each point (``Sampling.wave_index``).
+    shape : tuple
+        Shape of the sampling.
     wavelengths : ndarray
         The sampling's distinct wavelengths in µm.
     flux_star, flux_extended : ndarray
@@ -84,11 +91,39 @@ class Evaluation:
         One flux-density array (Jy) per ring of the scene (zeros for disabled rings).
     """
 
-    vis: np.ndarray
+    numerator_real: np.ndarray | None
+    numerator_imag: np.ndarray | None
+    wave_index: np.ndarray
+    shape: tuple
     wavelengths: np.ndarray
     flux_star: np.ndarray
     flux_rings: list
     flux_extended: np.ndarray
+
+    @property
+    def inverse_total(self):
+        """1 / F_total in Jy⁻¹ per distinct wavelength (inf where the scene emits nothing)."""
+        with np.errstate(divide="ignore"):
+            return 1.0 / self.flux_total
+
+    def normalised(self, points=slice(None)):
+        """Complex visibility (a new array) at the flat ``points`` (a slice or indices)."""
+        if self.numerator_real is None:
+            raise ValueError("this evaluation holds fluxes only (Evaluator.evaluate(..., fluxes_only=True))")
+        scale = self.inverse_total[self.wave_index[points]]
+        out = np.empty(scale.size, complex)
+        with np.errstate(invalid="ignore"):
+            np.multiply(self.numerator_real[points], scale, out=out.real)
+            if self.numerator_imag is None:
+                out.imag = 0.0
+            else:
+                np.multiply(self.numerator_imag[points], scale, out=out.imag)
+        return out
+
+    @property
+    def vis(self):
+        """Normalised complex visibility at each point, shape of the sampling (a new array)."""
+        return self.normalised().reshape(self.shape)
 
     @property
     def flux_total(self):
@@ -144,6 +179,7 @@ class Evaluator:
         self._points = _Cache(16)
         self._stars = _Cache(4)
         self._sums = _Cache(8)
+        self._fluxes = _Cache(16)
 
     # ------------------------------------------------------------------ tiers
     def _grid(self, scene):
@@ -226,9 +262,11 @@ class Evaluator:
         return self._interp.get(key, make)
 
     def _ring_points(self, ring, scene, grid):
-        """Unnormalised visibility (Jy) of one ring at every point, and its flux per wavelength.
+        """Unnormalised visibility (Jy) of one ring at every point, and its flux.
 
-        Real for an axisymmetric ring (its transform is real), complex for a modulated one.
+        Returns (key, even, odd, flux): the real part at every point; the imaginary part
+        of a modulated ring (``None`` for an axisymmetric one, whose transform is real);
+        the ring's flux density per distinct wavelength.
         """
         key = (ring, scene.distance, scene.inclination, scene.position_angle, grid)
 
@@ -236,17 +274,28 @@ class Evaluator:
             h0, h1 = self._ring_transform(ring, scene.distance, scene.inclination, grid)
             matrix, cos_psi, sin_psi = self._interpolation(scene.inclination, scene.position_angle, grid)
             even = matrix @ h0.ravel()
-            if h1 is None:
-                values = even
-            else:
-                values = np.empty(self.sampling.size, complex)
-                values.real = even
+            even.flags.writeable = False
+            odd = None
+            if h1 is not None:
                 # The m = 1 term: ∫ cos φ e^{-iz cos(φ-ψ)} dφ = -2πi J1(z) cos ψ (per unit 2π).
-                values.imag = -(ring.c1 * cos_psi + ring.s1 * sin_psi) * (matrix @ h1.ravel())
-            values.flags.writeable = False
-            return key, values, h0[:, 1].copy()
+                odd = -(ring.c1 * cos_psi + ring.s1 * sin_psi) * (matrix @ h1.ravel())
+                odd.flags.writeable = False
+            return key, even, odd, h0[:, 1].copy()
 
         return self._points.get(key, make)
+
+    def _ring_flux(self, ring, distance, inclination):
+        """Flux density (Jy) of one ring per distinct wavelength: cos i Σ_nodes area I."""
+        key = (ring, distance, inclination)
+
+        def make():
+            intensity = self._ring_planck(ring, distance)
+            emiss = self._ring_emissivity(ring, distance, inclination)
+            if emiss is not None:
+                intensity = intensity * emiss
+            return (intensity @ self._ring_nodes(ring, distance)[2]) * math.cos(math.radians(inclination))
+
+        return self._fluxes.get(key, make)
 
     def _star_points(self, star, distance):
         """The star's flux at the sampling's wavelengths (Jy) and F★ V★ at every point."""
@@ -267,51 +316,58 @@ class Evaluator:
         return self._stars.get(key, make)
 
     # ------------------------------------------------------------------ public
-    def _numerator(self, parts):
-        """Σ of the components' unnormalised visibilities (Jy), kept for the last few scenes.
+    def _numerator(self, even, odd):
+        """Σ of the components' unnormalised visibilities (Jy): real and imaginary parts.
 
-        ``parts`` lists (key, values) per component. Always summed in the scene's order,
-        so the result never depends on which scenes were evaluated before (the sample
-        data are regenerated bit for bit).
+        ``even`` and ``odd`` list (key, values) of the real and imaginary parts. The sums of
+        the last few scenes are kept; they are formed in the scene's order, so a result
+        never depends on which scenes were evaluated before.
         """
-        if not parts:
-            return np.zeros(self.sampling.size)
-        return self._sums.get(tuple(k for k, _ in parts), lambda: _frozen_sum([v for _, v in parts]))
+        key = (tuple(k for k, _ in even), tuple(k for k, _ in odd))
 
-    def evaluate(self, scene) -> Evaluation:
-        """Complex visibilities and component fluxes of ``scene`` on this sampling."""
+        def make():
+            re = _frozen_sum([v for _, v in even]) if even else np.zeros(self.sampling.size)
+            return re, (_frozen_sum([v for _, v in odd]) if odd else None)
+
+        return self._sums.get(key, make)
+
+    def evaluate(self, scene, fluxes_only=False) -> Evaluation:
+        """Complex visibilities and component fluxes of ``scene`` on this sampling.
+
+        With ``fluxes_only`` only the fluxes are computed (an SED: no transforms needed).
+        """
         s = self.sampling
         nwave = s.wavelengths.size
-        grid = self._grid(scene)
-        parts, flux_rings = [], []
+        grid = None if fluxes_only else self._grid(scene)
+        even, odd, flux_rings = [], [], []
         for ring in scene.rings:
             if not ring.enabled:
                 flux_rings.append(np.zeros(nwave))
-                continue
-            key, values, flux = self._ring_points(ring, scene, grid)
-            parts.append((key, values))
-            flux_rings.append(flux)
+            elif fluxes_only:
+                flux_rings.append(self._ring_flux(ring, scene.distance, scene.inclination))
+            else:
+                key, re, im, flux = self._ring_points(ring, scene, grid)
+                even.append((key, re))
+                if im is not None:
+                    odd.append((key, im))
+                flux_rings.append(flux)
         if scene.star is not None:
             flux_star, star_points = self._star_points(scene.star, scene.distance)
-            parts.append((("star", scene.star, scene.distance), star_points))
+            even.append((("star", scene.star, scene.distance), star_points))
         else:
             flux_star = np.zeros(nwave)
-        numerator = self._numerator(parts)
+        re, im = (None, None) if fluxes_only else self._numerator(even, odd)
         compact = flux_star + sum(flux_rings, np.zeros(nwave))
         f_ext = scene.extended_fraction
         flux_ext = compact * (f_ext / (1.0 - f_ext))
-        total = compact + flux_ext
-        with np.errstate(invalid="ignore", divide="ignore"):
-            # A new array: callers own what they are given; the cached sums stay intact.
-            vis = np.multiply(numerator, (1.0 / total)[s.wave_index], dtype=complex)
-        return Evaluation(vis=vis.reshape(s.shape), wavelengths=s.wavelengths,
-                          flux_star=flux_star, flux_rings=flux_rings, flux_extended=flux_ext)
+        return Evaluation(numerator_real=re, numerator_imag=im, wave_index=s.wave_index, shape=s.shape,
+                          wavelengths=s.wavelengths, flux_star=flux_star, flux_rings=flux_rings,
+                          flux_extended=flux_ext)
 
 
 def _frozen_sum(arrays):
-    """Element-wise sum (real unless some input is complex), returned read-only."""
-    dtype = np.result_type(*arrays)
-    out = np.array(arrays[0], dtype=dtype, copy=True)
+    """Element-wise sum of float arrays in the given order, returned read-only."""
+    out = np.array(arrays[0], dtype=float, copy=True)
     for a in arrays[1:]:
         out += a
     out.flags.writeable = False

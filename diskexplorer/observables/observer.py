@@ -86,16 +86,17 @@ class Observer:
         nv, nt = self.n_vis, self.n_t3
         if self.interferometric is not None:
             ev = self.interferometric.evaluate(scene)
-            vis_all = ev.vis
-            vis = vis_all[:nv]
-            t3 = vis_all[nv:nv + nt] * vis_all[nv + nt:nv + 2 * nt] * vis_all[nv + 2 * nt:]
-            flux_at_vis = ev.flux_total[self.interferometric.sampling.wave_index[:nv]]
+            vis = ev.normalised(slice(0, nv))
+            ab, bc, ca = (ev.normalised(slice(nv + k * nt, nv + (k + 1) * nt)) for k in range(3))
+            t3 = ab * bc
+            t3 *= ca
+            flux_at_vis = ev.flux_total[ev.wave_index[:nv]]
         else:
             vis = t3 = np.zeros(0, complex)
             flux_at_vis = np.zeros(0)
         sed = {}
         if self.photometric is not None:
-            sed = self.photometric.evaluate(scene).components(ring_labels(scene.rings),
+            sed = self.photometric.evaluate(scene, fluxes_only=True).components(ring_labels(scene.rings),
                                                                self.photometric.sampling.wave_index)
         vis2 = vis.real * vis.real + vis.imag * vis.imag
         t3phi = np.arctan2(t3.imag, t3.real)

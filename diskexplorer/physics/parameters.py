@@ -6,6 +6,7 @@ and numeric box, the default bounds of an exported starting point, and labels.
 """
 from __future__ import annotations
 
+import functools
 import math
 from dataclasses import dataclass, field, fields
 
@@ -72,8 +73,15 @@ def parameter(default, *, unit, label, description, valid=(-math.inf, math.inf),
 
 def parameter_specs(cls_or_obj) -> dict:
     """The :class:`ParameterSpec` of every declared parameter of a model class, by name."""
+    cls = cls_or_obj if isinstance(cls_or_obj, type) else type(cls_or_obj)
+    return dict(_specs_of(cls))
+
+
+@functools.lru_cache(maxsize=None)
+def _specs_of(cls):
+    # Built once per class: every edit of a scene validates it, many times a second.
     out = {}
-    for f in fields(cls_or_obj):
+    for f in fields(cls):
         meta = f.metadata.get("parameter")
         if meta is not None:
             out[f.name] = ParameterSpec(name=f.name, **meta)
