@@ -9,6 +9,7 @@ interpolation matrix of a viewing geometry) is reused from small caches keyed by
 """
 from __future__ import annotations
 
+import functools
 import math
 from collections import OrderedDict
 from dataclasses import dataclass
@@ -100,7 +101,7 @@ class Evaluation:
     flux_rings: list
     flux_extended: np.ndarray
 
-    @property
+    @functools.cached_property
     def inverse_total(self):
         """1 / F_total in Jy⁻¹ per distinct wavelength (inf where the scene emits nothing)."""
         with np.errstate(divide="ignore"):
@@ -125,7 +126,7 @@ class Evaluation:
         """Normalised complex visibility at each point, shape of the sampling (a new array)."""
         return self.normalised().reshape(self.shape)
 
-    @property
+    @functools.cached_property
     def flux_total(self):
         return self.flux_star + sum(self.flux_rings, np.zeros_like(self.flux_star)) + self.flux_extended
 
