@@ -202,6 +202,39 @@ def test_changing_one_ring_reuses_the_others():
     assert not np.allclose(result.vis, ev.evaluate(scene).vis)
 
 
+def test_results_do_not_depend_on_the_history_of_the_caches():
+    scene = demo_scene()
+    u, v, wl = random_baselines(800, seed=10)
+    fresh = Evaluator(u, v, wl).evaluate(scene).vis
+    ev = Evaluator(u, v, wl)
+    for k in range(5):                      # drag ring 0, then ring 1, then come back
+        ev.evaluate(scene.with_ring(0, t_in=1400.0 + 10 * k))
+        ev.evaluate(scene.with_ring(1, t_in=500.0 + 10 * k))
+    np.testing.assert_array_equal(ev.evaluate(scene).vis, fresh)
+
+
+def test_callers_own_what_they_are_given():
+    scene = demo_scene()
+    u, v, wl = random_baselines(300, seed=11)
+    ev = Evaluator(u, v, wl)
+    first = ev.evaluate(scene).vis
+    expected = first.copy()
+    first *= 0.0                            # a caller scribbling on its result ...
+    np.testing.assert_array_equal(ev.evaluate(scene).vis, expected)   # ... leaves the caches intact
+
+
+def test_fluxes_only_evaluation_matches_the_full_one():
+    scene = demo_scene().replace(extended_fraction=0.1)
+    wl = np.geomspace(0.5, 20.0, 30)
+    full = Evaluator(np.zeros_like(wl), 0.0, wl).evaluate(scene)
+    quick = Evaluator(np.zeros_like(wl), 0.0, wl).evaluate(scene, fluxes_only=True)
+    for a, b in zip([full.flux_star, full.flux_extended, full.flux_total] + full.flux_rings,
+                    [quick.flux_star, quick.flux_extended, quick.flux_total] + quick.flux_rings):
+        np.testing.assert_allclose(b, a, rtol=1e-12)
+    with pytest.raises(ValueError, match="fluxes only"):
+        quick.vis
+
+
 def test_star_alone_and_disk_alone():
     disk = demo_scene(star=None)
     assert np.all(disk.sed_components([2.2])["star"] == 0)
