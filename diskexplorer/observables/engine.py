@@ -90,6 +90,9 @@ class Evaluation:
         Flux densities in Jy at ``wavelengths``.
     flux_rings : list of ndarray
         One flux-density array (Jy) per ring of the scene (zeros for disabled rings).
+
+    ``flux_total`` (Jy) and ``inverse_total`` (Jy⁻¹) per distinct wavelength are computed
+    once, on first use.
     """
 
     numerator_real: np.ndarray | None
@@ -230,16 +233,20 @@ class Evaluator:
 
         return self._emissivity.get(key, make)
 
+    def _projected_intensity(self, ring, distance, inclination):
+        """cos i · I_ν on the ring's radial nodes, per distinct wavelength (Jy sr⁻¹)."""
+        intensity = self._ring_planck(ring, distance)
+        emiss = self._ring_emissivity(ring, distance, inclination)
+        if emiss is not None:
+            intensity = intensity * emiss
+        return intensity * math.cos(math.radians(inclination))
+
     def _ring_transform(self, ring, distance, inclination, grid):
         """H_k[w, m] = cos i Σ_nodes area I J_k(2π θ ρ_m): unnormalised transforms in Jy."""
         key = (ring, distance, inclination, grid)
 
         def make():
-            intensity = self._ring_planck(ring, distance)
-            emiss = self._ring_emissivity(ring, distance, inclination)
-            if emiss is not None:
-                intensity = intensity * emiss
-            intensity = intensity * math.cos(math.radians(inclination))
+            intensity = self._projected_intensity(ring, distance, inclination)
             h0 = intensity @ self._kernel(ring, distance, grid, 0)
             h1 = intensity @ self._kernel(ring, distance, grid, 1) if ring.is_modulated else None
             return h0, h1
@@ -289,14 +296,8 @@ class Evaluator:
         """Flux density (Jy) of one ring per distinct wavelength: cos i Σ_nodes area I."""
         key = (ring, distance, inclination)
 
-        def make():
-            intensity = self._ring_planck(ring, distance)
-            emiss = self._ring_emissivity(ring, distance, inclination)
-            if emiss is not None:
-                intensity = intensity * emiss
-            return (intensity @ self._ring_nodes(ring, distance)[2]) * math.cos(math.radians(inclination))
-
-        return self._fluxes.get(key, make)
+        return self._fluxes.get(key, lambda: self._projected_intensity(ring, distance, inclination)
+                                @ self._ring_nodes(ring, distance)[2])
 
     def _star_points(self, star, distance):
         """The star's flux at the sampling's wavelengths (Jy) and F★ V★ at every point."""
@@ -354,7 +355,8 @@ class Evaluator:
                 flux_rings.append(flux)
         if scene.star is not None:
             flux_star, star_points = self._star_points(scene.star, scene.distance)
-            even.append((("star", scene.star, scene.distance), star_points))
+            if not fluxes_only:
+                even.append((("star", scene.star, scene.distance), star_points))
         else:
             flux_star = np.zeros(nwave)
         re, im = (None, None) if fluxes_only else self._numerator(even, odd)

@@ -96,8 +96,8 @@ class Observer:
             flux_at_vis = np.zeros(0)
         sed = {}
         if self.photometric is not None:
-            sed = self.photometric.evaluate(scene, fluxes_only=True).components(ring_labels(scene.rings),
-                                                               self.photometric.sampling.wave_index)
+            sed = self.photometric.evaluate(scene, fluxes_only=True).components(
+                ring_labels(scene.rings), self.photometric.sampling.wave_index)
         vis2 = vis.real * vis.real + vis.imag * vis.imag
         t3phi = np.arctan2(t3.imag, t3.real)
         t3phi *= 180.0 / np.pi

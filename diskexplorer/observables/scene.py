@@ -143,7 +143,8 @@ class Scene:
         """
         lam = np.atleast_1d(np.asarray(wavelength, float))
         evaluator = evaluator_for(np.zeros_like(lam), np.zeros_like(lam), lam)
-        comps = evaluator.evaluate(self, fluxes_only=True).components(ring_labels(self.rings), evaluator.sampling.wave_index)
+        comps = evaluator.evaluate(self, fluxes_only=True).components(ring_labels(self.rings),
+                                                                     evaluator.sampling.wave_index)
         shape = np.shape(wavelength)
         return {k: v.reshape(shape) for k, v in comps.items()}
 
