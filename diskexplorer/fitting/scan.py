@@ -36,6 +36,7 @@ import xarray as xr
 from ..errors import ParameterError
 from .comparison import Comparison
 from .paths import canonical_path, get_value, parameter_paths, spec_for
+from ..dust.species import user_species
 from .scan_worker import evaluate_chunk
 
 __all__ = ["scan_grid", "best_point", "confidence_levels", "write_scan", "axis_values", "safe_name"]
@@ -370,14 +371,16 @@ def _run_dask(client, payload, token, scene, points, starts, chunk_size, args, c
               progress, cancel):
     paths, kinds, refine_free, nfev = args
     total, done = len(points), 0
-    # One copy of data and scene per worker, shipped once; tasks refer to them by future.
-    data_f, scene_f = client.scatter([payload, scene], broadcast=True, hash=False)
+    # One copy of data, scene and the registered dust species per worker, shipped once;
+    # tasks refer to them by future. Workers are other processes: without the species, a
+    # ring made of one would not resolve there.
+    data_f, scene_f, species_f = client.scatter([payload, scene, user_species()], broadcast=True, hash=False)
     run = uuid.uuid4().hex[:8]
     pending = {}
     for n, start in enumerate(starts):
         chunk = points[start:start + chunk_size]
         fut = client.submit(evaluate_chunk, data_f, token, scene_f, paths, chunk, kinds, refine_free,
-                            nfev, key=f"scan-chunk-{run}-{n}", pure=False)
+                            nfev, species_f, key=f"scan-chunk-{run}-{n}", pure=False)
         pending[fut] = (start, len(chunk))
     status = "complete"
     try:
@@ -398,7 +401,7 @@ def _run_dask(client, payload, token, scene, points, starts, chunk_size, args, c
     finally:
         if pending:
             client.cancel(list(pending))
-        client.cancel([data_f, scene_f])
+        client.cancel([data_f, scene_f, species_f])
     return status, done
 
 

@@ -60,7 +60,8 @@ def comparison_for(token, payload):
         return comp
 
 
-def evaluate_chunk(payload, token, scene, paths, values, kinds, refine_free=(), refine_max_nfev=10):
+def evaluate_chunk(payload, token, scene, paths, values, kinds, refine_free=(), refine_max_nfev=10,
+                   species=None):
     """χ² of many grid points with one shared comparison.
 
     Parameters
@@ -82,6 +83,9 @@ def evaluate_chunk(payload, token, scene, paths, values, kinds, refine_free=(), 
         Paths refined at each grid point (empty: no refinement).
     refine_max_nfev : int
         Model evaluations allowed per refinement.
+    species : dict, optional
+        Dust species registered in the submitting process (``dust.user_species()``), which
+        a worker process does not otherwise know; installed here before evaluating.
 
     Returns
     -------
@@ -93,6 +97,10 @@ def evaluate_chunk(payload, token, scene, paths, values, kinds, refine_free=(), 
     """
     from .paths import set_values
 
+    if species:
+        from ..dust.species import install_species
+
+        install_species(species)
     comp = comparison_for(token, payload)
     values = np.asarray(values, dtype=float)
     kinds = list(kinds)
