@@ -220,3 +220,14 @@ def test_session_keeps_the_fit_setup(app, tmp_path):
     assert sess.restore()
     settle(app)
     assert app.state.fit_setup["free"] == ["rings.0.r_in"] and panel.rows["rings.0.r_in"].free.value
+
+
+def test_baseline_selection_goes_into_the_document(material):
+    from diskexplorer.app.export_panel import describe_state_data
+    from diskexplorer.app.state import ExplorerState
+
+    state = ExplorerState(data_sources={"oifits": ["night1.fits"]}, baseline_range=(20.0, float("inf")))
+    desc, notes = describe_state_data(state)
+    assert desc.oifits[0]["baseline_range"] == [20.0, None] and notes == []
+    state.baseline_range = (0.0, float("inf"))          # no selection: nothing recorded
+    assert describe_state_data(state)[0].oifits[0]["baseline_range"] is None

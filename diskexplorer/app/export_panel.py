@@ -87,26 +87,27 @@ def describe_state_data(state, weights=None):
     Parameters
     ----------
     state : ExplorerState
-        Its ``data_sources`` name the files; ``band_filter`` and ``instrument_filter`` become
-        each OIFITS entry's ``bands`` and ``instruments``.
+        Its ``data_sources`` name the files; ``band_filter``, ``instrument_filter`` and
+        ``baseline_range`` become each OIFITS entry's ``bands``, ``instruments`` and
+        ``baseline_range``.
     weights : dict, optional
         Weight per data kind.
 
     Returns
     -------
     (DataDescription, list of str)
-        The description and notes on what it cannot record (a baseline selection; data
-        that were not read from files).
+        The description and notes on what it cannot record (data that were not read
+        from files).
     """
     src = state.data_sources or {}
     notes = []
+    lo, hi = state.baseline_range
+    baselines = [lo, hi if math.isfinite(hi) else None] if (lo > 0 or math.isfinite(hi)) else None
     oifits = [{"path": str(p), "bands": list(state.band_filter) or None,
-               "instruments": list(state.instrument_filter) or None} for p in src.get("oifits", []) or []]
+               "instruments": list(state.instrument_filter) or None, "baseline_range": baselines}
+              for p in src.get("oifits", []) or []]
     d = {"oifits": oifits, "photometry": src.get("photometry"), "spectrum": src.get("spectrum"),
          "weights": dict(weights or {})}
-    lo, hi = state.baseline_range
-    if lo > 0 or math.isfinite(hi):
-        notes.append(f"the baseline selection ({lo:g}–{hi:g} m) is not part of the document")
     for kind, present in (("oifits", state.observations is not None), ("photometry", state.photometry is not None),
                           ("spectrum", state.spectrum is not None)):
         if present and not src.get(kind):

@@ -5,12 +5,15 @@ The description is plain data (it goes into the starting-point document under
 
     {
       "oifits": [{"path": "night1.fits", "target": null, "bands": ["K"],
-                  "wavelength_range": null, "instruments": null,
+                  "wavelength_range": null, "instruments": null, "baseline_range": [20.0, null],
                   "error_floor": {"vis2_relative": 0.05, "phase": 1.0}}],
       "photometry": {"path": "sed.csv", "a_v": null, "r_v": 3.1},
       "spectrum": {"path": "nband.csv", "wavelength_range": [7.5, 13.5], "a_v": null, "r_v": 3.1},
       "weights": {"vis2": 1.0, "t3phi": 1.0}
     }
+
+``baseline_range`` is [shortest, longest] projected baseline in m (``null`` for no upper
+limit); a closure triangle is kept when all three of its baselines lie inside.
 
 Relative paths are resolved against a base directory: the folder of the document when
 it was read from a file, else the current directory.
@@ -18,6 +21,7 @@ it was read from a file, else the current directory.
 from __future__ import annotations
 
 import copy
+import math
 import os
 from dataclasses import dataclass, field
 
@@ -27,7 +31,7 @@ __all__ = ["DataDescription", "ERROR_FLOOR_KEYS", "describe_data"]
 
 #: Keyword arguments of :meth:`ObservationSet.with_error_floor` a document may set.
 ERROR_FLOOR_KEYS = ("vis2_relative", "vis2_absolute", "phase", "amplitude_relative", "combine")
-_OIFITS_KEYS = ("path", "target", "bands", "wavelength_range", "instruments", "error_floor")
+_OIFITS_KEYS = ("path", "target", "bands", "wavelength_range", "instruments", "baseline_range", "error_floor")
 _PHOT_KEYS = ("path", "a_v", "r_v")
 _SPEC_KEYS = ("path", "wavelength_range", "a_v", "r_v")
 
@@ -47,12 +51,32 @@ def _oifits_entry(e, where):
     _check_keys(e, _OIFITS_KEYS, where)
     out = {"path": e["path"], "target": e.get("target"), "bands": e.get("bands"),
            "wavelength_range": e.get("wavelength_range"), "instruments": e.get("instruments"),
+           "baseline_range": _baseline_range(e.get("baseline_range"), f"{where}.baseline_range"),
            "error_floor": dict(e.get("error_floor") or {})}
     extra = sorted(set(out["error_floor"]) - set(ERROR_FLOOR_KEYS))
     if extra:
         raise SeedError(f"{where}.error_floor: unknown key(s) {', '.join(map(repr, extra))}; allowed: "
                         f"{', '.join(ERROR_FLOOR_KEYS)}")
     return out
+
+
+def _baseline_range(value, where):
+    """[lo, hi] in m (hi None: no upper limit), or None; a SeedError names a bad one."""
+    if value is None:
+        return None
+    bad = SeedError(f"{where} = {value!r}: expected [shortest, longest] baseline in m, "
+                    "0 <= shortest < longest (longest may be null: no upper limit)")
+    if not isinstance(value, (list, tuple)) or len(value) != 2:
+        raise bad
+    lo, hi = value
+    try:
+        lo = float(lo)
+        hi = None if hi is None else float(hi)
+    except (TypeError, ValueError):
+        raise bad from None
+    if not (math.isfinite(lo) and lo >= 0) or (hi is not None and not (math.isfinite(hi) and hi > lo)):
+        raise bad
+    return [lo, hi]
 
 
 @dataclass(frozen=True)
@@ -157,6 +181,9 @@ class DataDescription:
                 obs = obs.select_wavelength(*e["wavelength_range"])
             if e["instruments"]:
                 obs = obs.select_instrument(*e["instruments"])
+            if e["baseline_range"]:
+                lo, hi = e["baseline_range"]
+                obs = obs.select_baseline(lo, math.inf if hi is None else hi)
             if e["error_floor"]:
                 obs = obs.with_error_floor(**e["error_floor"])
             sets.append(obs)

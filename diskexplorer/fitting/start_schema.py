@@ -116,6 +116,10 @@ def build_schema():
         "oifits": _object({"path": {"type": "string", "minLength": 1}, "target": {"type": ["string", "null"]},
                            "bands": _nullable(strings), "wavelength_range": _nullable(range_),
                            "instruments": _nullable(strings),
+                           "baseline_range": _nullable({"type": "array", "items": {"type": ["number", "null"]},
+                                                        "minItems": 2, "maxItems": 2,
+                                                        "description": "projected baseline [shortest, longest] "
+                                                                       "in m; longest null: no upper limit"}),
                            "error_floor": _object({"vis2_relative": number, "vis2_absolute": number,
                                                    "phase": number, "amplitude_relative": number,
                                                    "combine": {"enum": ["max", "quadrature"]}},
