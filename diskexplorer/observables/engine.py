@@ -294,10 +294,10 @@ class Evaluator:
 
     def _ring_flux(self, ring, distance, inclination):
         """Flux density (Jy) of one ring per distinct wavelength: cos i Σ_nodes area I."""
-        key = (ring, distance, inclination)
+        def make():
+            return self._projected_intensity(ring, distance, inclination) @ self._ring_nodes(ring, distance)[2]
 
-        return self._fluxes.get(key, lambda: self._projected_intensity(ring, distance, inclination)
-                                @ self._ring_nodes(ring, distance)[2])
+        return self._fluxes.get((ring, distance, inclination), make)
 
     def _star_points(self, star, distance):
         """The star's flux at the sampling's wavelengths (Jy) and F★ V★ at every point."""
