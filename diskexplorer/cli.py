@@ -48,12 +48,20 @@ def _cmd_demo(args):
 
 
 def _cmd_sample_data(args):
-    from .sample import write_sample_data
+    from .sample import copy_sample_data, write_sample_data
+    out = Path(args.out)
     try:
-        write_sample_data(args.out, overwrite=args.force)
+        if args.regenerate:
+            written = write_sample_data(out, overwrite=args.force)
+        else:
+            written = copy_sample_data(out, overwrite=args.force)
+            for path in written:
+                print(f"wrote {path.resolve()}")
     except FileExistsError as exc:
-        print(f"diskexplorer sample-data: {exc}", file=sys.stderr)
+        print(f"diskexplorer sample-data: {exc}; add --force to overwrite them", file=sys.stderr)
         return 2
+    start = out.resolve() / "aurelis_start.json"
+    print(f"{len(written)} files in {out.resolve()}; try: diskexplorer evaluate {start}")
     return 0
 
 
@@ -190,8 +198,15 @@ def build_parser():
     p.add_argument("--port", type=int, default=8866, help="port to serve on (default 8866; a free one if taken)")
     p.add_argument("--data", help="folder of data to open instead of the sample data")
     p.set_defaults(func=_cmd_demo)
-    p = sub.add_parser("sample-data", help="regenerate the invented demo data set deterministically")
+    p = sub.add_parser(
+        "sample-data", help="copy the invented demo data set into a folder (or regenerate it)",
+        description="Copy the sample files shipped with the package (three OIFITS files, photometry, an "
+                    "N-band spectrum, a starting-point document and a README with the true parameters) "
+                    "into --out. With --regenerate, compute them afresh from the demo scene instead "
+                    "(deterministic). Existing files are never replaced without --force.")
     p.add_argument("--out", default="sample_data", help="folder to write (default ./sample_data)")
+    p.add_argument("--regenerate", action="store_true",
+                   help="recompute the files from the demo scene instead of copying the shipped ones")
     p.add_argument("--force", action="store_true", help="overwrite existing files")
     p.set_defaults(func=_cmd_sample_data)
     p = sub.add_parser(

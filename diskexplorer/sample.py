@@ -5,11 +5,15 @@ the four-telescope "Quartet" array and its instruments. The observations are mad
 our own forward model with Gaussian noise, deterministically (fixed seed), so the
 true parameters are known (see ``sample_data/README.md``).
 
-Only this module and the CLI write ``sample_data/``; :func:`load_sample_data` reads it.
+The files ship inside the package (``diskexplorer/sample_data/``, found with
+:func:`sample_data_dir`); :func:`load_sample_data` reads them, :func:`copy_sample_data` copies
+them into a folder of the user's, and :func:`write_sample_data` regenerates them.
 """
 from __future__ import annotations
 
 import math
+import shutil
+from importlib import resources
 from pathlib import Path
 
 import numpy as np
@@ -24,8 +28,8 @@ from .observables.scene import Scene
 from .physics.ring import Ring
 from .physics.star import Star
 
-__all__ = ["TARGET", "demo_scene", "write_sample_data", "load_sample_data", "sample_data_dir",
-           "SAMPLE_FILES"]
+__all__ = ["TARGET", "demo_scene", "write_sample_data", "copy_sample_data", "load_sample_data",
+           "sample_data_dir", "SAMPLE_FILES"]
 
 TARGET = "Aurelis"
 SEED = 20261202
@@ -164,7 +168,8 @@ def write_sample_data(folder, overwrite=False, progress=print):
                                                               for k in ("photometry", "spectrum", "start")]
     existing = [p for p in targets if p.exists()]
     if existing and not overwrite:
-        raise FileExistsError(f"{existing[0]} exists; pass overwrite=True to regenerate the sample data")
+        raise FileExistsError(f"{existing[0]} exists; refusing to overwrite the files in {folder} "
+                              f"({len(existing)} of them exist)")
     rng = np.random.default_rng(SEED)
     scene = demo_scene()
     written = []
@@ -237,12 +242,62 @@ def write_sample_start(folder, scene=None):
 
 
 def sample_data_dir() -> Path:
-    """The ``sample_data`` folder of the source tree (or of an installed copy)."""
-    here = Path(__file__).resolve().parent
-    for candidate in (here.parent / "sample_data", here / "sample_data"):
-        if (candidate / SAMPLE_FILES["photometry"]).exists():
-            return candidate
-    return here.parent / "sample_data"
+    """The installed sample data folder (package data of :mod:`diskexplorer`).
+
+    Found with :mod:`importlib.resources`, so it works from a clone, an editable install
+    and a wheel alike. Treat it as read-only: copy it with :func:`copy_sample_data` to
+    work on the files.
+    """
+    # A regular package installed as files (wheels are unpacked), so the resource is a
+    # real folder; as_file would only matter for zipped imports, which we do not support.
+    return Path(str(resources.files("diskexplorer").joinpath("sample_data")))
+
+
+def _sample_names():
+    return list(SAMPLE_FILES["oifits"]) + [SAMPLE_FILES[k] for k in ("photometry", "spectrum", "start")] \
+        + ["README.md"]
+
+
+def copy_sample_data(folder, overwrite=False):
+    """Copy the shipped sample files into ``folder`` (created if missing).
+
+    The starting-point document names its data files relative to itself, so the copy
+    works where it lands (``diskexplorer evaluate FOLDER/aurelis_start.json``).
+
+    Parameters
+    ----------
+    folder : str or os.PathLike
+        Destination folder.
+    overwrite : bool
+        Replace files of the same names; otherwise nothing is copied if any exists.
+
+    Returns
+    -------
+    list of pathlib.Path
+        The files written.
+
+    Raises
+    ------
+    FileExistsError
+        If a sample file exists in ``folder`` and ``overwrite`` is false.
+    NotADirectoryError
+        If ``folder`` exists and is not a folder.
+    """
+    folder = Path(folder)
+    if folder.exists() and not folder.is_dir():
+        raise NotADirectoryError(f"{folder} exists and is not a folder")
+    source = sample_data_dir()
+    names = _sample_names()
+    existing = [folder / n for n in names if (folder / n).exists()]
+    if existing and not overwrite:
+        raise FileExistsError(f"{existing[0]} exists; refusing to overwrite the files in {folder} "
+                              f"({len(existing)} of them exist)")
+    folder.mkdir(parents=True, exist_ok=True)
+    written = []
+    for name in names:
+        shutil.copyfile(source / name, folder / name)
+        written.append(folder / name)
+    return written
 
 
 def load_sample_data(folder=None):

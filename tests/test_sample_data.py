@@ -45,5 +45,5 @@ def test_regeneration_is_deterministic_and_refuses_to_overwrite(tmp_path, sample
         # ... and any machine the committed files up to rounding (CPUs differ in the last
         # bits of their vectorised exp and Bessel functions)
         np.testing.assert_allclose(first, committed, rtol=1e-11, atol=1e-13)
-    with pytest.raises(FileExistsError, match="overwrite=True"):
+    with pytest.raises(FileExistsError, match="refusing to overwrite"):
         write_sample_data(tmp_path / "a", progress=lambda s: None)
