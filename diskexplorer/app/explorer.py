@@ -24,6 +24,7 @@ from .ring_cards import RingDeck
 from .scan_panel import ScanPanel
 from .session_panel import SessionPanel
 from .state import ExplorerState, tiers_for
+from .workdir import working_folder
 
 __all__ = ["Explorer", "explore", "Frame"]
 
@@ -92,6 +93,9 @@ class Explorer(w.VBox):
         Debounce window, s.
     jobs : {"thread", "sync"}
         How refinements and grid scans run: background threads, or at once (tests).
+    workdir : str or os.PathLike, optional
+        Folder that relative file names in the panels refer to (saves, imports, loads).
+        Default: the current folder (a notebook's own folder); never the package's.
 
     Attributes
     ----------
@@ -107,13 +111,15 @@ class Explorer(w.VBox):
     #: Figure-tab index of each page (the structure page is also used by ``structure_visible``).
     PAGES = {"interferometry": 0, "spectra": 1, "structure": 2, "start": 3, "scan": 4, "derived": 5}
 
-    def __init__(self, scene, data=None, scheduler=None, delay=0.04, jobs="thread"):
+    def __init__(self, scene, data=None, scheduler=None, delay=0.04, jobs="thread", workdir=None):
         data = dict(data or {})
         paths = data.pop("paths", {}) or {}
         self.state = ExplorerState(scene=scene, observations=data.get("observations"),
                                    photometry=data.get("photometry"), spectrum=data.get("spectrum"),
                                    data_sources={k: v for k, v in paths.items()},
                                    curve_position_angle=float(scene.position_angle % 180.0))
+        # Relative names typed into any panel resolve against this folder (app/workdir.py).
+        self.state.workdir = str(working_folder(workdir))
         self.debouncer = Debouncer(self._recompute, delay=delay, scheduler=scheduler)
         self.timings = []
         self.recompute_log = []
@@ -337,7 +343,7 @@ class Explorer(w.VBox):
                                     else None for _, _, fr in pins])
 
 
-def explore(data=None, scene=None, *, scheduler=None, delay=0.04, jobs="thread"):
+def explore(data=None, scene=None, *, scheduler=None, delay=0.04, jobs="thread", workdir=None):
     """Open the explorer.
 
     Parameters
@@ -353,6 +359,10 @@ def explore(data=None, scene=None, *, scheduler=None, delay=0.04, jobs="thread")
         Debounce window in s.
     jobs : {"thread", "sync"}
         Whether refinements and scans run in background threads (the app) or at once (tests).
+    workdir : str or os.PathLike, optional
+        Folder that relative file names typed in the app refer to; saves show the full path.
+        Default: the current folder (the notebook's); ``diskexplorer demo`` passes the folder
+        it was started from.
 
     Returns
     -------
@@ -368,4 +378,4 @@ def explore(data=None, scene=None, *, scheduler=None, delay=0.04, jobs="thread")
         data = data if data is not None else demo_data
     if isinstance(data, ObservationSet):
         data = {"observations": data}
-    return Explorer(scene, data, scheduler=scheduler, delay=delay, jobs=jobs)
+    return Explorer(scene, data, scheduler=scheduler, delay=delay, jobs=jobs, workdir=workdir)

@@ -26,6 +26,7 @@ from .controls import unit_text
 from .figures.base import assign as _assign
 from .palette import ACCENT, INK, MUTED, OKABE_ITO
 from .overwrite_guard import OverwriteGuard
+from .workdir import resolve_user_path, state_folder, writable_user_path
 
 __all__ = ["ExportPanel", "clean_fit_setup", "describe_state_data", "doc_free", "WEIGHT_KINDS"]
 
@@ -452,15 +453,16 @@ class ExportPanel(w.VBox):
         from ..fitting.snippet import make_snippet
         from ..fitting.start_document import write_start
 
-        path = self.path.value.strip()
-        if not path:
-            self.state.say("starting point not saved: give a file name")
+        try:
+            path = writable_user_path(self.path.value, state_folder(self.state))
+        except DiskExplorerError as exc:
+            self.state.say(f"starting point not saved: {exc}")
             return False
         try:
             doc = self.build_document()
             written = write_start(path, doc, overwrite=overwrite)
         except FileExistsError:
-            self.confirm.ask(path)
+            self.confirm.ask(str(path))
             return False
         except (OSError, DiskExplorerError) as exc:
             self.state.say(f"starting point not saved: {exc}")
@@ -489,7 +491,8 @@ class ExportPanel(w.VBox):
         """
         from ..fitting.start_import import read_start
 
-        source = self.path.value.strip() if source is None else source
+        if source is None:
+            source = str(resolve_user_path(self.path.value, state_folder(self.state)))
         try:
             start = read_start(source)
         except (DiskExplorerError, OSError, ValueError, KeyError, TypeError) as exc:

@@ -8,6 +8,7 @@ import ipywidgets as w
 from ..errors import DiskExplorerError
 from .data_panel import load_into_state
 from .overwrite_guard import OverwriteGuard
+from .workdir import resolve_user_path, state_folder, writable_user_path
 from .session import (VIEW_SETTINGS, read_session, scene_from_dict, session_to_dict, write_session)
 
 __all__ = ["SessionPanel", "restore_session"]
@@ -70,9 +71,10 @@ class SessionPanel(w.VBox):
             Whether the file was written.
         """
         try:
-            path = write_session(self.path.value, session_to_dict(self.state), overwrite=overwrite)
+            target = writable_user_path(self.path.value, state_folder(self.state))
+            path = write_session(target, session_to_dict(self.state), overwrite=overwrite)
         except FileExistsError:
-            self.confirm.ask(self.path.value)
+            self.confirm.ask(str(target))
             return False
         except (OSError, DiskExplorerError) as exc:
             self.state.say(f"session not saved: {exc}")
@@ -83,11 +85,12 @@ class SessionPanel(w.VBox):
 
     def restore(self):
         """Read the session file and apply it."""
+        source = resolve_user_path(self.path.value, state_folder(self.state))
         try:
-            doc = read_session(self.path.value)
+            doc = read_session(source)
             restore_session(self.state, doc)
         except (DiskExplorerError, KeyError, TypeError, ValueError) as exc:
             self.state.say(f"session not restored: {exc}")
             return False
-        self.state.say(f"session restored from {self.path.value}")
+        self.state.say(f"session restored from {source}")
         return True

@@ -1,0 +1,82 @@
+"""Files typed into the app's panels go where the user works, never into the package."""
+import os
+from pathlib import Path
+
+import pytest
+
+import diskexplorer
+from diskexplorer.app import explore
+from diskexplorer.app.debounce import ManualScheduler
+from diskexplorer.app.workdir import resolve_user_path, working_folder, writable_user_path
+from diskexplorer.errors import DiskExplorerError
+from diskexplorer.fitting import read_start
+
+PACKAGE = Path(diskexplorer.__file__).resolve().parent
+
+
+def _app(material, workdir):
+    scene, data = material
+    return explore(data=dict(data), scene=scene, scheduler=ManualScheduler(), jobs="sync", workdir=workdir)
+
+
+def test_relative_names_resolve_against_the_working_folder(tmp_path):
+    assert resolve_user_path("a/b.json", tmp_path) == tmp_path / "a" / "b.json"
+    assert resolve_user_path(str(tmp_path / "c.json"), "/elsewhere") == tmp_path / "c.json"
+    assert resolve_user_path("~/x.json", tmp_path) == Path.home() / "x.json"
+    assert working_folder(tmp_path) == tmp_path.resolve()
+    with pytest.raises(DiskExplorerError, match="no such folder"):
+        working_folder(tmp_path / "missing")
+
+
+def test_the_package_folder_is_never_a_working_folder_nor_a_target(tmp_path, monkeypatch):
+    monkeypatch.chdir(PACKAGE / "app")  # where voila starts a kernel for the package's notebook
+    assert working_folder() == Path.home().resolve()
+    with pytest.raises(DiskExplorerError, match="inside the installed diskexplorer package"):
+        writable_user_path(str(PACKAGE / "app" / "start.json"), tmp_path)
+    with pytest.raises(DiskExplorerError, match="inside the installed diskexplorer package"):
+        writable_user_path("../../diskexplorer/app/x.json", PACKAGE / "app" / "figures")
+
+
+def test_saves_land_in_the_working_folder_with_the_full_path_shown(material, tmp_path, monkeypatch):
+    elsewhere = tmp_path / "elsewhere"
+    elsewhere.mkdir()
+    monkeypatch.chdir(elsewhere)  # the process's folder is not the user's working folder
+    work = tmp_path / "work"
+    work.mkdir()
+    app = _app(material, work)
+    assert app.state.workdir == str(work.resolve())
+
+    panel = app.export_panel
+    panel.path.value = "diskexplorer-start.json"
+    assert panel.save()
+    target = work.resolve() / "diskexplorer-start.json"
+    assert target.is_file() and not (elsewhere / "diskexplorer-start.json").exists()
+    assert str(target) in app.state.notice
+    assert read_start(str(target)).scene is not None
+    # an existing file asks first and the question names the full path
+    assert not panel.save()
+    assert str(target) in panel.confirm.text.value
+    # importing by the same relative name reads the file in the working folder
+    assert panel.import_start()
+    assert str(target) in app.state.notice
+
+    session = app.session_panel
+    session.path.value = "sub/../my-session.json"
+    assert session.save()
+    assert (work / "my-session.json").is_file()
+    assert str(work.resolve() / "my-session.json") in app.state.notice
+    assert session.restore()
+    assert str(work.resolve() / "my-session.json") in app.state.notice
+
+
+def test_a_save_into_the_package_is_refused_and_nothing_is_written(material, tmp_path):
+    app = _app(material, tmp_path)
+    before = sorted(os.listdir(PACKAGE / "app"))
+    app.export_panel.path.value = str(PACKAGE / "app" / "start.json")
+    assert not app.export_panel.save()
+    assert "inside the installed diskexplorer package" in app.state.notice
+    app.session_panel.path.value = str(PACKAGE / "session.json")
+    assert not app.session_panel.save()
+    assert "inside the installed diskexplorer package" in app.state.notice
+    assert sorted(os.listdir(PACKAGE / "app")) == before
+    assert not (PACKAGE / "session.json").exists()
