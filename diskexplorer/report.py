@@ -35,6 +35,7 @@ from pathlib import Path
 
 import numpy as np
 
+from .data.classify import classify_data_file, collect_data_files
 from .errors import DataError, DiskExplorerError
 
 __all__ = [
@@ -65,7 +66,6 @@ _COMPONENT_COLOURS = {"star": "#E69F00", "extended": "#999999", "total": "#00000
 _RING_COLOURS = ("#0072B2", "#009E73", "#CC79A7", "#56B4E9", "#D55E00", "#F0E442")
 
 _INTERFEROMETRIC = ("vis2", "t3phi", "t3amp", "visamp")
-_FITS_SUFFIXES = (".fits", ".fit", ".oifits", ".fits.gz", ".oifits.gz")
 
 
 def _quiet(message):
@@ -99,73 +99,6 @@ def load_start(source):
     return read_start(source)
 
 
-def classify_data_file(path):
-    """Which kind of data file ``path`` holds, judged by its content first, then its name.
-
-    Parameters
-    ----------
-    path : str or os.PathLike
-        A file, or a directory of OIFITS files.
-
-    Returns
-    -------
-    str
-        ``"oifits"``, ``"photometry"`` or ``"spectrum"``.
-
-    Raises
-    ------
-    FileNotFoundError
-        If ``path`` does not exist.
-    DataError
-        If the file is neither FITS nor a text table, or a FITS-named file is not FITS.
-
-    Notes
-    -----
-    A FITS file (``SIMPLE`` card first) with an ``OI_VIS2``, ``OI_VIS``, ``OI_T3`` or
-    ``OI_FLUX`` extension is OIFITS; another FITS file is taken as a spectrum table. A text
-    table whose header names a ``unit`` or ``band``/``filter`` column is photometry (the
-    photometry format requires a unit column; spectra carry their units in the column
-    headers), any other text table a spectrum.
-    """
-    path = os.fspath(path)
-    if os.path.isdir(path):
-        return "oifits"
-    if not os.path.exists(path):
-        raise FileNotFoundError(f"{path}: no such data file")
-    with open(path, "rb") as fh:
-        head = fh.read(2880)
-    if head.startswith(b"\x1f\x8b"):
-        # gzip-compressed: only FITS is read compressed; let the FITS reader look inside.
-        head = b"SIMPLE"
-    if head.startswith(b"SIMPLE"):
-        from astropy.io import fits
-
-        try:
-            with fits.open(path, memmap=False) as hdul:
-                names = {str(h.header.get("EXTNAME", "")).strip().upper() for h in hdul}
-        except (OSError, ValueError) as exc:
-            raise DataError(f"{path}: cannot read as FITS ({exc})") from None
-        if names & {"OI_VIS2", "OI_VIS", "OI_T3", "OI_FLUX"}:
-            return "oifits"
-        return "spectrum"
-    if path.lower().endswith(_FITS_SUFFIXES):
-        raise DataError(f"{path}: named like a FITS file but does not start with a FITS header")
-    if b"\x00" in head:
-        raise DataError(f"{path}: a binary file that is not FITS; expected OIFITS, or a photometry or "
-                        "spectrum table (CSV/ASCII or FITS)")
-    text = head.decode("utf-8", errors="replace")
-    for line in text.splitlines():
-        line = line.strip()
-        if not line or line.startswith("#"):
-            continue
-        fields = [f.strip().lower() for f in line.replace(";", ",").replace("\t", ",").split(",")]
-        words = {f.split("[")[0].split("(")[0].strip() for f in fields}
-        if words & {"unit", "units", "band", "filter"}:
-            return "photometry"
-        return "spectrum"
-    raise DataError(f"{path}: empty file; expected OIFITS, or a photometry or spectrum table")
-
-
 def data_description_with(description, files=None, base_dir=None):
     """A data description whose kinds are replaced by ``files`` where given.
 
@@ -173,9 +106,9 @@ def data_description_with(description, files=None, base_dir=None):
     ----------
     description : DataDescription or dict or None
         The data a starting point names.
-    files : sequence of str, optional
-        Data files (OIFITS, photometry, spectrum) classified with
-        :func:`classify_data_file`. Each kind given replaces that kind of the
+    files : path or sequence of paths, optional
+        Data files and folders (OIFITS, photometry, spectrum) sorted by content with
+        :func:`~diskexplorer.data.collect_data_files`. Each kind given replaces that kind of the
         description entirely (its selections and error floors too); kinds not given are
         kept. Weights are kept.
     base_dir : str, optional
@@ -189,18 +122,16 @@ def data_description_with(description, files=None, base_dir=None):
     Raises
     ------
     DataError
-        More than one photometry or spectrum file, or an unclassifiable file.
-    FileNotFoundError
-        A file that does not exist.
+        More than one photometry or spectrum file, a file that does not exist, is none
+        of the kinds or is damaged.
     """
     from .fitting.data_description import DataDescription, describe_data
 
     desc = describe_data(description)
     if not files:
         return desc
-    kinds = {"oifits": [], "photometry": [], "spectrum": []}
-    for f in files:
-        kinds[classify_data_file(f)].append(os.path.abspath(os.fspath(f)))
+    found = collect_data_files(files)
+    kinds = {k: [os.path.abspath(p) for p in v] for k, v in found.items()}
     for kind in ("photometry", "spectrum"):
         if len(kinds[kind]) > 1:
             raise DataError(f"{len(kinds[kind])} {kind} files given ({', '.join(kinds[kind])}); "

@@ -1,7 +1,7 @@
 """Readers and writers of observational data: OIFITS, photometry and spectra.
 
 Every reader checks a file's content before trusting its name and returns xarray
-Datasets (wavelength in µm, flux density in Jy, (u, v) in m, phases in degrees).
+Datasets; :func:`collect_data_files` sorts files and folders into these kinds by content (wavelength in µm, flux density in Jy, (u, v) in m, phases in degrees).
 """
 
 # OIFITS
@@ -13,6 +13,9 @@ from .oifits_write import write_oifits
 # Bands and zero points
 from .bands import (AB_ZERO_POINT_JY, INTERFEROMETRIC_BANDS, PHOTOMETRIC_BANDS, PhotometricBand,
                     band_range, magnitude_to_jy, photometric_band)
+
+# Recognising files by content
+from .classify import DataFiles, NotADataFile, SkippedFile, classify_data_file, collect_data_files
 
 # Photometry, spectra, extinction
 from .photometry import photometry_dataset, read_photometry
@@ -26,6 +29,8 @@ __all__ = [
     # bands
     "INTERFEROMETRIC_BANDS", "PHOTOMETRIC_BANDS", "AB_ZERO_POINT_JY", "PhotometricBand",
     "band_range", "photometric_band", "magnitude_to_jy",
+    # recognising files
+    "classify_data_file", "collect_data_files", "DataFiles", "SkippedFile", "NotADataFile",
     # photometry, spectra
     "read_photometry", "photometry_dataset", "read_spectrum", "spectrum_dataset", "deredden",
 ]

@@ -13,14 +13,26 @@ cards, compressed or ASCII tables, images with data in extensions) makes
 returned mimic the small part of astropy's HDU interface the OIFITS reader uses:
 ``name``, ``header`` (a dict), ``data[column]``, ``columns.names``, ``columns[name].unit``,
 ``verify_checksum()`` and ``verify_datasum()`` (1 match, 0 mismatch, 2 absent).
+
+Gzip-compressed files are decompressed in memory first (:func:`read_fits_bytes`). A file
+whose headers or data end before their announced size is damaged, not merely unusual:
+:func:`fits_layout` walks the headers tolerantly and raises a
+:class:`~diskexplorer.errors.DataError` naming the file, the HDU and what is missing.
 """
 from __future__ import annotations
 
+import gzip
+import os
 import re
+import zlib
+from dataclasses import dataclass
 
 import numpy as np
 
-__all__ = ["open_simple_fits", "SimpleHDU"]
+from ..errors import DataError
+
+__all__ = ["open_simple_fits", "SimpleHDU", "read_fits_bytes", "is_gzip", "looks_like_fits_bytes",
+           "fits_layout", "HduLayout"]
 
 BLOCK = 2880
 CARD = 80
@@ -66,24 +78,42 @@ def _parse_value(text):
         raise _Unsupported(f"header value {t!r}") from None
 
 
-def _read_header(buf, start):
-    """(header dict, header bytes end) of the header starting at byte ``start``."""
+def _read_header(buf, start, tolerant=False):
+    """(header dict, header bytes end) of the header starting at byte ``start``.
+
+    With ``tolerant``, values outside the simple subset are kept as their raw text and
+    CONTINUE cards are ignored (enough to learn the layout of any FITS file); a header
+    without an END card in the buffer raises :class:`_Truncated` either way.
+    """
     header = {}
     pos = start
     while True:
         if pos + BLOCK > len(buf):
-            raise _Unsupported("truncated header")
+            raise _Truncated(pos)
         block = buf[pos:pos + BLOCK]
         pos += BLOCK
         for k in range(0, BLOCK, CARD):
-            card = block[k:k + CARD].decode("ascii", errors="strict")
+            card = block[k:k + CARD].decode("ascii", errors="replace" if tolerant else "strict")
             key = card[:8].rstrip()
             if key == "END":
                 return header, pos
-            if key in _UNSUPPORTED_KEYS:
+            if key in _UNSUPPORTED_KEYS and not tolerant:
                 raise _Unsupported(key)
             if card[8:10] == "= " and key and key not in ("COMMENT", "HISTORY"):
-                header[key] = _parse_value(card[10:])
+                try:
+                    header[key] = _parse_value(card[10:])
+                except _Unsupported:
+                    if not tolerant:
+                        raise
+                    header[key] = card[10:].strip()
+
+
+class _Truncated(Exception):
+    """A header runs past the end of the buffer (no END card before it ends)."""
+
+    def __init__(self, pos):
+        super().__init__(f"header without END card at byte {pos}")
+        self.pos = pos
 
 
 class _Column:
@@ -223,8 +253,18 @@ def _table(header, raw, where):
     return _TableData(records, shapes, kinds, nrow), _Columns(cols)
 
 
-def open_simple_fits(path):
-    """The HDUs of a simple FITS file, or ``None`` when astropy should read it instead.
+def is_gzip(head: bytes) -> bool:
+    """True if ``head`` starts with the gzip magic bytes (RFC 1952)."""
+    return head[:2] == b"\x1f\x8b"
+
+
+def looks_like_fits_bytes(buf: bytes) -> bool:
+    """True if ``buf`` starts like a FITS primary header (``SIMPLE  =`` … ``T`` in column 30)."""
+    return len(buf) >= CARD and buf.startswith(b"SIMPLE  =") and buf[29:30] == b"T"
+
+
+def read_fits_bytes(path) -> bytes:
+    """The bytes of a file, decompressed in memory when it is gzip-compressed.
 
     Parameters
     ----------
@@ -232,10 +272,169 @@ def open_simple_fits(path):
 
     Returns
     -------
-    list of SimpleHDU or None
+    bytes
+
+    Raises
+    ------
+    DataError
+        A gzip stream that is cut short or corrupt (the message names the file).
     """
-    with open(path, "rb") as fh:
+    spath = os.fspath(path)
+    with open(spath, "rb") as fh:
         buf = fh.read()
+    if is_gzip(buf):
+        try:
+            buf = gzip.decompress(buf)
+        except EOFError:
+            raise DataError(f"{spath}: truncated gzip-compressed file: the compressed stream ends "
+                            "before its end marker (was the download or copy cut short?)") from None
+        except (OSError, zlib.error) as exc:
+            raise DataError(f"{spath}: damaged gzip-compressed file ({exc})") from None
+    return buf
+
+
+@dataclass(frozen=True)
+class HduLayout:
+    """Where one HDU of a FITS file lies and what its header announces.
+
+    Attributes
+    ----------
+    index : int
+        0 for the primary HDU.
+    header : dict
+        Keyword → value (values outside the simple subset kept as text).
+    name : str
+        EXTNAME upper-cased, ``"PRIMARY"`` for HDU 0, ``""`` when absent.
+    xtension : str
+        ``"BINTABLE"``, ``"TABLE"``, ``"IMAGE"`` …, ``""`` for the primary HDU.
+    data_start, data_bytes : int
+        Byte offset and announced size of the data (without padding).
+    """
+
+    index: int
+    header: dict
+    name: str
+    xtension: str
+    data_start: int
+    data_bytes: int
+
+    @property
+    def shape(self) -> tuple:
+        """NAXISn in C order (slowest first); () when there is no data array."""
+        naxis = int(self.header.get("NAXIS", 0) or 0)
+        return tuple(int(self.header.get(f"NAXIS{k}", 0) or 0) for k in range(naxis, 0, -1))
+
+    @property
+    def columns(self) -> list:
+        """TTYPEn of a table HDU (``COLn`` where a name is missing); [] otherwise."""
+        if self.xtension not in ("BINTABLE", "TABLE"):
+            return []
+        n = int(self.header.get("TFIELDS", 0) or 0)
+        return [str(self.header.get(f"TTYPE{k}", f"COL{k}")).strip() for k in range(1, n + 1)]
+
+    def describe(self) -> str:
+        """A short description, e.g. ``"OI_VIS2 (binary table, 12 rows)"``."""
+        label = self.name or f"HDU {self.index}"
+        if self.xtension in ("BINTABLE", "TABLE"):
+            kind = "binary table" if self.xtension == "BINTABLE" else "ASCII table"
+            rows = self.shape[0] if len(self.shape) == 2 else 0
+            cols = self.columns
+            shown = ", ".join(cols[:8]) + (f", … ({len(cols)} in all)" if len(cols) > 8 else "")
+            return f"{label} ({kind}, {rows} rows, columns {shown or 'none'})"
+        if self.data_bytes == 0:
+            return f"{label} (no data)"
+        dims = " × ".join(str(d) for d in reversed(self.shape))
+        return f"{label} ({'image' if self.xtension in ('', 'IMAGE') else self.xtension.lower()} {dims})"
+
+
+def _int_card(header, key, where, default=None):
+    v = header.get(key, default)
+    if isinstance(v, bool) or not isinstance(v, int):
+        raise ValueError(f"{where}: {key} = {v!r} is not an integer")
+    return v
+
+
+def fits_layout(buf: bytes, path) -> list:
+    """Walk the headers of a FITS file held in memory and check that nothing is cut off.
+
+    Parameters
+    ----------
+    buf : bytes
+        The whole (decompressed) file, see :func:`read_fits_bytes`.
+    path : str or os.PathLike
+        File name used in the messages.
+
+    Returns
+    -------
+    list of HduLayout
+
+    Raises
+    ------
+    DataError
+        The file is not FITS, a header has no END card before the file ends, a header's
+        size keywords are not integers, or an HDU's data are shorter than its header
+        announces: "truncated or damaged", with the HDU and the byte counts.
+    """
+    spath = os.fspath(path)
+    if not looks_like_fits_bytes(buf):
+        raise DataError(f"{spath}: not a FITS file (it does not start with a FITS primary header "
+                        "'SIMPLE  = T')")
+    hdus, pos = [], 0
+    while pos < len(buf):
+        if not buf[pos:pos + 8].strip(b" \x00"):
+            break   # zero or blank padding after the last HDU
+        where = f"HDU {len(hdus)}"
+        try:
+            header, data_start = _read_header(buf, pos, tolerant=True)
+        except _Truncated:
+            prev = f" after {hdus[-1].name or 'HDU ' + str(hdus[-1].index)}" if hdus else ""
+            raise DataError(f"{spath}: truncated or damaged FITS file: the header of {where}{prev} has no END "
+                            f"card before the file ends at byte {len(buf)} (was the file cut short?)") from None
+        try:
+            bitpix = _int_card(header, "BITPIX", where, 8)
+            naxis = _int_card(header, "NAXIS", where, 0)
+            dims = [_int_card(header, f"NAXIS{k}", where) for k in range(1, naxis + 1)]
+            nbytes = abs(bitpix) // 8 * int(np.prod(dims, dtype=np.int64)) if naxis else 0
+            if naxis:
+                nbytes = (nbytes + _int_card(header, "PCOUNT", where, 0)) * _int_card(header, "GCOUNT", where, 1)
+        except ValueError as exc:
+            raise DataError(f"{spath}: damaged FITS file: {exc}") from None
+        name = str(header.get("EXTNAME", "PRIMARY" if not hdus else "")).strip().upper()
+        xt = "" if not hdus else str(header.get("XTENSION", "")).strip().upper()
+        if hdus and not xt:
+            raise DataError(f"{spath}: damaged FITS file: bytes at offset {pos} after "
+                            f"{hdus[-1].name or 'HDU ' + str(hdus[-1].index)} are neither padding nor an "
+                            "extension header (XTENSION missing)")
+        have = len(buf) - data_start
+        if have < nbytes:
+            raise DataError(f"{spath}: truncated or damaged FITS file: {where} ({name or xt}) holds {max(have, 0)} "
+                            f"of the {nbytes} data bytes its header announces (was the file cut short?)")
+        hdus.append(HduLayout(len(hdus), header, name, xt, data_start, nbytes))
+        pos = data_start + -(-nbytes // BLOCK) * BLOCK
+    return hdus
+
+
+def open_simple_fits(path, buf=None):
+    """The HDUs of a simple FITS file, or ``None`` when astropy should read it instead.
+
+    Parameters
+    ----------
+    path : str or os.PathLike
+        The file (gzip-compressed or not); named in messages.
+    buf : bytes, optional
+        Its (decompressed) content when already read.
+
+    Returns
+    -------
+    list of SimpleHDU or None
+
+    Raises
+    ------
+    DataError
+        The file is cut short or its gzip stream is damaged (see :func:`fits_layout`).
+    """
+    if buf is None:
+        buf = read_fits_bytes(path)
     hdus = []
     pos = 0
     try:
@@ -251,7 +450,7 @@ def open_simple_fits(path):
             padded = -(-nbytes // BLOCK) * BLOCK
             raw = buf[data_start:data_start + nbytes]
             if len(raw) < nbytes:
-                raise _Unsupported("truncated data")
+                raise _Truncated(data_start)
             data_block = buf[data_start:data_start + padded]
             where = f"HDU {len(hdus)}"
             if pos == 0:
@@ -265,6 +464,9 @@ def open_simple_fits(path):
                 hdu = SimpleHDU(header, buf[pos:data_start], data_block, data, columns)
             hdus.append(hdu)
             pos = data_start + padded
+    except _Truncated:
+        fits_layout(buf, path)   # raises the DataError that says where the file is cut
+        return None
     except (_Unsupported, KeyError, ValueError, UnicodeDecodeError, TypeError):
         return None
     return hdus or None

@@ -44,12 +44,15 @@ warnings
 
 from __future__ import annotations
 
+import gzip
 import os
+import zlib
 from dataclasses import dataclass
 
 import numpy as np
 
 from ..errors import DataError
+from .fits_tables import is_gzip, looks_like_fits_bytes
 
 __all__ = [
     "Defect",
@@ -135,13 +138,19 @@ class Defect:
 
 
 def looks_like_fits(path) -> bool:
-    """True if the file starts like a FITS file (``SIMPLE  =`` … ``T`` in column 30)."""
+    """True if the file starts like a FITS file (``SIMPLE  =`` … ``T`` in column 30).
+
+    A gzip-compressed file is looked into: ``.fits.gz`` files are FITS too.
+    """
     try:
         with open(path, "rb") as fh:
             head = fh.read(80)
-    except OSError:
+        if is_gzip(head):
+            with gzip.open(path, "rb") as fh:
+                head = fh.read(80)
+    except (OSError, EOFError, zlib.error):
         return False
-    return len(head) == 80 and head.startswith(b"SIMPLE  =") and head[29:30] == b"T"
+    return looks_like_fits_bytes(head)
 
 
 def check_fits_signature(path) -> None:
@@ -151,6 +160,11 @@ def check_fits_signature(path) -> None:
     if os.path.isdir(path):
         raise DataError(f"{path}: is a directory, not an OIFITS file")
     if not looks_like_fits(path):
+        with open(path, "rb") as fh:
+            compressed = is_gzip(fh.read(2))
+        if compressed:
+            raise DataError(f"{path}: a gzip-compressed file that does not hold FITS (or whose compressed "
+                            "stream is damaged)")
         raise DataError(f"{path}: not a FITS file (it does not start with a FITS primary header "
                         "'SIMPLE  = T'), whatever its name says")
 
