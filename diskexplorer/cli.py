@@ -10,41 +10,22 @@ from __future__ import annotations
 
 import argparse
 import os
-import socket
-import subprocess
 import sys
 from pathlib import Path
 
 __all__ = ["main"]
 
 
-def _free_port(preferred):
-    with socket.socket() as s:
-        try:
-            s.bind(("127.0.0.1", preferred))
-            return preferred
-        except OSError:
-            s.bind(("127.0.0.1", 0))
-            return s.getsockname()[1]
-
-
 def _cmd_demo(args):
-    notebook = Path(__file__).resolve().parent / "app" / "explorer.ipynb"
-    if not notebook.exists():
-        print(f"diskexplorer: the app notebook {notebook} is missing", file=sys.stderr)
-        return 2
-    port = _free_port(args.port)
-    env = dict(os.environ)
-    if args.data:
-        env["DISKEXPLORER_DATA"] = os.path.abspath(args.data)
-    env.setdefault("OPENBLAS_NUM_THREADS", "1")
-    print(f"diskexplorer: serving the explorer at http://127.0.0.1:{port}/  (Ctrl-C to stop)", flush=True)
-    cmd = [sys.executable, "-m", "voila", str(notebook), "--no-browser", f"--port={port}",
-           "--Voila.ip=127.0.0.1"]
+    from .errors import DiskExplorerError
+    from .serve import DemoServer
+
     try:
-        return subprocess.call(cmd, env=env)
-    except KeyboardInterrupt:
-        return 0
+        server = DemoServer(port=args.port, workdir=args.workdir, data=args.data,
+                            idle_timeout=args.idle_timeout)
+    except DiskExplorerError as exc:  # a bad or busy port, a missing folder: usage errors
+        return _usage("demo", _one_line(exc))
+    return server.serve_forever(say=lambda m: print(m, flush=True))
 
 
 def _cmd_sample_data(args):
@@ -194,9 +175,18 @@ def _cmd_evaluate(args):
 def build_parser():
     parser = argparse.ArgumentParser(prog="diskexplorer", description=__doc__)
     sub = parser.add_subparsers(dest="command", required=True)
-    p = sub.add_parser("demo", help="serve the explorer on the sample data on 127.0.0.1")
-    p.add_argument("--port", type=int, default=8866, help="port to serve on (default 8866; a free one if taken)")
-    p.add_argument("--data", help="folder of data to open instead of the sample data")
+    p = sub.add_parser(
+        "demo", help="serve the explorer on 127.0.0.1 (the sample data, or yours with --data)",
+        description="Serve the explorer as a local web app (voila) on 127.0.0.1 only. Files saved from the "
+                    "app go to --workdir (default: the folder you start from). Ctrl-C or SIGTERM stops the "
+                    "server and every kernel it started; kernels of closed pages stop after --idle-timeout.")
+    p.add_argument("--port", type=int, default=8866, help="TCP port, 1-65535, must be free (default 8866)")
+    p.add_argument("--data", metavar="PATH", nargs="+",
+                   help="data files or folders to open instead of the sample (classified by content)")
+    p.add_argument("--workdir", metavar="DIR", help="folder for the app's saves and relative file names "
+                                                    "(default: the current folder)")
+    p.add_argument("--idle-timeout", metavar="S", type=int, default=30,
+                   help="seconds after which the kernel of a closed page is shut down (default 30)")
     p.set_defaults(func=_cmd_demo)
     p = sub.add_parser(
         "sample-data", help="copy the invented demo data set into a folder (or regenerate it)",

@@ -229,6 +229,7 @@ class ExportPanel(w.VBox):
         self.path = w.Text(value="diskexplorer-start.json", layout={"width": "230px"})
         self.path.add_class("dx-start-path")
         self.save_button = w.Button(description="save", layout={"width": "64px"})
+        self.save_button.add_class("dx-start-save")
         self.import_button = w.Button(description="import", layout={"width": "70px"})
         self.confirm = OverwriteGuard(lambda: self.save(overwrite=True))
         # the confirm row's buttons, by the names tests and callers use

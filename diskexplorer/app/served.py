@@ -1,0 +1,39 @@
+"""The explorer as ``diskexplorer demo`` serves it: folder and data from the command line.
+
+The served notebook's kernel runs in the package's folder, so the command line hands over
+the user's folder and data files through the environment (names in
+:mod:`diskexplorer.serve`); outside a served demo these are unset and :func:`explore_served`
+is plain :func:`~diskexplorer.app.explore`.
+"""
+from __future__ import annotations
+
+import os
+
+from ..serve import DATA_VARIABLE, WORKDIR_VARIABLE
+from .explorer import explore
+
+__all__ = ["explore_served", "served_settings"]
+
+
+def served_settings(environ=None):
+    """``(workdir, data_paths)`` handed over by ``diskexplorer demo`` (None where unset)."""
+    environ = os.environ if environ is None else environ
+    workdir = environ.get(WORKDIR_VARIABLE) or None
+    data = [p for p in (environ.get(DATA_VARIABLE) or "").split(os.pathsep) if p]
+    return workdir, (data or None)
+
+
+def explore_served(environ=None, **kwargs):
+    """Open the explorer with the folder and data the command line named.
+
+    Parameters
+    ----------
+    environ : mapping, optional
+        Where to read the settings (default ``os.environ``).
+    **kwargs
+        Passed to :func:`~diskexplorer.app.explore`.
+    """
+    workdir, data = served_settings(environ)
+    if data is not None:
+        kwargs.setdefault("data", data if len(data) > 1 else data[0])
+    return explore(workdir=workdir, **kwargs)

@@ -1,0 +1,255 @@
+"""Serve the explorer as a local web app with voila, and stop it completely.
+
+``diskexplorer demo`` runs voila as a child process on 127.0.0.1 and supervises it: the
+port is checked before anything starts, the address is printed once the server answers,
+and on SIGTERM or Ctrl-C voila is asked to stop (it shuts its kernels down), after which
+any process of the demo still alive (voila, its kernels) is killed. Kernels of browser pages
+that were closed are culled by voila's kernel manager after ``idle_timeout`` seconds.
+
+Everything here is plain subprocess and socket work; no widget library is imported.
+"""
+from __future__ import annotations
+
+import os
+import signal
+import socket
+import subprocess
+import sys
+import tempfile
+import time
+from pathlib import Path
+
+from .errors import DiskExplorerError
+
+__all__ = ["DemoServer", "check_port", "APP_NOTEBOOK", "DEFAULT_IDLE_TIMEOUT_S", "WORKDIR_VARIABLE",
+           "DATA_VARIABLE"]
+
+#: The app notebook voila serves (package data).
+APP_NOTEBOOK = Path(__file__).resolve().parent / "app" / "explorer.ipynb"
+#: Seconds after which the kernel of a closed page is shut down.
+DEFAULT_IDLE_TIMEOUT_S = 30
+#: Environment variables through which the app notebook's kernel learns the user's folder
+#: and data (read by :func:`diskexplorer.app.explore_served`).
+WORKDIR_VARIABLE = "DISKEXPLORER_WORKDIR"
+DATA_VARIABLE = "DISKEXPLORER_DATA"
+
+
+def check_port(port, host="127.0.0.1"):
+    """Refuse a port that is out of range or already taken on ``host``.
+
+    Parameters
+    ----------
+    port : int
+        TCP port, 1–65535.
+
+    Raises
+    ------
+    DiskExplorerError
+        With a one-line reason (out of range, in use, not permitted).
+    """
+    if not isinstance(port, int) or isinstance(port, bool) or not 1 <= port <= 65535:
+        raise DiskExplorerError(f"--port {port}: expected a TCP port between 1 and 65535")
+    with socket.socket(socket.AF_INET, socket.SOCK_STREAM) as s:
+        try:
+            s.bind((host, port))
+        except PermissionError:
+            raise DiskExplorerError(f"--port {port}: not permitted on {host} (ports below 1024 need "
+                                    "administrator rights); choose another with --port") from None
+        except OSError as exc:
+            raise DiskExplorerError(f"--port {port}: {host}:{port} is in use ({exc.strerror}); "
+                                    "choose another with --port") from None
+
+
+def _descendants(pid):
+    """The live descendant processes of ``pid`` (psutil objects); empty if it is gone."""
+    import psutil
+
+    try:
+        return psutil.Process(pid).children(recursive=True)
+    except psutil.Error:
+        return []
+
+
+class DemoServer:
+    """voila serving the app notebook on 127.0.0.1, as a supervised child process.
+
+    Parameters
+    ----------
+    port : int
+        TCP port (checked with :func:`check_port`).
+    workdir : str or os.PathLike, optional
+        Folder where the app resolves relative file names (default: the current folder).
+    data : sequence of str, optional
+        Data files or folders the app opens instead of the sample (made absolute).
+    idle_timeout : int
+        Seconds of inactivity after which the kernel of a closed page is shut down.
+    log_level : str
+        voila's log level (``WARN`` keeps the terminal quiet).
+
+    Notes
+    -----
+    voila starts each page's kernel in a new session (process group), so a terminal's
+    Ctrl-C reaches only this process; :meth:`stop` shuts everything down in order.
+    """
+
+    def __init__(self, port=8866, workdir=None, data=None, idle_timeout=DEFAULT_IDLE_TIMEOUT_S,
+                 log_level="WARN"):
+        check_port(port)
+        if not APP_NOTEBOOK.exists():
+            raise DiskExplorerError(f"the app notebook {APP_NOTEBOOK} is missing from the installation")
+        if not (isinstance(idle_timeout, int) and idle_timeout >= 1):
+            raise DiskExplorerError(f"idle timeout {idle_timeout!r} s: expected a whole number of seconds ≥ 1")
+        self.port = port
+        self.workdir = Path(workdir if workdir is not None else os.getcwd()).expanduser().resolve()
+        if not self.workdir.is_dir():
+            raise DiskExplorerError(f"--workdir {self.workdir}: no such folder")
+        self.data = [str(Path(p).expanduser().resolve()) for p in (data or [])]
+        missing = [p for p in self.data if not os.path.exists(p)]
+        if missing:
+            raise DiskExplorerError(f"--data {missing[0]}: no such file or folder")
+        self.idle_timeout = idle_timeout
+        self.log_level = log_level
+        self.process = None
+        self._runtime = None
+
+    @property
+    def url(self):
+        """The page's address."""
+        return f"http://127.0.0.1:{self.port}/"
+
+    def command(self):
+        """The voila command line (a list)."""
+        # Culling: an idle kernel with no open page is shut down after idle_timeout s,
+        # checked every few seconds; kernels with a page attached are never culled.
+        interval = max(1, min(10, self.idle_timeout // 3))
+        return [sys.executable, "-m", "voila", str(APP_NOTEBOOK), "--no-browser",
+                f"--port={self.port}", "--Voila.ip=127.0.0.1", "--Voila.port_retries=0",
+                f"--Voila.log_level={self.log_level}",
+                f"--MappingKernelManager.cull_idle_timeout={self.idle_timeout}",
+                f"--MappingKernelManager.cull_interval={interval}",
+                "--MappingKernelManager.cull_connected=False"]
+
+    def environment(self):
+        """The environment of voila and its kernels."""
+        env = dict(os.environ)
+        env[WORKDIR_VARIABLE] = str(self.workdir)
+        if self.data:
+            env[DATA_VARIABLE] = os.pathsep.join(self.data)
+        else:
+            env.pop(DATA_VARIABLE, None)
+        # One BLAS thread per kernel: the live loop's products are small and several
+        # kernels may share the machine.
+        env.setdefault("OPENBLAS_NUM_THREADS", "1")
+        # voila and its kernels keep their runtime files (connection files) here, removed
+        # at stop, so nothing of theirs stays in the user's home folder.
+        self._runtime = tempfile.mkdtemp(prefix="diskexplorer-demo-")
+        env["JUPYTER_RUNTIME_DIR"] = self._runtime
+        return env
+
+    def start(self, timeout=60.0):
+        """Start voila and wait until it accepts connections on the port.
+
+        Raises
+        ------
+        DiskExplorerError
+            If voila exits or does not answer within ``timeout`` seconds (it is stopped).
+        """
+        self.process = subprocess.Popen(self.command(), env=self.environment(), cwd=str(self.workdir),
+                                        start_new_session=True)
+        deadline = time.monotonic() + timeout
+        while time.monotonic() < deadline:
+            code = self.process.poll()
+            if code is not None:
+                self._cleanup_runtime()
+                raise DiskExplorerError(f"voila stopped at start with exit status {code}")
+            try:
+                with socket.create_connection(("127.0.0.1", self.port), timeout=0.5):
+                    return self
+            except OSError:
+                time.sleep(0.2)
+        self.stop()
+        raise DiskExplorerError(f"voila did not answer on port {self.port} within {timeout:g} s")
+
+    def wait(self):
+        """Block until voila exits; return its exit status."""
+        return self.process.wait()
+
+    def stop(self, grace=8.0):
+        """Stop voila and every process it started; return voila's exit status.
+
+        SIGTERM first (voila then shuts its kernels down), up to ``grace`` seconds, then
+        SIGKILL for voila and for any kernel still alive.
+        """
+        import psutil
+
+        if self.process is None:
+            return None
+        children = _descendants(self.process.pid)
+        if self.process.poll() is None:
+            try:
+                self.process.send_signal(signal.SIGTERM)
+            except ProcessLookupError:
+                pass
+        try:
+            code = self.process.wait(timeout=grace)
+        except subprocess.TimeoutExpired:
+            self.process.kill()
+            code = self.process.wait()
+        # Kernels voila did not manage to shut down (it was killed, or a kernel hung).
+        alive = [p for p in children if p.is_running()]
+        for proc in alive:
+            try:
+                proc.terminate()
+            except psutil.Error:
+                pass
+        _, still = psutil.wait_procs(alive, timeout=3.0)
+        for proc in still:
+            try:
+                proc.kill()
+            except psutil.Error:
+                pass
+        psutil.wait_procs(still, timeout=3.0)
+        self._cleanup_runtime()
+        return code
+
+    def _cleanup_runtime(self):
+        if self._runtime:
+            import shutil
+
+            shutil.rmtree(self._runtime, ignore_errors=True)
+            self._runtime = None
+
+    def serve_forever(self, say=print):
+        """Start, print the address, and stop everything on SIGTERM, SIGINT or voila's exit.
+
+        Returns
+        -------
+        int
+            0 after a signal, else voila's exit status.
+        """
+        stopping = {"signal": None}
+
+        def on_signal(signum, frame):
+            stopping["signal"] = signum
+            raise KeyboardInterrupt
+
+        previous = {s: signal.signal(s, on_signal) for s in (signal.SIGTERM, signal.SIGINT)}
+        try:
+            self.start()
+            say(f"diskexplorer: serving the explorer at {self.url}  (Ctrl-C to stop)")
+            say(f"diskexplorer: files you save from the app go to {self.workdir}")
+            code = self.wait()
+        except KeyboardInterrupt:
+            code = 0
+        finally:
+            # Signals during the shutdown itself must not interrupt it.
+            for s in previous:
+                signal.signal(s, signal.SIG_IGN)
+            try:
+                self.stop()
+            finally:
+                for s, handler in previous.items():
+                    signal.signal(s, handler)
+        if stopping["signal"] is not None:
+            say("diskexplorer: stopped")
+        return code

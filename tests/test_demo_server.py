@@ -1,0 +1,130 @@
+"""``diskexplorer demo`` as a server: port checks, culling of abandoned kernels, a clean stop.
+
+These start the real command in a subprocess (voila and its kernels are real processes),
+so they take a while; they check processes and sockets, never durations against a goal
+beyond the generous limits a user would notice (a stop within 10 s, a cull within a minute).
+"""
+import os
+import signal
+import socket
+import subprocess
+import sys
+import time
+import urllib.request
+
+import psutil
+import pytest
+
+from diskexplorer.cli import main
+from diskexplorer.serve import DemoServer, check_port
+from diskexplorer.errors import DiskExplorerError
+
+pytestmark = pytest.mark.slow
+
+
+def _free_port():
+    with socket.socket() as s:
+        s.bind(("127.0.0.1", 0))
+        return s.getsockname()[1]
+
+
+def _port_open(port):
+    with socket.socket() as s:
+        return s.connect_ex(("127.0.0.1", port)) == 0
+
+
+def _kernels(root_pid):
+    try:
+        procs = psutil.Process(root_pid).children(recursive=True)
+    except psutil.Error:
+        return []
+    return [p for p in procs if "ipykernel" in " ".join(p.cmdline())]
+
+
+def _wait(predicate, timeout, step=0.25):
+    end = time.monotonic() + timeout
+    while time.monotonic() < end:
+        if predicate():
+            return True
+        time.sleep(step)
+    return predicate()
+
+
+@pytest.mark.parametrize("port", [0, -1, 65536, 99999])
+def test_ports_out_of_range_get_one_line(port, capsys):
+    assert main(["demo", "--port", str(port)]) == 2
+    err = capsys.readouterr().err.strip()
+    assert len(err.splitlines()) == 1 and "between 1 and 65535" in err and "Traceback" not in err
+
+
+def test_a_busy_port_is_refused_not_replaced(capsys):
+    with socket.socket() as s:
+        s.bind(("127.0.0.1", 0))
+        s.listen()
+        port = s.getsockname()[1]
+        assert main(["demo", "--port", str(port)]) == 2
+    err = capsys.readouterr().err.strip()
+    assert len(err.splitlines()) == 1 and "in use" in err and str(port) in err
+
+
+def test_missing_workdir_and_data_are_usage_errors(tmp_path, capsys):
+    assert main(["demo", "--port", str(_free_port()), "--workdir", str(tmp_path / "nope")]) == 2
+    assert "no such folder" in capsys.readouterr().err
+    assert main(["demo", "--port", str(_free_port()), "--data", str(tmp_path / "none.fits")]) == 2
+    assert "none.fits" in capsys.readouterr().err
+
+
+def test_check_port_accepts_a_free_port():
+    check_port(_free_port())
+    with pytest.raises(DiskExplorerError, match="between 1 and 65535"):
+        check_port("8866")
+
+
+def test_server_binds_loopback_only_and_culls_kernels_of_closed_pages(tmp_path):
+    port = _free_port()
+    server = DemoServer(port=port, workdir=tmp_path, idle_timeout=3)
+    assert "--Voila.ip=127.0.0.1" in server.command()
+    server.start()
+    try:
+        conns = [c for c in psutil.Process(server.process.pid).net_connections(kind="inet")
+                 if c.status == psutil.CONN_LISTEN]
+        assert conns and {c.laddr.ip for c in conns} == {"127.0.0.1"}
+        # A page request starts a kernel that runs the app; the client goes away at once.
+        with urllib.request.urlopen(server.url, timeout=120) as response:
+            body = response.read().decode("utf-8", "replace")
+        assert response.status == 200 and "Traceback" not in body
+        kernels = _kernels(server.process.pid)
+        assert len(kernels) == 1
+        # Culled once idle with no page attached (3 s here; the default is 30 s).
+        assert _wait(lambda: not any(k.is_running() and k.status() != psutil.STATUS_ZOMBIE
+                                     for k in kernels), timeout=30), "the abandoned kernel was not shut down"
+        assert _port_open(port)  # the server itself keeps serving
+    finally:
+        server.stop()
+    assert not _port_open(port)
+
+
+def test_sigterm_stops_voila_and_every_kernel(tmp_path):
+    port = _free_port()
+    proc = subprocess.Popen([sys.executable, "-m", "diskexplorer.cli", "demo", "--port", str(port)],
+                            cwd=str(tmp_path), stdout=subprocess.PIPE, stderr=subprocess.STDOUT, text=True)
+    try:
+        assert _wait(lambda: _port_open(port) or proc.poll() is not None, timeout=90)
+        assert proc.poll() is None, proc.stdout.read()
+        with urllib.request.urlopen(f"http://127.0.0.1:{port}/", timeout=120) as response:
+            assert response.status == 200
+        family = psutil.Process(proc.pid).children(recursive=True)
+        assert any("voila" in " ".join(p.cmdline()) for p in family)
+        assert any("ipykernel" in " ".join(p.cmdline()) for p in family)
+        proc.send_signal(signal.SIGTERM)
+        proc.wait(timeout=10)
+        gone = _wait(lambda: not any(p.is_running() and p.status() != psutil.STATUS_ZOMBIE for p in family),
+                     timeout=10)
+        assert gone, [p.cmdline() for p in family if p.is_running()]
+        assert not _port_open(port)
+        assert proc.returncode == 0
+        out = proc.stdout.read()
+        assert f"http://127.0.0.1:{port}/" in out and str(tmp_path) in out and "Traceback" not in out
+    finally:
+        if proc.poll() is None:
+            proc.kill()
