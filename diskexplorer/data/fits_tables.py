@@ -354,7 +354,7 @@ def _int_card(header, key, where, default=None):
     return v
 
 
-def fits_layout(buf: bytes, path) -> list:
+def fits_layout(buf: bytes, path, *, allow_short_padding: bool = False) -> list:
     """Walk the headers of a FITS file held in memory and check that nothing is cut off.
 
     Parameters
@@ -363,6 +363,10 @@ def fits_layout(buf: bytes, path) -> list:
         The whole (decompressed) file, see :func:`read_fits_bytes`.
     path : str or os.PathLike
         File name used in the messages.
+    allow_short_padding : bool
+        Accept a file whose last HDU has all its data but not all of its padding to a
+        2880-byte block. Default False: such a file was cut short too (a FITS file is a
+        whole number of blocks), and HDUs that followed may be lost with no trace.
 
     Returns
     -------
@@ -372,8 +376,16 @@ def fits_layout(buf: bytes, path) -> list:
     ------
     DataError
         The file is not FITS, a header has no END card before the file ends, a header's
-        size keywords are not integers, or an HDU's data are shorter than its header
-        announces: "truncated or damaged", with the HDU and the byte counts.
+        size keywords are not integers, an HDU's data are shorter than its header
+        announces, the last HDU's padding is incomplete (unless allowed), or fewer
+        extensions follow than the primary header's NEXTEND says: "truncated or damaged",
+        with the HDU and the byte counts.
+
+    Notes
+    -----
+    A file cut exactly at the end of an HDU's padding looks like a complete, shorter
+    file; only NEXTEND (when the writer set it) or the tables that are then missing can
+    tell.
     """
     spath = os.fspath(path)
     if not looks_like_fits_bytes(buf):
@@ -411,6 +423,15 @@ def fits_layout(buf: bytes, path) -> list:
                             f"of the {nbytes} data bytes its header announces (was the file cut short?)")
         hdus.append(HduLayout(len(hdus), header, name, xt, data_start, nbytes))
         pos = data_start + -(-nbytes // BLOCK) * BLOCK
+    last = hdus[-1]
+    if pos > len(buf) and not allow_short_padding:
+        raise DataError(f"{spath}: truncated FITS file: it ends {pos - len(buf)} bytes before the end of the last "
+                        f"2880-byte block of {last.name or 'HDU ' + str(last.index)} (HDU {last.index}); the data "
+                        "of that HDU are complete, but HDUs that followed it may be lost (was the file cut short?)")
+    nextend = hdus[0].header.get("NEXTEND")
+    if isinstance(nextend, int) and not isinstance(nextend, bool) and nextend > len(hdus) - 1:
+        raise DataError(f"{spath}: truncated FITS file: the primary header announces {nextend} extensions "
+                        f"(NEXTEND) but the file ends after {len(hdus) - 1}")
     return hdus
 
 
@@ -469,4 +490,7 @@ def open_simple_fits(path, buf=None):
         return None
     except (_Unsupported, KeyError, ValueError, UnicodeDecodeError, TypeError):
         return None
+    nextend = hdus[0].header.get("NEXTEND") if hdus else None
+    if isinstance(nextend, int) and nextend > len(hdus) - 1:
+        fits_layout(buf, path)   # raises: fewer extensions than announced
     return hdus or None

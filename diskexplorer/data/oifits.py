@@ -18,6 +18,7 @@ from __future__ import annotations
 
 import contextlib
 import glob
+import io
 import os
 import warnings
 from collections.abc import Iterable
@@ -27,7 +28,7 @@ from astropy import units as u
 from astropy.io import fits
 
 from ..errors import DataError
-from .fits_tables import open_simple_fits
+from .fits_tables import BLOCK, fits_layout, open_simple_fits, read_fits_bytes
 from .observations import KIND_SPEC, ObservationSet, make_array_table, make_point_dataset
 from .oifits_validate import (ERROR_COLS, OifitsWarning, check_fits_signature, oifits_version,
                               validate_oifits)
@@ -123,8 +124,11 @@ def read_oifits(path_or_paths, target=None, strict: bool = True, *, pedantic: bo
     targets, arrays, notes, seen_targets = {}, {}, [], set()
     for path in paths:
         check_fits_signature(path)
-        hdul = _open(path)
-        with (hdul if hasattr(hdul, "__enter__") else contextlib.nullcontext(hdul)):
+        hdul, note = _open(path, strict)
+        if note is not None:
+            warnings.warn(OifitsWarning(note), stacklevel=2)
+            notes.append(note)
+        with (hdul if hasattr(hdul, "__enter__") else contextlib.nullcontext(hdul)), _damaged(path):
             if not any(h.name.startswith("OI_") for h in hdul[1:]):
                 raise DataError(f"{path}: not an OIFITS file: it holds no OI_* table "
                                 "(OI_TARGET, OI_WAVELENGTH and a data table are required)")
@@ -161,16 +165,51 @@ def read_oifits(path_or_paths, target=None, strict: bool = True, *, pedantic: bo
     return ObservationSet(**datasets, targets=targets, arrays=arrays, files=paths, notes=notes)
 
 
-def _open(path):
-    """The file's HDUs: the fast simple-FITS decoder where it applies, else astropy."""
+def _open(path, strict=True):
+    """The file's HDUs and a note (or None): the fast decoder where it applies, else astropy.
+
+    Either way the file is read (and decompressed) once and its layout checked first, so
+    a file cut short is named as truncated instead of failing later on a short column.
+    A file that lacks only part of its final padding is refused in strict mode and read
+    with a note otherwise.
+    """
+    buf = read_fits_bytes(path)
+    note = None
+    short = -len(buf) % BLOCK
+    if short:
+        hdus = fits_layout(buf, path, allow_short_padding=not strict)
+        last = hdus[-1]
+        note = (f"{path}: truncated FITS file: it ends {short} bytes short of a whole 2880-byte block after "
+                f"{last.name or 'HDU ' + str(last.index)} (HDU {last.index}); loaded what is there because "
+                "strict=False, but HDUs that followed may be lost")
+        buf = buf + b"\0" * short   # zero padding adds nothing to a checksum
     if _FAST:
-        hdus = open_simple_fits(path)
+        hdus = open_simple_fits(path, buf)
         if hdus is not None:
-            return hdus
+            return hdus, note
+    if not short:
+        fits_layout(buf, path)
     try:
-        return fits.open(path, memmap=False)
+        return fits.open(io.BytesIO(buf), memmap=False), note
     except Exception as exc:  # astropy raises OSError/ValueError/VerifyError variants
         raise DataError(f"{path}: cannot be read as FITS: {exc}") from exc
+
+
+@contextlib.contextmanager
+def _damaged(path):
+    """Name the file when a table's content does not fit its header (a damaged file).
+
+    The layout check catches files cut short; what remains are inconsistent headers
+    (a column narrower than its table says, a garbled value) that surface as numpy or
+    astropy errors deep inside the reader.
+    """
+    try:
+        yield
+    except DataError:
+        raise
+    except (ValueError, TypeError, IndexError, KeyError, OSError) as exc:
+        raise DataError(f"{path}: damaged FITS file: a table's content does not match its header "
+                        f"({type(exc).__name__}: {exc})") from exc
 
 
 # Set False to read every file through astropy (the tests compare both paths).
