@@ -1,6 +1,6 @@
 """The fast simple-FITS decoder gives exactly what astropy gives, file by file.
 
-Reference files: the OIFITS test suite in ../shared/reference/oifits (Pauls et al. 2005;
+Reference files: the OIFITS test suite in tests/reference/oifits (Pauls et al. 2005;
 Duvert, Young & Hummel 2017), good and bad ones, plus the sample data; reference library:
 astropy.io.fits. Each file is read both ways and the datasets, the defects found and the
 warnings must be identical.
@@ -18,9 +18,9 @@ from diskexplorer.errors import DataError
 from diskexplorer.sample import SAMPLE_FILES, sample_data_dir
 from diskexplorer.testing import assert_observations_equal
 
-from _reference import reference_dir
+from _reference import oifits_dir
 
-FILES = sorted(str(p) for p in (reference_dir() / "oifits").rglob("*.fits")) + \
+FILES = sorted(str(p) for p in oifits_dir().rglob("*.fits")) + \
     [str(sample_data_dir() / n) for n in SAMPLE_FILES["oifits"]]
 
 

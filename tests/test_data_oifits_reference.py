@@ -1,7 +1,7 @@
-"""OIFITS reader against the public OIFITS test files (shared/reference/oifits).
+"""OIFITS reader against the public OIFITS test files (tests/reference/oifits).
 
 Source of the files: the public test suite of the OIFITS reference C library (see
-shared/reference/SOURCES.md). Validation levels: CHECK_VALUES §8.4 (CONFIRMED from the
+tests/reference/oifits/README.md). Validation levels: CHECK_VALUES §8.4 (CONFIRMED from the
 standard's co-author's conformity checker). Counts are checked against an independent,
 direct astropy read of FLAG (CHECK_VALUES §8.3: T = flagged; behaviour CONFIRMED).
 """
@@ -15,7 +15,7 @@ from astropy.io import fits
 from diskexplorer.data import OifitsWarning, read_oifits
 from diskexplorer.errors import DataError
 
-from _reference import reference_dir
+from _reference import oifits_dir, oifits_path
 
 GOOD = ["v1/Bin_Ary--MIRC_H.fits", "v1/testdata.fits", "v1/testdata2.fits",
         "v2/Alp_Vic--MIRC_H.fits", "v2/Bin_Ary--MIRC_H.fits", "v2/Mystery--AMBER--LowH.fits",
@@ -27,7 +27,7 @@ REFUSED = [b for b in BAD if b not in ("v2/bad_dup_target.fits", "v2/bad_wave_re
 
 
 def ref(rel):
-    return reference_dir() / "oifits" / rel
+    return oifits_path(rel)
 
 
 def direct_unflagged(path, extname):
@@ -41,7 +41,7 @@ def direct_unflagged(path, extname):
 
 
 def test_every_reference_file_is_covered():
-    found = {str(p.relative_to(reference_dir() / "oifits")) for p in (reference_dir() / "oifits").rglob("*.fits")}
+    found = {str(p.relative_to(oifits_dir())) for p in oifits_dir().rglob("*.fits")}
     assert found == set(GOOD) | set(BAD)
 
 

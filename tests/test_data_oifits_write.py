@@ -12,7 +12,7 @@ from diskexplorer.data import ObservationSet, read_oifits, validate_oifits, writ
 from diskexplorer.errors import DataError
 from diskexplorer.testing import assert_observations_equal, make_observations, make_oifits
 
-from _reference import reference_dir
+from _reference import oifits_path
 
 GOOD = ["v1/Bin_Ary--MIRC_H.fits", "v1/testdata.fits", "v1/testdata2.fits",
         "v2/Alp_Vic--MIRC_H.fits", "v2/Bin_Ary--MIRC_H.fits", "v2/Mystery--AMBER--LowH.fits",
@@ -22,7 +22,7 @@ GOOD = ["v1/Bin_Ary--MIRC_H.fits", "v1/testdata.fits", "v1/testdata2.fits",
 @pytest.mark.parametrize("keep_flagged", [False, True])
 @pytest.mark.parametrize("rel", GOOD)
 def test_reference_round_trip_is_lossless(tmp_path, rel, keep_flagged):
-    original = read_oifits(reference_dir() / "oifits" / rel, keep_flagged=keep_flagged)
+    original = read_oifits(oifits_path(rel), keep_flagged=keep_flagged)
     out = write_oifits(tmp_path / "copy.fits", original)
     again = read_oifits(out, keep_flagged=keep_flagged)
     assert_observations_equal(again, original)

