@@ -10,7 +10,7 @@ from .errors import DataError, DiskExplorerError, DustError, ParameterError, See
 
 # model (importing dust registers species names and mixtures as ring opacities)
 from . import dust
-from .dust import DustMix
+from .dust import DustMix, compute_kappa, compute_kappa_table
 from .physics import KappaTable, PhotosphereTable, PowerLawOpacity, Ring, Star, planck_nu
 from .observables import Scene
 
@@ -49,7 +49,8 @@ __all__ = [
     # errors
     "DiskExplorerError", "ParameterError", "DataError", "DustError", "SeedError",
     # model
-    "Star", "Ring", "Scene", "DustMix", "PhotosphereTable", "KappaTable", "PowerLawOpacity", "planck_nu",
+    "Star", "Ring", "Scene", "DustMix", "compute_kappa", "compute_kappa_table", "PhotosphereTable",
+    "KappaTable", "PowerLawOpacity", "planck_nu",
     # observables
     "Evaluator", "Observer", "model_image", "radial_profiles", "normalized_silicate_band",
     # data

@@ -203,7 +203,11 @@ def check_component(name, method, size):
 
 
 def species_kappa(name, grain_size=0.1, shape="dhs", wavelength=None):
-    """κ_abs (cm² g⁻¹) of one species at ``wavelength`` (µm; default: the library grid)."""
+    """κ_abs (cm² g⁻¹) of one species at ``wavelength`` (µm; default: the library grid).
+
+    A built-in species is read from the committed table (tabulated sizes only; see
+    :func:`diskexplorer.dust.compute_kappa` for any other size).
+    """
     from .mixture import DustMix
     mix = DustMix({name: 1.0}, grain_size=grain_size, shape=shape)
     return mix.kappa(library_grid() if wavelength is None else wavelength)
