@@ -12,6 +12,7 @@ ALLOWED = {
     "observables": {"observables", "physics", "dust", "errors"},
     "data": {"data", "errors"},
     "fitting": {"fitting", "observables", "physics", "dust", "data", "errors"},
+    "report": {"report", "fitting", "observables", "physics", "dust", "data", "errors"},
 }
 
 
@@ -20,6 +21,13 @@ def test_core_import_loads_no_widgets():
             "diskexplorer.data, diskexplorer.fitting, diskexplorer.report, diskexplorer.sample, diskexplorer.cli\n"
             "bad = [m for m in sys.modules if m.split('.')[0] in ('ipywidgets', 'bqplot', 'voila', 'traitlets', 'IPython')]\n"
             "print(','.join(bad))")
+    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True)
+    assert out.stdout.strip() == ""
+
+
+def test_report_imports_matplotlib_only_to_draw():
+    code = ("import sys, diskexplorer.report, diskexplorer.report.figures, diskexplorer.cli\n"
+            "print(','.join(m for m in sys.modules if m.split('.')[0] == 'matplotlib'))")
     out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True)
     assert out.stdout.strip() == ""
 

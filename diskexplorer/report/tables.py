@@ -1,0 +1,168 @@
+"""χ² and residual tables of an evaluation, and their CSV files."""
+from __future__ import annotations
+
+import csv
+import math
+
+import numpy as np
+
+__all__ = ["residual_tables", "chi2_rows", "format_chi2_table", "write_residual_tables", "write_csv"]
+
+
+def _mlambda(u, v, wavelength):
+    """Spatial frequency B/λ in Mλ (10⁶ wavelengths) of baselines (u, v) in m at λ in µm."""
+    # B [m] / (λ [µm] 1e-6) / 1e6 = B / λ[µm]: the factors cancel.
+    return np.hypot(u, v) / wavelength
+
+
+def _coord(ds, name, default=""):
+    if name in ds.coords or name in ds:
+        return np.asarray(ds[name].values)
+    return np.full(ds.sizes.get("point", 0), default, dtype=object)
+
+
+def residual_tables(comparison, result):
+    """The data, model and residuals of every data kind as column tables.
+
+    Parameters
+    ----------
+    comparison : Comparison
+        The data, as bound by :class:`~diskexplorer.fitting.Comparison`.
+    result : ComparisonResult
+        From ``comparison.compare(scene)``.
+
+    Returns
+    -------
+    dict
+        Kind → dict of column name → 1-d array, one row per data point in the order of
+        the comparison. Column names carry their units: ``wavelength_um``,
+        ``spatial_frequency_Mlambda`` (B/λ in 10⁶ wavelengths; for closure phases the
+        longest baseline of the triangle), ``u_m``, ``v_m``, ``data``, ``error``,
+        ``model``, ``residual`` ((data − model)/error, closure phases by chord length, see diskexplorer.fitting.comparison.phase_residual;
+        upper limits contribute only where the model exceeds them). Data are in V²,
+        degrees (``t3phi``), visibility amplitude or Jy (``photometry``, ``spectrum``,
+        ``flux``); the SED kinds add one ``model_<component>`` column per component (Jy).
+    """
+    obs = comparison.observations
+    tables = {}
+    for kind in result.residuals:
+        cols = {}
+        if kind == "vis2":
+            ds = obs.vis2
+            u, v, lam = ds["u"].values, ds["v"].values, ds["wavelength"].values
+            cols.update(instrument=_coord(ds, "insname"), mjd=_coord(ds, "mjd", np.nan), u_m=u, v_m=v,
+                        wavelength_um=lam, spatial_frequency_Mlambda=_mlambda(u, v, lam),
+                        data=ds["vis2"].values, error=ds["vis2_err"].values)
+        elif kind in ("t3phi", "t3amp"):
+            ds = obs.t3
+            u1, v1, u2, v2 = (ds[n].values for n in ("u1", "v1", "u2", "v2"))
+            lam = ds["wavelength"].values
+            longest = np.max(np.stack([np.hypot(u1, v1), np.hypot(u2, v2), np.hypot(u1 + u2, v1 + v2)]), axis=0)
+            cols.update(instrument=_coord(ds, "insname"), mjd=_coord(ds, "mjd", np.nan), u1_m=u1, v1_m=v1,
+                        u2_m=u2, v2_m=v2, wavelength_um=lam, spatial_frequency_Mlambda=longest / lam,
+                        data=ds[kind].values, error=ds[f"{kind}_err"].values)
+        elif kind == "visamp":
+            ds = obs.vis
+            u, v, lam = ds["u"].values, ds["v"].values, ds["wavelength"].values
+            cols.update(instrument=_coord(ds, "insname"), mjd=_coord(ds, "mjd", np.nan), u_m=u, v_m=v,
+                        wavelength_um=lam, spatial_frequency_Mlambda=_mlambda(u, v, lam),
+                        amptyp=_coord(ds, "amptyp"), data=ds["visamp"].values, error=ds["visamp_err"].values)
+        else:
+            ds = {"photometry": comparison.photometry, "spectrum": comparison.spectrum,
+                  "flux": getattr(obs, "flux", None)}[kind]
+            flux = ds["flux"].values
+            err = ds["flux_err"].values if "flux_err" in ds else np.full(flux.shape, np.nan)
+            if kind == "spectrum":
+                # The error χ² used: samples without one get the comparison's 5 % default.
+                err = np.where(np.isfinite(err) & (err > 0), err, 0.05 * np.abs(flux))
+            if kind == "photometry":
+                cols["band"] = _coord(ds, "band")
+            if kind == "flux":
+                cols["instrument"] = _coord(ds, "insname")
+            cols.update(wavelength_um=ds["wavelength"].values, data=flux, error=err)
+            if kind == "photometry":
+                cols["upper_limit"] = ds["upper_limit"].values.astype(bool)
+        cols["model"] = np.asarray(result.model[kind], float)
+        cols["residual"] = np.asarray(result.residuals[kind], float)
+        comps = {"photometry": result.sed, "spectrum": result.spectrum}.get(kind) or {}
+        for name, values in comps.items():
+            if name != "total":
+                cols[f"model_{name}"] = np.asarray(values, float)
+        tables[kind] = cols
+    return tables
+
+
+def chi2_rows(result, tables=None):
+    """χ² per data kind, per instrument within each kind, and in total.
+
+    Parameters
+    ----------
+    result : ComparisonResult
+    tables : dict, optional
+        From :func:`residual_tables`; needed for the per-instrument rows.
+
+    Returns
+    -------
+    list of dict
+        Keys ``kind``, ``subset`` (instrument name, ``"all"`` or ``""`` for the total),
+        ``n``, ``chi2``, ``reduced`` (χ²/N) and ``weight`` (in the total).
+    """
+    rows = []
+    for kind, chi2 in result.chi2.items():
+        n = result.npoints[kind]
+        w = result.weights.get(kind, 1.0)
+        rows.append(dict(kind=kind, subset="all", n=n, chi2=chi2, reduced=chi2 / n if n else math.nan, weight=w))
+        inst = (tables or {}).get(kind, {}).get("instrument")
+        if inst is not None and len(set(inst)) > 1:
+            r = np.asarray(result.residuals[kind], float)
+            for name in sorted(set(inst)):
+                sel = (inst == name) & np.isfinite(r)
+                c = float(np.sum(r[sel] ** 2))
+                k = int(sel.sum())
+                rows.append(dict(kind=kind, subset=str(name), n=k, chi2=c, reduced=c / k if k else math.nan,
+                                 weight=w))
+    n = result.n_total
+    rows.append(dict(kind="total", subset="", n=n, chi2=result.total,
+                     reduced=result.total / n if n else math.nan, weight=math.nan))
+    return rows
+
+
+def format_chi2_table(rows):
+    """The χ² rows of :func:`chi2_rows` as an aligned text table."""
+    lines = [f"{'data':<12}{'subset':<10}{'N':>8}{'chi2':>14}{'chi2/N':>10}{'weight':>8}"]
+    for r in rows:
+        label = r["kind"] if r["subset"] in ("all", "") else ""
+        subset = "" if r["subset"] in ("all", "") else r["subset"]
+        weight = "" if math.isnan(r["weight"]) else f"{r['weight']:g}"
+        if r["kind"] == "total":
+            lines.append("-" * 62)
+        lines.append(f"{label:<12}{subset:<10}{r['n']:>8d}{r['chi2']:>14.2f}{r['reduced']:>10.3f}{weight:>8}")
+    return "\n".join(lines)
+
+
+def write_csv(path, columns):
+    """Write columns (name → 1-d array) to ``path`` as CSV; NaN as an empty cell, floats to 8 digits."""
+    names = list(columns)
+    arrays = [np.asarray(columns[n]) for n in names]
+    with open(path, "w", newline="", encoding="utf-8") as fh:
+        writer = csv.writer(fh)
+        writer.writerow(names)
+        for row in zip(*arrays):
+            writer.writerow([_cell(x) for x in row])
+
+
+def _cell(x):
+    if isinstance(x, (bool, np.bool_)):
+        return "true" if x else "false"
+    if isinstance(x, (float, np.floating)):
+        return "" if not np.isfinite(x) else f"{float(x):.8g}"
+    if isinstance(x, (int, np.integer)):
+        return str(int(x))
+    return str(x)
+
+
+def write_residual_tables(tables, paths):
+    """Write each kind's table (:func:`residual_tables`) to ``paths[kind]`` as CSV."""
+    for kind, cols in tables.items():
+        write_csv(paths[kind], cols)
+    return [paths[k] for k in tables]
