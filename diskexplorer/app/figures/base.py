@@ -13,10 +13,10 @@ EMPTY = np.zeros(0)
 
 
 def same(old, new):
-    """Whether assigning ``new`` over ``old`` would change nothing."""
+    """Whether assigning ``new`` over ``old`` would change nothing (arrays: shape, dtype and values)."""
     if isinstance(old, np.ndarray) or isinstance(new, np.ndarray):
         a, b = np.asarray(old), np.asarray(new)
-        if a.shape != b.shape:
+        if a.shape != b.shape or a.dtype != b.dtype:
             return False
         if a.dtype.kind in "fc" and b.dtype.kind in "fc":
             return bool(np.array_equal(a, b, equal_nan=True))
@@ -37,10 +37,24 @@ def assign(widget, **traits):
     """
     changed = {k: v for k, v in traits.items() if not same(getattr(widget, k), v)}
     if changed:
+        # An array trait notifies (and so syncs) only when the values differ
+        # (np.array_equal), so an array of equal values but another dtype would stay
+        # behind in the page: send those explicitly.
+        silent = [k for k, v in changed.items() if isinstance(v, np.ndarray)
+                  and isinstance(getattr(widget, k), np.ndarray) and _equal_values(getattr(widget, k), v)]
         with widget.hold_sync():
             for k, v in changed.items():
                 setattr(widget, k, v)
+        if silent:
+            widget.send_state(silent)
     return bool(changed)
+
+
+def _equal_values(a, b):
+    try:
+        return bool(np.array_equal(a, b))
+    except (TypeError, ValueError):
+        return False
 
 
 def new_figure(title, marks, axes, css_class, height="290px", legend=False):

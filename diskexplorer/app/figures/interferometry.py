@@ -8,14 +8,19 @@ import numpy as np
 from ..palette import INK, MUTED, OKABE_ITO, RING_COLOURS, WAVELENGTH_SCHEME
 from .base import EMPTY, assign, axis, error_segments, grouped_ticks, new_figure, swap_scale, tick_segments
 
-__all__ = ["Vis2Figure", "ClosureFigure", "CorrelatedFluxFigure", "wavelength_colours"]
+__all__ = ["Vis2Figure", "ClosureFigure", "CorrelatedFluxFigure", "wavelength_colours", "wavelength_position"]
+
+
+def wavelength_position(wavelength, lo, hi):
+    """Where ``wavelength`` (µm) lies on the colour key spanning ``lo``–``hi``: 0 … 1, clipped."""
+    return np.clip((np.asarray(wavelength, float) - lo) / max(hi - lo, 1e-9), 0.0, 1.0)
 
 
 def wavelength_colours(wavelength, lo, hi):
     """Hex colours of ``wavelength`` (µm) on the wavelength scheme spanning ``lo``–``hi``."""
     stops = np.array([[int(c[i:i + 2], 16) for i in (1, 3, 5)] for c in WAVELENGTH_SCHEME], float)
     pos = np.linspace(0, 1, len(stops))
-    f = np.clip((np.asarray(wavelength, float) - lo) / max(hi - lo, 1e-9), 0, 1)
+    f = wavelength_position(wavelength, lo, hi)
     rgb = np.stack([np.interp(f, pos, stops[:, k]) for k in range(3)], axis=-1)
     return ["#%02x%02x%02x" % tuple(int(round(c)) for c in row) for row in np.atleast_2d(rgb)]
 
@@ -37,7 +42,12 @@ class _PointsFigure:
 
     def __init__(self):
         self.sx, self.sy = bq.LinearScale(), bq.LinearScale()
-        self.colour = bq.ColorScale(colors=list(WAVELENGTH_SCHEME))
+        # The colour scale never changes: points carry their position on the key (0–1), so
+        # a new wavelength range travels in the same message as the points. Setting the
+        # scale's min/max apart from the colour array let the page recolour the old points
+        # with the new range when the scale's message came first, and bqplot's zero-length
+        # transition then painted those stale colours over the new ones.
+        self.colour = bq.ColorScale(colors=list(WAVELENGTH_SCHEME), min=0.0, max=1.0)
         sc = {"x": self.sx, "y": self.sy, "color": self.colour}
         self.errors = bq.Lines(x=EMPTY, y=EMPTY, scales={"x": self.sx, "y": self.sy}, colors=["#c9c6bd"],
                                stroke_width=1)
@@ -88,18 +98,19 @@ class _PointsFigure:
             assign(self.figure, title=f"{title} — colour: λ from {lo:.3g} µm (purple) to {hi:.3g} µm (red)")
         self._points = pts
         if pts is None:
-            for m in (self.data, self.errors, self.model, self.residuals):
+            assign(self.figure, title=f"{self.title} — no data")
+            assign(self.data, x=EMPTY, y=EMPTY, color=EMPTY)
+            for m in (self.errors, self.model, self.residuals):
                 assign(m, x=EMPTY, y=EMPTY)
             return
         lo, hi = view.wavelength_range
-        f = (np.asarray(pts["wavelength"], float) - lo) / max(hi - lo, 1e-9)
+        f = wavelength_position(pts["wavelength"], lo, hi)
         self._bin = np.clip((f * RESIDUAL_BINS).astype(int), 0, RESIDUAL_BINS - 1)
         assign(self.residuals, colors=wavelength_colours(lo + (np.arange(RESIDUAL_BINS) + 0.5) / RESIDUAL_BINS
                                                          * (hi - lo), lo, hi))
-        assign(self.colour, min=lo, max=hi)
         ex, ey = error_segments(pts["freq"], pts["value"], pts["error"])
         assign(self.errors, x=ex, y=ey)
-        assign(self.data, x=pts["freq"], y=pts["value"], color=pts["wavelength"])
+        assign(self.data, x=pts["freq"], y=pts["value"], color=f)
         fmax = float(np.max(pts["freq"])) * 1.05
         self._tick = 0.004 * fmax
         assign(self.sx, min=0.0, max=fmax)
