@@ -135,22 +135,26 @@ def _read_session_inputs(path):
 
 
 def _cmd_evaluate(args):
+    from .errors import DiskExplorerError
     from .report import FORMATS, data_description_with, evaluate
+    from .report.outputs import MIN_NPIX, check_image_wavelengths
 
+    # Every argument is checked before anything is read or written.
     formats = [f.strip().lower() for f in args.formats.split(",") if f.strip()]
     bad = [f for f in formats if f not in FORMATS]
     if bad or not formats:
         return _usage("evaluate", f"--formats {args.formats!r}: choose from {', '.join(FORMATS)}")
-    if args.npix < 16:
-        return _usage("evaluate", f"--npix {args.npix}: expected at least 16 pixels per side")
+    if args.npix < MIN_NPIX:
+        return _usage("evaluate", f"--npix {args.npix}: expected at least {MIN_NPIX} pixels per side")
+    try:
+        wavelengths = check_image_wavelengths(args.image_wavelengths)
+    except DiskExplorerError as exc:
+        return _usage("evaluate", f"--image-wavelengths {args.image_wavelengths!r}: {exc}")
+    out = args.out or f"{Path(args.start).stem}_evaluation"
+    if os.path.exists(out) and not os.path.isdir(out):
+        return _usage("evaluate", f"--out {out}: is a file, not a folder; choose another output folder")
     if not os.path.exists(args.start):
         raise FileNotFoundError(f"{args.start}: no such starting-point or session file")
-    out = args.out or f"{Path(args.start).stem}_evaluation"
-    try:
-        wavelengths = [float(x) for x in args.image_wavelengths.split(",") if x.strip()]
-    except ValueError:
-        return _usage("evaluate", f"--image-wavelengths {args.image_wavelengths!r}: expected numbers in µm, "
-                                  "comma-separated")
 
     def say(message):
         print(message, flush=True)
@@ -162,7 +166,7 @@ def _cmd_evaluate(args):
         scene, desc = session
         say(f"reading the session {args.start}")
         base = os.path.dirname(os.path.abspath(args.start))
-        report = evaluate(scene, data=data_description_with(desc, args.data), base_dir=base, **common)
+        report = evaluate(scene, data=data_description_with(desc, args.data, say=say), base_dir=base, **common)
     else:
         report = evaluate(args.start, data=args.data, **common)
     print()
@@ -172,8 +176,21 @@ def _cmd_evaluate(args):
     return 0
 
 
+def _version():
+    from importlib import metadata
+
+    try:
+        return metadata.version("diskexplorer")
+    except metadata.PackageNotFoundError:  # running from a source tree that is not installed
+        from . import __version__
+
+        return __version__
+
+
 def build_parser():
     parser = argparse.ArgumentParser(prog="diskexplorer", description=__doc__)
+    parser.add_argument("--version", action="version", version=f"diskexplorer {_version()}",
+                        help="print the package version and exit")
     sub = parser.add_subparsers(dest="command", required=True)
     p = sub.add_parser(
         "demo", help="serve the explorer on 127.0.0.1 (the sample data, or yours with --data)",
@@ -226,14 +243,16 @@ def build_parser():
                     "and the figures sed, silicate_band, vis2, closure_phase, image and profiles.")
     p.add_argument("start", metavar="START.json", help="starting-point document or explorer session file")
     p.add_argument("--data", metavar="PATH", nargs="+",
-                   help="data files to use instead (OIFITS files or folders, one photometry table, one "
-                        "spectrum; classified by content); each kind given replaces the document's data of "
-                        "that kind, other kinds are kept")
-    p.add_argument("--out", metavar="DIR", help="output folder (default START_evaluation)")
+                   help="data files or folders to use instead (OIFITS, one photometry table, one spectrum; "
+                        "recognised by content, a folder's other files skipped with a note); each kind given "
+                        "replaces the document's data of that kind, other kinds are kept")
+    p.add_argument("--out", metavar="DIR", help="output folder (default START_evaluation); the report is written "
+                                                "beside it and moved in only when complete")
     p.add_argument("--formats", default="png", help="figure formats, comma-separated: png, pdf (default png)")
     p.add_argument("--image-wavelengths", default="1.65,2.2,3.5,4.8,8.5,10,12.5", metavar="UM,UM,...",
-                   help="wavelengths of the model image cube in µm (default 1.65,2.2,3.5,4.8,8.5,10,12.5)")
-    p.add_argument("--npix", type=int, default=256, help="image pixels per side (default 256)")
+                   help="wavelengths of the model image cube in µm, positive and distinct "
+                        "(default 1.65,2.2,3.5,4.8,8.5,10,12.5)")
+    p.add_argument("--npix", type=int, default=256, help="image pixels per side, at least 16 (default 256)")
     p.add_argument("--force", action="store_true", help="overwrite existing outputs")
     p.set_defaults(func=_cmd_evaluate)
     return parser

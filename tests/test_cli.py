@@ -275,3 +275,182 @@ def test_evaluate_reads_an_explorer_session(tmp_path, capsys):
     text = capsys.readouterr().out
     assert "reading the session" in text and "photometry" in text
     assert (out / "residuals_vis2.csv").exists() and not (out / "residuals_spectrum.csv").exists()
+
+
+# --------------------------------------------------------------------------- evaluate: your own data
+# Files written here with the project's writer for an invented array, instrument and
+# wavelengths (not the sample's), next to the kind of clutter a real data folder holds.
+@pytest.fixture(scope="module")
+def own_data(tmp_path_factory):
+    from diskexplorer.data import write_oifits
+    from diskexplorer.testing import make_observations
+
+    folder = tmp_path_factory.mktemp("own") / "my_night"
+    folder.mkdir()
+    # Tiny error bars: the demo model is far from a uniform disk, so χ² is huge.
+    obs = make_observations(band="L", n_telescopes=5, n_channels=6, noise=0.001, insname="INV_LM",
+                            arrname="INV_ARRAY", target="INVENTED-1")
+    obs.t3["t3amp"].values[:] = np.nan   # closure phases only: no usable T3AMP (N = 0)
+    write_oifits(folder / "night_LM.fits", obs)
+    (folder / "sed.csv").write_text("band,value,error,unit\nJ,8.10,0.03,mag\nKs,6.90,0.02,mag\nW3,1.20,0.06,Jy\n")
+    (folder / "README.md").write_text("# My night\n\nObserved with an invented instrument.\n")
+    (folder / "notes.json").write_text('{"observer": "nobody"}\n')
+    return folder
+
+
+def _table_lines(text):
+    lines = text.splitlines()
+    start = next(i for i, ln in enumerate(lines) if ln.startswith("data") and "chi2/N" in ln)
+    end = next(i for i, ln in enumerate(lines[start:], start) if ln.startswith("total"))
+    return lines[start:end + 1]
+
+
+def test_evaluate_own_folder_skips_non_data_and_formats_large_chi2(start_file, own_data, tmp_path, capsys):
+    out = tmp_path / "r"
+    code = main(["evaluate", str(start_file), "--out", str(out), "--data", str(own_data),
+                 "--image-wavelengths", "3.5", "--npix", "32"])
+    assert code == 0, capsys.readouterr().err
+    text = capsys.readouterr().out
+    assert f"note: {own_data / 'README.md'}: skipped: a text file that is not a data table" in text
+    assert f"note: {own_data / 'notes.json'}: skipped: a JSON document" in text
+    table = _table_lines(text)
+    assert "nan" not in "\n".join(table).lower()
+    widths = {len(ln) for ln in table if not ln.startswith(("-", "total"))}
+    assert len(widths) == 1, table   # one width for every row: columns line up
+    for ln in table[1:]:
+        if ln.startswith("-"):
+            continue
+        cells = ln.split()
+        numbers = [c for c in cells if c[0].isdigit() or c == "—"]
+        for c in numbers:   # each number stands alone: no two run together
+            assert c == "—" or float(c) >= 0, ln
+        if cells[0] == "vis2":
+            assert float(cells[2]) > 1e7 and "e+" in cells[2], ln   # large χ² in scientific notation
+        if cells[0] == "t3amp":
+            assert cells[1:] == ["0", "—", "—", "0"], ln
+    assert "note: t3amp: no usable data point (N = 0)" in text
+    # The document's spectrum is kept; the folder replaced OIFITS and photometry.
+    assert "spectrum" in "\n".join(table) and "INV_LM" not in "\n".join(table)
+
+
+def test_weight_zero_kinds_are_listed_and_said_to_be_out_of_the_total():
+    from diskexplorer.report import format_chi2_table
+
+    rows = [dict(kind="vis2", subset="all", n=10, chi2=12.0, reduced=1.2, weight=1.0),
+            dict(kind="t3amp", subset="all", n=8, chi2=80.0, reduced=10.0, weight=0.0),
+            dict(kind="total", subset="", n=10, chi2=12.0, reduced=1.2, weight=float("nan"))]
+    text = format_chi2_table(rows)
+    assert "note: t3amp has weight 0: listed, but not in the total" in text
+    assert text.splitlines()[2].split() == ["t3amp", "8", "80.00", "10.000", "0"]
+
+
+def test_evaluate_data_that_is_no_kind_says_what_it_is(start_file, tmp_path, capsys):
+    from astropy.io import fits
+
+    image = tmp_path / "frame.fits"
+    fits.PrimaryHDU(np.zeros((20, 30), np.float32)).writeto(image)
+    code = main(["evaluate", str(start_file), "--out", str(tmp_path / "r"), "--data", str(image)])
+    assert code == 1
+    err = _stderr_line(capsys)
+    assert f"{image}: a FITS image: not OIFITS" in err and "PRIMARY (image 30 × 20)" in err
+    assert not (tmp_path / "r").exists()
+
+
+def test_evaluate_truncated_oifits_names_the_file(start_file, own_data, tmp_path, capsys):
+    data = (own_data / "night_LM.fits").read_bytes()
+    cut = tmp_path / "cut.fits"
+    cut.write_bytes(data[: len(data) // 2 + 11])
+    assert main(["evaluate", str(start_file), "--out", str(tmp_path / "r"), "--data", str(cut)]) == 1
+    assert f"{cut}: truncated or damaged FITS file" in _stderr_line(capsys)
+
+
+@pytest.mark.parametrize("value, fragment", [("-2,0", "-2, 0"), ("2.2,abc", "'abc'"), ("10,10", "given twice"),
+                                             (",", "no image wavelength")])
+def test_bad_image_wavelengths_are_refused_before_anything_is_written(start_file, tmp_path, capsys, value,
+                                                                     fragment):
+    out = tmp_path / "r"
+    code = main(["evaluate", str(start_file), "--out", str(out), f"--image-wavelengths={value}"])
+    assert code == 2
+    err = _stderr_line(capsys)
+    assert err.startswith("diskexplorer evaluate: --image-wavelengths") and fragment in err
+    assert "dust" not in err
+    assert list(tmp_path.iterdir()) == []
+
+
+def test_out_naming_a_file_is_one_line_saying_so(start_file, tmp_path, capsys):
+    target = tmp_path / "taken.txt"
+    target.write_text("mine\n")
+    assert main(["evaluate", str(start_file), "--out", str(target)]) == 2
+    err = _stderr_line(capsys)
+    assert "is a file, not a folder" in err and "Errno" not in err
+    assert target.read_text() == "mine\n"
+
+
+def test_a_failed_evaluation_leaves_nothing_and_a_rerun_is_not_refused(start_file, own_data, tmp_path, capsys,
+                                                                       monkeypatch):
+    import diskexplorer.report.evaluation as evaluation
+    from diskexplorer.errors import DiskExplorerError
+
+    out = tmp_path / "r"
+    args = ["evaluate", str(start_file), "--out", str(out), "--data", str(own_data / "night_LM.fits"),
+            "--image-wavelengths", "3.5", "--npix", "32"]
+
+    def broken(*a, **k):
+        raise DiskExplorerError("figure drawing failed on purpose")
+
+    monkeypatch.setattr(evaluation, "write_figures", broken)
+    assert main(args) == 1
+    assert "failed on purpose" in capsys.readouterr().err
+    assert list(tmp_path.iterdir()) == []   # no output folder, no leftover temporary folder
+    monkeypatch.undo()
+    assert main(args) == 0                  # not refused: nothing was left behind
+    assert (out / "chi2.csv").exists() and (out / "vis2.png").exists()
+    assert [p.name for p in tmp_path.iterdir()] == ["r"]
+
+
+def test_a_failure_into_an_existing_folder_keeps_what_was_there(start_file, own_data, tmp_path, monkeypatch):
+    import diskexplorer.report.evaluation as evaluation
+
+    out = tmp_path / "r"
+    out.mkdir()
+    (out / "my_notes.txt").write_text("keep me\n")
+    args = ["evaluate", str(start_file), "--out", str(out), "--data", str(own_data / "night_LM.fits"),
+            "--image-wavelengths", "3.5", "--npix", "32", "--formats", "pdf"]
+
+    def interrupted(*a, **k):
+        raise KeyboardInterrupt
+
+    monkeypatch.setattr(evaluation, "write_figures", interrupted)
+    with pytest.raises(KeyboardInterrupt):
+        main(args)
+    assert [p.name for p in out.iterdir()] == ["my_notes.txt"]
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["r"]
+    monkeypatch.undo()
+    assert main(args) == 0
+    assert (out / "my_notes.txt").read_text() == "keep me\n" and (out / "sed.pdf").exists()
+
+
+def test_version(capsys):
+    from importlib import metadata
+
+    with pytest.raises(SystemExit) as exc:
+        main(["--version"])
+    assert exc.value.code == 0
+    assert capsys.readouterr().out.strip() == f"diskexplorer {metadata.version('diskexplorer')}"
+
+
+def test_evaluate_from_python_checks_arguments_before_reading_anything(tmp_path):
+    from diskexplorer.errors import DiskExplorerError
+    from diskexplorer.report import evaluate
+
+    missing = tmp_path / "not_read.fits"   # never opened: the arguments are refused first
+    with pytest.raises(DiskExplorerError, match=r"image wavelength\(s\) -2, 0: expected positive numbers in µm"):
+        evaluate(demo_scene(), out=tmp_path / "r", data=[missing], image_wavelengths=(-2, 0))
+    with pytest.raises(DiskExplorerError, match="npix 8"):
+        evaluate(demo_scene(), out=tmp_path / "r", data=[missing], npix=8)
+    (tmp_path / "f").write_text("")
+    with pytest.raises(NotADirectoryError, match="is a file, not a folder"):
+        evaluate(demo_scene(), out=tmp_path / "f", data=[missing])
+    with pytest.raises(NotADirectoryError, match="is a file, so"):
+        evaluate(demo_scene(), out=tmp_path / "f" / "sub", data=[missing])
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["f"]

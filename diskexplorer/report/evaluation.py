@@ -2,14 +2,13 @@
 from __future__ import annotations
 
 from dataclasses import dataclass, field
-from pathlib import Path
 
 from ..errors import DataError, DiskExplorerError
 from .cube import model_cube, write_model_cube
 from .figures import write_figures
 from .inputs import data_description_with, load_start
-from .outputs import DEFAULT_DPI, DEFAULT_IMAGE_WAVELENGTHS, FORMATS, _quiet, _refuse_existing, figure_formats, \
-    planned_outputs
+from .outputs import DEFAULT_DPI, DEFAULT_IMAGE_WAVELENGTHS, FORMATS, MIN_NPIX, StagedOutput, _quiet, \
+    _refuse_existing, check_image_wavelengths, check_output_folder, figure_formats, planned_outputs
 from .tables import chi2_rows, format_chi2_table, residual_tables, write_csv, write_residual_tables
 
 __all__ = ["EvaluationReport", "evaluate"]
@@ -58,7 +57,9 @@ def evaluate(source, out="evaluation", data=None, formats=("png",), force=False,
         A starting-point document (path, dict or read), or a bare :class:`Scene` (then
         ``data`` names the data).
     out : str or os.PathLike
-        Output folder (created if needed).
+        Output folder (created if needed). Everything is written into a hidden temporary
+        folder beside it and moved into place only when complete; a failure leaves
+        ``out`` as it was.
     data : sequence of paths, DataDescription or dict, optional
         With a starting point: data files (OIFITS, photometry, spectrum; classified by
         content) replacing the document's data of the same kind. With a bare scene: a
@@ -75,11 +76,11 @@ def evaluate(source, out="evaluation", data=None, formats=("png",), force=False,
         Folder relative data paths refer to (default: the document's folder, else the
         current directory).
     image_wavelengths : sequence of float
-        Wavelengths of the image cube in µm.
+        Wavelengths of the image cube in µm (positive, distinct).
     npix : int
-        Image pixels per side.
+        Image pixels per side (at least 16).
     dpi : int
-        Resolution of raster figures.
+        Resolution of raster figures (dots per inch, > 0).
     figures, cube : bool
         Whether to draw figures and write the netCDF cube.
 
@@ -91,10 +92,13 @@ def evaluate(source, out="evaluation", data=None, formats=("png",), force=False,
     ------
     FileExistsError
         If an output exists and ``force`` is False.
+    NotADirectoryError
+        ``out`` (or a folder above it) is a file.
     SeedError, DataError, DiskExplorerError
-        Bad documents, data files or arguments.
+        Bad documents, data files or arguments; arguments are checked before anything
+        is read or written.
     FileNotFoundError
-        A data file that does not exist.
+        A starting-point document that does not exist.
 
     Examples
     --------
@@ -108,13 +112,19 @@ def evaluate(source, out="evaluation", data=None, formats=("png",), force=False,
     fmts = figure_formats(formats) if figures else ()
     if figures and not fmts:
         raise DiskExplorerError("no figure format given; choose from " + ", ".join(FORMATS))
+    lams = check_image_wavelengths(image_wavelengths)
+    if isinstance(npix, bool) or not isinstance(npix, int) or npix < MIN_NPIX:
+        raise DiskExplorerError(f"npix {npix!r}: expected a whole number of at least {MIN_NPIX} pixels per side")
+    if not (isinstance(dpi, (int, float)) and dpi > 0):
+        raise DiskExplorerError(f"dpi {dpi!r}: expected a positive number of dots per inch")
+    check_output_folder(out)
     accuracy = 1
     if isinstance(source, Scene):
         scene = source
         if data is None or isinstance(data, (dict, DataDescription)):
             desc = describe_data(data)
         else:
-            desc = data_description_with(None, list(data))
+            desc = data_description_with(None, data, say=say)
     else:
         say(f"reading the starting point {source if not isinstance(source, dict) else '(document)'}")
         start = load_start(source)
@@ -124,7 +134,7 @@ def evaluate(source, out="evaluation", data=None, formats=("png",), force=False,
         if data is None or isinstance(data, (dict, DataDescription)):
             desc = describe_data(data) if data is not None else start.data
         else:
-            desc = data_description_with(start.data, list(data))
+            desc = data_description_with(start.data, data, say=say)
     if desc.empty:
         raise DataError("no data to evaluate against: the starting point names none; give data files "
                         "(--data PATH ...)")
@@ -136,25 +146,23 @@ def evaluate(source, out="evaluation", data=None, formats=("png",), force=False,
     result = comparison.compare(scene)
     tables = residual_tables(comparison, result)
     rows = chi2_rows(result, tables)
-    Path(out).mkdir(parents=True, exist_ok=True)
-    files = []
-    write_csv(plan["chi2"], {k: [r[k] for r in rows] for k in ("kind", "subset", "n", "chi2", "reduced", "weight")})
-    files.append(plan["chi2"])
-    say("writing residual tables")
-    files += write_residual_tables(tables, plan["residuals"])
-    cube_ds = None
-    if cube or figures:
-        say("computing the model cube")
-        cube_ds = model_cube(scene, comparison, result, image_wavelengths=image_wavelengths, npix=npix,
-                             progress=say)
-    if cube:
-        if plan["cube"].exists():
-            plan["cube"].unlink()  # netCDF4 refuses to clobber an open-for-read file; force was given
-        write_model_cube(cube_ds, plan["cube"])
-        files.append(plan["cube"])
-        say(f"wrote {plan['cube']}")
-    if figures:
-        say("drawing figures")
-        files += write_figures(scene, comparison, result, cube_ds, plan["figures"], dpi=dpi, progress=say)
+    with StagedOutput(out) as staging:
+        tmp = planned_outputs(staging.path, comparison.kinds, fmts or ("png",), figures=figures, cube=cube)
+        written = []
+        write_csv(tmp["chi2"], {k: [r[k] for r in rows] for k in ("kind", "subset", "n", "chi2", "reduced", "weight")})
+        written.append(tmp["chi2"])
+        say("writing residual tables")
+        written += write_residual_tables(tables, tmp["residuals"])
+        cube_ds = None
+        if cube or figures:
+            say("computing the model cube")
+            cube_ds = model_cube(scene, comparison, result, image_wavelengths=lams, npix=npix, progress=say)
+        if cube:
+            write_model_cube(cube_ds, tmp["cube"])
+            written.append(tmp["cube"])
+        if figures:
+            say("drawing figures")
+            written += write_figures(scene, comparison, result, cube_ds, tmp["figures"], dpi=dpi, progress=say)
+        files = [staging.final(p) for p in written]
     return EvaluationReport(scene=scene, comparison=comparison, result=result, chi2=rows, files=files,
                             cube=cube_ds)

@@ -35,7 +35,7 @@ def load_start(source):
     return read_start(source)
 
 
-def data_description_with(description, files=None, base_dir=None):
+def data_description_with(description, files=None, base_dir=None, *, say=None):
     """A data description whose kinds are replaced by ``files`` where given.
 
     Parameters
@@ -50,6 +50,8 @@ def data_description_with(description, files=None, base_dir=None):
     base_dir : str, optional
         Folder the description's relative paths refer to; override paths are made
         absolute against the current directory, so they stay right whatever the base.
+    say : callable, optional
+        ``say(message)`` for each file of a folder that is skipped as not data.
 
     Returns
     -------
@@ -67,6 +69,8 @@ def data_description_with(description, files=None, base_dir=None):
     if not files:
         return desc
     found = collect_data_files(files)
+    for note in found.notes:
+        (say or (lambda message: None))(f"note: {note}")
     kinds = {k: [os.path.abspath(p) for p in v] for k, v in found.items()}
     for kind in ("photometry", "spectrum"):
         if len(kinds[kind]) > 1:

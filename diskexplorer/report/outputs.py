@@ -5,12 +5,16 @@ output can be refused (or a half-written folder avoided) up front.
 """
 from __future__ import annotations
 
+import math
+import os
+import shutil
+import tempfile
 from pathlib import Path
 
 from ..errors import DiskExplorerError
 
-__all__ = ["FIGURES", "FIGURE_SIZES_IN", "DEFAULT_DPI", "FORMATS", "DEFAULT_IMAGE_WAVELENGTHS",
-           "planned_outputs", "figure_formats"]
+__all__ = ["FIGURES", "FIGURE_SIZES_IN", "DEFAULT_DPI", "FORMATS", "DEFAULT_IMAGE_WAVELENGTHS", "MIN_NPIX",
+           "planned_outputs", "figure_formats", "check_image_wavelengths", "check_output_folder", "StagedOutput"]
 
 #: Figure names, in the order they are drawn.
 FIGURES = ("sed", "silicate_band", "vis2", "closure_phase", "image", "profiles")
@@ -23,6 +27,8 @@ DEFAULT_DPI = 100
 FORMATS = ("png", "pdf")
 #: Wavelengths (µm) of the model image cube: H, K, L, M and two N-band points.
 DEFAULT_IMAGE_WAVELENGTHS = (1.65, 2.2, 3.5, 4.8, 8.5, 10.0, 12.5)
+#: Fewest image pixels per side of the model cube.
+MIN_NPIX = 16
 
 
 def _quiet(message):
@@ -98,3 +104,109 @@ def _refuse_existing(plan, force):
         more = f" (and {len(existing) - 1} more output(s))" if len(existing) > 1 else ""
         raise FileExistsError(f"{existing[0]} exists{more}; pass --force (force=True) to overwrite, or choose "
                               "another output folder")
+
+
+def check_image_wavelengths(values):
+    """The model cube's wavelengths as a tuple of floats, or a refusal saying what is wrong.
+
+    Parameters
+    ----------
+    values : sequence of float or str
+        Wavelengths in µm, or a comma-separated string of them.
+
+    Returns
+    -------
+    tuple of float
+
+    Raises
+    ------
+    DiskExplorerError
+        No wavelength, a value that is not a number, not finite or not > 0, or the same
+        wavelength twice (the message lists the offending values).
+    """
+    if isinstance(values, str):
+        values = [v for v in values.split(",") if v.strip()]
+    try:
+        items = list(values)
+    except TypeError:
+        items = [values]
+    out, bad = [], []
+    for v in items:
+        try:
+            x = float(v)
+        except (TypeError, ValueError):
+            bad.append(repr(v.strip() if isinstance(v, str) else v))
+            continue
+        if not math.isfinite(x) or x <= 0:
+            bad.append(f"{x:g}")
+        out.append(x)
+    if bad:
+        raise DiskExplorerError(f"image wavelength(s) {', '.join(bad)}: expected positive numbers in µm "
+                                "(e.g. 2.2,10)")
+    if not out:
+        raise DiskExplorerError("no image wavelength given: expected positive numbers in µm (e.g. 2.2,10)")
+    dup = sorted({x for x in out if out.count(x) > 1})
+    if dup:
+        raise DiskExplorerError(f"image wavelength(s) {', '.join(f'{x:g}' for x in dup)} µm given twice")
+    return tuple(out)
+
+
+def check_output_folder(out):
+    """Refuse an output folder that cannot be one (it, or a folder above it, is a file).
+
+    Raises
+    ------
+    NotADirectoryError
+        With a one-line message naming the file.
+    """
+    path = Path(os.path.abspath(out))
+    if path.exists() and not path.is_dir():
+        raise NotADirectoryError(f"{out}: is a file, not a folder; choose another output folder")
+    for parent in path.parents:
+        if parent.exists():
+            if not parent.is_dir():
+                raise NotADirectoryError(f"{parent}: is a file, so {out} cannot be made as an output folder")
+            break
+
+
+class StagedOutput:
+    """A hidden temporary folder beside ``out`` that becomes ``out`` only when complete.
+
+    ``with StagedOutput(out) as staging:`` writes go into ``staging.path``; when the block
+    ends without an error, :meth:`commit` moves them into place (the folder is renamed when
+    ``out`` does not exist; otherwise each file replaces its namesake in ``out`` and other
+    files there stay). On an error the temporary folder is removed, so a failed run leaves
+    no half-written output and does not block the next one.
+    """
+
+    def __init__(self, out):
+        self.out = Path(out)
+        target = Path(os.path.abspath(out))
+        target.parent.mkdir(parents=True, exist_ok=True)
+        # Beside the target, so the final move is a rename on the same file system.
+        self.path = Path(tempfile.mkdtemp(prefix=f".{target.name}.", suffix=".partial", dir=target.parent))
+        self._target = target
+
+    def __enter__(self):
+        return self
+
+    def __exit__(self, exc_type, exc, tb):
+        if exc_type is None:
+            self.commit()
+        else:
+            shutil.rmtree(self.path, ignore_errors=True)
+        return False
+
+    def final(self, path):
+        """Where ``path`` (inside the staging folder) ends up, under ``out`` as given."""
+        return self.out / Path(path).relative_to(self.path)
+
+    def commit(self):
+        if not self.path.exists():
+            return
+        if not self._target.exists():
+            os.replace(self.path, self._target)
+            return
+        for f in sorted(self.path.iterdir()):
+            os.replace(f, self._target / f.name)
+        self.path.rmdir()

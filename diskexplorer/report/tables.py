@@ -127,16 +127,64 @@ def chi2_rows(result, tables=None):
     return rows
 
 
+def _number(x, decimals):
+    """A table cell: fixed-point with ``decimals``, scientific when that would be long or read 0."""
+    if x is None or not math.isfinite(x):
+        return "—"
+    if x != 0 and (abs(x) >= 1e7 or abs(x) < 10.0 ** -decimals):
+        return f"{x:.4e}"
+    return f"{x:.{decimals}f}"
+
+
 def format_chi2_table(rows):
-    """The χ² rows of :func:`chi2_rows` as an aligned text table."""
-    lines = [f"{'data':<12}{'subset':<10}{'N':>8}{'chi2':>14}{'chi2/N':>10}{'weight':>8}"]
+    """The χ² rows of :func:`chi2_rows` as an aligned text table.
+
+    Column widths follow the content, so large χ² never run into the next column (values
+    of 10⁷ and more are written in scientific notation). A kind with no usable point
+    (N = 0) shows "—" instead of χ² and χ²/N; kinds of weight 0 are listed but left out
+    of the total, and a note under the table says so.
+
+    Parameters
+    ----------
+    rows : list of dict
+        From :func:`chi2_rows`.
+
+    Returns
+    -------
+    str
+    """
+    header = ("data", "subset", "N", "chi2", "chi2/N", "weight")
+    right = (False, False, True, True, True, True)
+    body, rules, notes = [], [], []
     for r in rows:
+        total = r["kind"] == "total"
         label = r["kind"] if r["subset"] in ("all", "") else ""
-        subset = "" if r["subset"] in ("all", "") else r["subset"]
-        weight = "" if math.isnan(r["weight"]) else f"{r['weight']:g}"
-        if r["kind"] == "total":
-            lines.append("-" * 62)
-        lines.append(f"{label:<12}{subset:<10}{r['n']:>8d}{r['chi2']:>14.2f}{r['reduced']:>10.3f}{weight:>8}")
+        subset = "" if r["subset"] in ("all", "") else str(r["subset"])
+        n = int(r["n"])
+        weight = r["weight"]
+        w_text = "" if weight is None or (isinstance(weight, float) and math.isnan(weight)) else f"{weight:g}"
+        chi2 = r["chi2"] if n else None
+        body.append((label, subset, str(n), _number(chi2, 2), _number(r["reduced"] if n else None, 3), w_text))
+        if total:
+            rules.append(len(body) - 1)
+        elif label:
+            if not n:
+                notes.append(f"{r['kind']}: no usable data point (N = 0)")
+            elif weight == 0:
+                notes.append(f"{r['kind']} has weight 0: listed, but not in the total")
+    widths = [max(len(h), *(len(row[k]) for row in body)) for k, h in enumerate(header)]
+
+    def line(cells):
+        return "  ".join(c.rjust(w) if r else c.ljust(w) for c, w, r in zip(cells, widths, right)).rstrip()
+
+    lines = [line(header)]
+    for k, row in enumerate(body):
+        if k in rules:
+            lines.append("-" * len(line(header)))
+        lines.append(line(row))
+    if notes:
+        lines.append("")
+        lines.extend(f"note: {n}" for n in notes)
     return "\n".join(lines)
 
 
