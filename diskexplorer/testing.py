@@ -1,6 +1,8 @@
-"""Public helpers for tests: a synthetic OIFITS factory and readable comparisons.
+"""Public helpers for tests: a synthetic OIFITS factory, a small synthetic scene and its
+data, and readable comparisons.
 
-Headless and fast; uses only the data layer (:mod:`diskexplorer.data`).
+Headless and fast. The OIFITS helpers use only the data layer (:mod:`diskexplorer.data`);
+:func:`synthetic_scene` and :func:`synthetic_data` import the model lazily.
 """
 
 from __future__ import annotations
@@ -14,7 +16,7 @@ from .data.bands import band_range
 from .data.observations import KINDS, ObservationSet
 from .data.oifits_write import write_oifits
 
-__all__ = ["make_observations", "make_oifits", "assert_observations_equal"]
+__all__ = ["make_observations", "make_oifits", "assert_observations_equal", "synthetic_scene", "synthetic_data"]
 
 # An invented, non-redundant station layout (east, north, up; m) for synthetic arrays.
 _STATIONS = np.array([[0.0, 0.0, 0.0], [32.0, 14.0, 0.0], [-21.0, 47.0, 0.0], [58.0, -36.0, 0.0],
@@ -25,7 +27,8 @@ def make_observations(*, n_telescopes: int = 4, n_exposures: int = 3, n_channels
                       band: str = "K", n_triangles: int | None = None, diameter_mas: float = 2.0,
                       target: str = "SIM-DISK-1", insname: str = "SIM_INSTR", arrname: str = "SIM_ARRAY",
                       flag_fraction: float = 0.0, include_vis: bool = False, include_flux: bool = False,
-                      noise: float = 0.01, seed: int = 0, mjd0: float = 60000.0) -> ObservationSet:
+                      noise: float = 0.01, seed: int = 0, mjd0: float = 60000.0,
+                      wavelengths=None) -> ObservationSet:
     """Build a synthetic observation set of a uniform disk on an invented array.
 
     Parameters
@@ -39,6 +42,9 @@ def make_observations(*, n_telescopes: int = 4, n_exposures: int = 3, n_channels
         Spectral channels spread evenly over the band.
     band : str
         Interferometric band (H, K, L, M, N) setting the wavelength range.
+    wavelengths : array_like, optional
+        Channel wavelengths, µm, in the order the file lists them (ascending, or
+        descending as some instruments write them); overrides ``band`` and ``n_channels``.
     n_triangles : int, optional
         Closure triangles per exposure (default: all).
     diameter_mas : float
@@ -61,8 +67,17 @@ def make_observations(*, n_telescopes: int = 4, n_exposures: int = 3, n_channels
     if not 2 <= n_telescopes <= len(_STATIONS):
         raise ValueError(f"n_telescopes must be 2..{len(_STATIONS)}, got {n_telescopes}")
     rng = np.random.default_rng(seed)
-    lo, hi = band_range(band)
-    wave = np.linspace(lo + 0.05 * (hi - lo), hi - 0.05 * (hi - lo), n_channels)
+    if wavelengths is None:
+        lo, hi = band_range(band)
+        wave = np.linspace(lo + 0.05 * (hi - lo), hi - 0.05 * (hi - lo), n_channels)
+    else:
+        wave = np.asarray(wavelengths, float).ravel()
+        if wave.size < 1 or not np.all(np.isfinite(wave) & (wave > 0)):
+            raise ValueError(f"wavelengths must be positive and finite (µm), got {wavelengths!r}")
+        n_channels = wave.size
+        lo, hi = float(wave.min()), float(wave.max())
+        if hi == lo:
+            lo, hi = 0.95 * lo, 1.05 * hi
     # Single-precision-exact wavelengths so a written file reads back bit for bit.
     wave = ((wave * 1e-6).astype(np.float32).astype(float)) * 1e6
     bw = np.full(n_channels, (hi - lo) * 0.9 / max(n_channels, 1))
@@ -194,3 +209,87 @@ def assert_observations_equal(actual: ObservationSet, expected: ObservationSet, 
                                 f"point {i}: {x[i]!r} != {y[i]!r}")
     if problems:
         raise AssertionError("observation sets differ:\n  " + "\n  ".join(problems))
+
+
+def synthetic_scene():
+    """A small invented scene: a star with two rings and a gap (140 pc, inclination 35°).
+
+    Cheaper to evaluate than the sample's scene; the app's widget tests use it with
+    :func:`synthetic_data`.
+
+    Returns
+    -------
+    Scene
+    """
+    from .dust import DustMix
+    from .observables.scene import Scene
+    from .physics.ring import Ring
+    from .physics.star import Star
+
+    inner = Ring(r_in=0.35, r_out=0.9, t_in=1450.0, q=0.6, sigma_in=3e-3, p=1.0,
+                 dust=DustMix({"olivine_glass": 0.6, "forsterite": 0.25, "iron": 0.15}, grain_size=1.5, shape="dhs"),
+                 name="inner")
+    outer = Ring(r_in=3.0, r_out=8.0, t_in=420.0, q=0.5, sigma_in=1e-3, p=1.0,
+                 dust=DustMix({"olivine_glass": 0.8, "enstatite_glass": 0.2}, grain_size=0.1, shape="dhs"),
+                 name="outer")
+    return Scene(distance=140.0, star=Star(t_eff=7600.0, radius=2.1, mass=2.2),
+                 rings=(inner, outer), inclination=35.0, position_angle=60.0,
+                 extended_fraction=0.03)
+
+
+def synthetic_data(scene=None, seed: int = 1) -> dict:
+    """Synthetic V², closure phases, photometry and an N-band spectrum of ``scene``.
+
+    The "truth" is ``scene`` with a slightly hotter, larger inner ring and a bright side,
+    so ``scene`` itself does not fit perfectly. Noise is Gaussian. Two invented
+    instruments (K band, 6 telescopes, 8 channels; N band, 4 telescopes, 24 channels),
+    each on an array of its own.
+
+    Parameters
+    ----------
+    scene : Scene, optional
+        Defaults to :func:`synthetic_scene`.
+    seed : int
+        Random seed.
+
+    Returns
+    -------
+    dict
+        ``observations`` (ObservationSet), ``photometry`` and ``spectrum``
+        (xarray.Dataset), as :func:`diskexplorer.explore` accepts them.
+    """
+    from .data.photometry import photometry_dataset
+    from .data.spectrum import spectrum_dataset
+    from .physics.ring import Ring
+
+    scene = scene or synthetic_scene()
+    c1, s1 = Ring.modulation(0.3, 50.0)
+    truth = scene.with_ring(0, r_in=scene.rings[0].r_in * 1.1, t_in=scene.rings[0].t_in + 80.0,
+                            c1=c1, s1=s1) if scene.rings else scene
+    rng = np.random.default_rng(seed)
+    sets = []
+    for band, ntel, nch, ins, noise in (("K", 6, 8, "DEMO-K", 0.02), ("N", 4, 24, "DEMO-N", 0.03)):
+        obs = make_observations(n_telescopes=ntel, n_exposures=4, n_channels=nch, band=band,
+                                insname=ins, arrname=f"{ins}-ARRAY", target="DEMO-DISK", noise=noise, seed=seed)
+        v2 = obs.vis2
+        model = truth.vis2(v2["u"].values, v2["v"].values, v2["wavelength"].values)
+        v2 = v2.assign(vis2=("point", model + rng.normal(0, noise, model.shape)),
+                       vis2_err=("point", np.full(model.shape, noise)))
+        t3 = obs.t3
+        cp = truth.closure_phase(t3["u1"].values, t3["v1"].values, t3["u2"].values, t3["v2"].values,
+                                 t3["wavelength"].values)
+        err = 1.5 if band == "K" else 3.0
+        t3 = t3.assign(t3phi=("point", cp + rng.normal(0, err, cp.shape)),
+                       t3phi_err=("point", np.full(cp.shape, err)))
+        sets.append(ObservationSet(vis2=v2, t3=t3, targets=obs.targets, arrays=obs.arrays,
+                                   files=(f"demo-{band}",)))
+    observations = ObservationSet.concat(sets)
+    phot_wl = np.array([0.44, 0.55, 0.64, 0.79, 1.25, 1.65, 2.2, 3.4, 4.6, 12.0, 22.0, 60.0, 100.0])
+    phot = truth.sed(phot_wl)
+    photometry = photometry_dataset(phot_wl, phot * (1 + rng.normal(0, 0.05, phot.shape)), 0.08 * phot,
+                                    band=["B", "V", "R", "I", "J", "H", "K", "W1", "W2", "W3", "W4",
+                                          "F60", "F100"])
+    spec_wl = np.linspace(7.6, 13.4, 90)
+    spec = truth.sed(spec_wl)
+    spectrum = spectrum_dataset(spec_wl, spec * (1 + rng.normal(0, 0.02, spec.shape)), 0.03 * spec)
+    return {"observations": observations, "photometry": photometry, "spectrum": spectrum}

@@ -8,13 +8,14 @@ import pytest
 
 from diskexplorer.app import explore
 from diskexplorer.app.debounce import ManualScheduler
-from diskexplorer.app.demo import demo_material
+from diskexplorer.sample import demo_scene, load_sample_data
 from diskexplorer.physics.parameters import parameter_specs
 from diskexplorer.physics.ring import Ring
 
 @pytest.fixture(scope="module")
 def material():
-    return demo_material()
+    """The sample's scene and data (these tests use its files and instruments)."""
+    return demo_scene(), load_sample_data()
 
 
 @pytest.fixture

@@ -4,13 +4,13 @@ import pytest
 
 from diskexplorer.app import explore
 from diskexplorer.app.debounce import ManualScheduler
-from diskexplorer.app.demo import demo_material
+from diskexplorer.sample import demo_scene, load_sample_data
 from diskexplorer.dust import unregister_species
 
 
 @pytest.fixture
 def app():
-    scene, data = demo_material()
+    scene, data = demo_scene(), load_sample_data()
     a = explore(data=dict(data), scene=scene, scheduler=ManualScheduler())
     a.debouncer.scheduler.advance(1.0)
     yield a

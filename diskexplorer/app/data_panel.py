@@ -1,4 +1,9 @@
-"""Loading data (paths or uploads) and filtering it; errors go to the message area."""
+"""The data tab: load files and folders, list what is loaded (remove any), filter, add dust species.
+
+Loaded data live in the state as a list of data sets (:mod:`~diskexplorer.app.data_sets`),
+one per file with its reader's warnings; errors and warnings go to the message area, and
+a failed load changes nothing.
+"""
 from __future__ import annotations
 
 import html
@@ -11,70 +16,93 @@ import numpy as np
 
 from ..data.bands import INTERFEROMETRIC_BANDS
 from ..errors import DiskExplorerError
+from .data_sets import read_data_sets
+from .palette import MUTED
+from .workdir import resolve_user_path, state_folder
 
-__all__ = ["DataPanel", "load_into_state", "KINDS"]
+__all__ = ["DataPanel", "DataSetRow", "load_into_state", "KINDS"]
 
-#: What a path or upload can be, as shown on the kind selector.
-KINDS = (("OIFITS", "oifits"), ("photometry", "photometry"), ("spectrum", "spectrum"))
+#: What a path or upload is read as, as shown on the kind selector ("auto": by its content).
+KINDS = (("by content", "auto"), ("OIFITS", "oifits"), ("photometry", "photometry"), ("spectrum", "spectrum"))
+
+#: Colour of reader warnings beside their data set (the message area's accent).
+WARNING_COLOUR = "#9a5b00"
 
 
-def _read(kind, paths):
-    if kind == "oifits":
-        from ..data.oifits import read_oifits
-        return read_oifits([str(p) for p in paths])
-    if kind == "photometry":
-        from ..data.photometry import read_photometry
-        return read_photometry(str(paths[0]))
-    from ..data.spectrum import read_spectrum
-    return read_spectrum(str(paths[0]))
+def _loaded_text(data_sets):
+    return "; ".join(f"{d.kind_label}: {d.label} ({d.describe_points()})" for d in data_sets)
 
 
 def load_into_state(state, kind, paths, add=False):
-    """Read ``paths`` as ``kind`` and put the result in ``state``; on failure, only a message.
+    """Read ``paths`` (files or folders) and put the data sets in ``state``; on failure, only a message.
 
     Parameters
     ----------
     state : ExplorerState
-    kind : {"oifits", "photometry", "spectrum"}
+    kind : {"auto", "oifits", "photometry", "spectrum"} or None
+        Which reader to use; "auto" or None: each file's kind from its content.
     paths : sequence of str or Path
+        Relative paths refer to the explorer's working folder (``state.workdir``).
     add : bool
-        For OIFITS: add to the observations already loaded instead of replacing them.
+        Add to the data already loaded (a file loaded again, or a second photometry table
+        or spectrum, replaces its earlier version). If False, the new data replace every
+        loaded data set of their kinds.
 
     Returns
     -------
     bool
-        Whether the data were loaded.
+        Whether the data were loaded. If not, the state is unchanged and the message says why.
     """
-    paths = [Path(str(p).strip()).expanduser() for p in paths if str(p).strip()]
-    if not paths:
-        state.say("give a path to load")
+    texts = [str(p).strip() for p in paths if str(p).strip()]
+    if not texts:
+        state.say("give a path to load (a file or a folder)")
         return False
+    folder = state_folder(state)
+    resolved = [resolve_user_path(t, folder) for t in texts]
     try:
-        data = _read(kind, paths)
+        sets, notes = read_data_sets(resolved, kind=None if kind in (None, "auto") else kind)
     except DiskExplorerError as exc:
         state.say(f"not loaded: {exc}")
         return False
     except (OSError, ValueError) as exc:
-        state.say(f"not loaded: {', '.join(map(str, paths))}: {exc}")
+        state.say(f"not loaded: {', '.join(map(str, resolved))}: {exc}")
         return False
-    sources = dict(state.data_sources)
-    if kind == "oifits":
-        if add and state.observations is not None:
-            from ..data.observations import ObservationSet
-            data = ObservationSet.concat([state.observations, data])
-            sources["oifits"] = list(sources.get("oifits", [])) + [str(p) for p in paths]
-        else:
-            sources["oifits"] = [str(p) for p in paths]
-        with state.hold_trait_notifications():
-            state.data_sources = sources
-            state.observations = data
+    if add:
+        replaced, combine_warnings = state.add_data_sets(sets)
     else:
-        sources[kind] = str(paths[0])
-        with state.hold_trait_notifications():
-            state.data_sources = sources
-            setattr(state, kind, data)
-    state.say(f"loaded {kind}: {', '.join(p.name for p in paths)}")
+        kinds = {d.kind for d in sets}
+        replaced = [d for d in state.data_sets if d.kind in kinds]
+        combine_warnings = state.set_data_sets([d for d in state.data_sets if d.kind not in kinds] + sets)
+    parts = [f"loaded {_loaded_text(sets)}"]
+    if replaced:
+        parts.append(f"replaced {', '.join(d.label for d in replaced)}")
+    warned = [f"{d.label}: {w}" for d in sets for w in d.warnings] + list(combine_warnings)
+    if warned:
+        parts.append(f"{len(warned)} warning(s): " + " | ".join(warned))
+    if notes:
+        parts.append(" | ".join(notes))
+    state.say("; ".join(parts))
     return True
+
+
+class DataSetRow(w.VBox):
+    """One loaded data set in the data tab: file, kind, points, warnings and a remove button."""
+
+    def __init__(self, data_set, on_remove):
+        self.data_set = data_set
+        d = data_set
+        title = html.escape(d.source or "given in memory", quote=True)
+        self.text = w.HTML(f"<div title='{title}' style='font-size:12px;line-height:1.3'>"
+                           f"<b>{html.escape(d.label)}</b> <span style='color:{MUTED}'>"
+                           f"{html.escape(d.kind_label)} · {html.escape(d.describe_points())}</span></div>",
+                           layout={"width": "300px"})
+        self.remove_button = w.Button(description="remove", tooltip=f"remove {d.label}", layout={"width": "70px"})
+        self.remove_button.add_class("dx-remove-data")
+        self.remove_button.on_click(lambda b: on_remove(self.data_set))
+        self.warnings = w.HTML("".join(f"<div style='font-size:11px;color:{WARNING_COLOUR}'>⚠ {html.escape(x)}</div>"
+                                       for x in d.warnings))
+        super().__init__([w.HBox([self.text, self.remove_button]), self.warnings])
+        self.add_class("dx-data-set")
 
 
 class SpeciesForm(w.VBox):
@@ -132,20 +160,26 @@ class SpeciesForm(w.VBox):
 
 
 class DataPanel(w.VBox):
-    """Path box, upload, filters (band, instrument, baseline range) and a summary."""
+    """Path box, upload, the list of loaded data sets, filters (band, instrument, baseline range)."""
 
     def __init__(self, state, on_species_added=lambda name: None):
         self.state = state
         self.species_form = SpeciesForm(state, on_species_added)
-        self.kind = w.ToggleButtons(options=KINDS, value="oifits", style={"button_width": "92px"})
-        self.path = w.Text(placeholder="path(s), comma-separated", layout={"width": "250px"})
+        self.kind = w.ToggleButtons(options=KINDS, value="auto", style={"button_width": "86px"},
+                                    tooltips=["recognise each file by its content", "read as OIFITS",
+                                              "read as a photometry table", "read as a spectrum"])
+        self.path = w.Text(placeholder="file(s) or folder(s), comma-separated", layout={"width": "250px"})
         self.path.add_class("dx-path")
         self.load_button = w.Button(description="load", button_style="primary", layout={"width": "70px"})
-        self.add_box = w.Checkbox(value=False, description="add to loaded OIFITS", indent=False)
-        self.upload = w.FileUpload(accept=".fits,.oifits,.csv,.txt,.dat,.tbl", multiple=True,
+        self.load_button.add_class("dx-load-data")
+        self.upload = w.FileUpload(accept=".fits,.oifits,.fit,.gz,.csv,.txt,.dat,.tbl", multiple=True,
                                    description="upload")
         self.load_button.on_click(lambda b: self.load_paths())
         self.upload.observe(self._on_upload, "value")
+        self.rows = w.VBox()
+        self.rows.add_class("dx-data-sets")
+        self.clear_button = w.Button(description="remove all", layout={"width": "90px"})
+        self.clear_button.on_click(lambda b: self.remove_all())
         self.bands = w.SelectMultiple(description="bands", rows=4, layout={"width": "170px"},
                                       style={"description_width": "60px"})
         self.instruments = w.SelectMultiple(description="instruments", rows=4, layout={"width": "200px"},
@@ -159,19 +193,20 @@ class DataPanel(w.VBox):
         self._quiet = False
         super().__init__([
             w.HTML("<div class='dx-section-title'>load data</div>"), self.kind,
-            w.HBox([self.path, self.load_button]), w.HBox([self.upload, self.add_box]),
+            w.HBox([self.path, self.load_button]), self.upload,
+            w.HTML("<div class='dx-section-title'>loaded data</div>"), self.rows, self.clear_button,
             w.HTML("<div class='dx-section-title'>filters</div>"), w.HBox([self.bands, self.instruments]),
             self.baselines, self.summary, self.species_form])
         self.add_class("dx-data-panel")
-        state.observe(lambda ch: self.sync(), ["observations", "photometry", "spectrum"])
+        state.observe(lambda ch: self.sync(), ["observations", "photometry", "spectrum", "data_sets"])
         self.sync()
 
     def load_paths(self):
-        """Load the paths typed in the path box as the selected kind."""
-        return load_into_state(self.state, self.kind.value, self.path.value.split(","), add=self.add_box.value)
+        """Add the files and folders typed in the path box, read as the selected kind."""
+        return load_into_state(self.state, self.kind.value, self.path.value.split(","), add=True)
 
     def load_uploaded(self, files):
-        """Load uploaded files (dicts with ``name`` and ``content`` bytes) as the selected kind."""
+        """Add uploaded files (dicts with ``name`` and ``content`` bytes), read as the selected kind."""
         files = list(files)
         if not files:
             return False
@@ -181,7 +216,28 @@ class DataPanel(w.VBox):
             p = folder / Path(str(f["name"])).name
             p.write_bytes(bytes(f["content"]))
             paths.append(p)
-        return load_into_state(self.state, self.kind.value, paths, add=self.add_box.value)
+        return load_into_state(self.state, self.kind.value, paths, add=True)
+
+    def remove(self, data_set):
+        """Remove ``data_set`` (a DataSet held by the state, or its index)."""
+        held = list(self.state.data_sets)
+        index = data_set if isinstance(data_set, int) else next(
+            (k for k, d in enumerate(held) if d is data_set), None)
+        if index is None or not 0 <= index < len(held):
+            return False
+        gone = self.state.remove_data_set(index)
+        left = len(self.state.data_sets)
+        self.state.say(f"removed {gone.kind_label}: {gone.label}" + ("" if left else "; no data loaded: no χ²"))
+        return True
+
+    def remove_all(self):
+        """Remove every data set."""
+        if not self.state.data_sets:
+            return False
+        n = len(self.state.data_sets)
+        self.state.set_data_sets(())
+        self.state.say(f"removed all {n} data set(s); no data loaded: no χ²")
+        return True
 
     def _on_upload(self, change):
         if change["new"]:
@@ -198,8 +254,13 @@ class DataPanel(w.VBox):
             self.state.baseline_range = (0.0, math.inf) if full else (float(lo), float(hi))
 
     def sync(self):
-        """Offer the bands, instruments and baseline range present in the loaded data."""
-        obs = self.state.observations
+        """List the data sets; offer the bands, instruments and baseline range present in the data."""
+        st = self.state
+        if tuple(getattr(r, "data_set", None) for r in self.rows.children) != tuple(st.data_sets):
+            self.rows.children = [DataSetRow(d, self.remove) for d in st.data_sets] or [
+                w.HTML(f"<div style='font-size:12px;color:{MUTED}'>none: load files or a folder above</div>")]
+        self.clear_button.disabled = not st.data_sets
+        obs = st.observations
         self._quiet = True
         try:
             if obs is None:
@@ -210,21 +271,17 @@ class DataPanel(w.VBox):
                 present = [b for b, (lo, hi) in INTERFEROMETRIC_BANDS.items()
                            if np.any((waves >= lo) & (waves <= hi))]
                 self.bands.options = present
-                self.bands.value = tuple(b for b in self.state.band_filter if b in present)
+                self.bands.value = tuple(b for b in st.band_filter if b in present)
                 self.instruments.options = list(obs.instruments)
-                self.instruments.value = tuple(i for i in self.state.instrument_filter if i in obs.instruments)
+                self.instruments.value = tuple(i for i in st.instrument_filter if i in obs.instruments)
                 from ..data.observations import baseline_lengths
                 bmax = max((float(np.max(baseline_lengths(ds))) for k, ds in obs.datasets().items() if k != "flux"),
                            default=200.0)
-                top = float(np.ceil(bmax * 1.02))
-                self.baselines.max = max(top, 1.0)
-                lo, hi = self.state.baseline_range
-                self.baselines.value = (lo, min(hi, self.baselines.max))
-                lines = [f"{k}: {n:,} points" for k, n in obs.n_points().items() if n]
-            if self.state.photometry is not None:
-                lines.append(f"photometry: {self.state.photometry['wavelength'].size} points")
-            if self.state.spectrum is not None:
-                lines.append(f"spectrum: {self.state.spectrum['wavelength'].size} samples")
+                top = max(float(np.ceil(bmax * 1.02)), 1.0)
+                self.baselines.max = top  # the slider clamps its value into the new range
+                lo, hi = st.baseline_range
+                self.baselines.value = (min(lo, top), min(hi, top))
+                lines = [f"{k}: {n:,} points in total" for k, n in obs.n_points().items() if n]
             self.summary.value = "<div style='font-size:11px'>" + "<br>".join(html.escape(x) for x in lines) + "</div>"
         finally:
             self._quiet = False

@@ -11,6 +11,7 @@ import numpy as np
 from ..physics.parameters import ParameterSpec
 from .controls import ExtendedPanel, GeometryPanel, ParamControl, StarPanel
 from .data_panel import DataPanel
+from .data_sets import data_sets_from
 from .data_view import DataView
 from .debounce import Debouncer
 from .derived_panel import DerivedPanel
@@ -84,9 +85,9 @@ class Explorer(w.VBox):
     ----------
     scene : Scene
         Starting model.
-    data : dict, optional
-        ``observations`` (ObservationSet), ``photometry``, ``spectrum`` (xarray.Dataset) and
-        optionally ``paths`` (as :func:`diskexplorer.sample.load_sample_data` returns).
+    data : sequence of DataSet, dict, ObservationSet, path or sequence of paths, optional
+        The data to judge the model against (anything :func:`explore` accepts except
+        None, which here means no data).
     scheduler : object with ``call_later(delay, fn)``, optional
         Where the debounced recompute waits (default: the running asyncio loop).
     delay : float
@@ -112,14 +113,12 @@ class Explorer(w.VBox):
     PAGES = {"interferometry": 0, "spectra": 1, "structure": 2, "start": 3, "scan": 4, "derived": 5}
 
     def __init__(self, scene, data=None, scheduler=None, delay=0.04, jobs="thread", workdir=None):
-        data = dict(data or {})
-        paths = data.pop("paths", {}) or {}
-        self.state = ExplorerState(scene=scene, observations=data.get("observations"),
-                                   photometry=data.get("photometry"), spectrum=data.get("spectrum"),
-                                   data_sources={k: v for k, v in paths.items()},
-                                   curve_position_angle=float(scene.position_angle % 180.0))
+        folder = working_folder(workdir)
+        data_sets, notes = data_sets_from(() if data is None else data, workdir=folder)
+        self.state = ExplorerState(scene=scene, curve_position_angle=float(scene.position_angle % 180.0))
         # Relative names typed into any panel resolve against this folder (app/workdir.py).
-        self.state.workdir = str(working_folder(workdir))
+        self.state.workdir = str(folder)
+        notes = self.state.set_data_sets(data_sets) + notes
         self.debouncer = Debouncer(self._recompute, delay=delay, scheduler=scheduler)
         self.timings = []
         self.recompute_log = []
@@ -175,6 +174,9 @@ class Explorer(w.VBox):
         # The one observer: every state change except the message goes through the debouncer.
         st.observe(self._on_state_change)
         self._recompute({"observations", "scene", "pins", "log_sed_x", "log_vis2", "log_profiles"})
+        warned = [f"{d.label}: {x}" for d in data_sets for x in d.warnings] + notes
+        if warned:
+            st.say(f"{len(warned)} warning(s) about the data: " + " | ".join(warned))
 
     # ------------------------------------------------------------------ layout
     def _layout(self):
@@ -226,6 +228,28 @@ class Explorer(w.VBox):
     def flush(self):
         """Run a pending recompute now (tests and scripts)."""
         self.debouncer.flush()
+
+    def judgement(self):
+        """The current model judged against the loaded data, as the χ² table shows it.
+
+        A change still waiting for the debouncer is computed first, so the result belongs
+        to ``state.scene`` and to the data after the app's filters (bands, instruments,
+        baselines) with the weights of the starting-point page's set-up as the table uses them.
+
+        Returns
+        -------
+        ComparisonResult or None
+            ``chi2`` and ``npoints`` per data kind, ``reduced`` (χ²/N), ``total`` (weighted
+            sum), ``model`` and ``residuals`` aligned with the data points
+            (:class:`~diskexplorer.fitting.ComparisonResult`); None when no data are loaded.
+
+        Examples
+        --------
+        >>> app = explore(data="my_data/")       # doctest: +SKIP
+        >>> print(app.judgement().summary())     # doctest: +SKIP
+        """
+        self.flush()
+        return self.chi2.live
 
     def _recompute(self, names):
         t0 = time.perf_counter()
@@ -348,11 +372,25 @@ def explore(data=None, scene=None, *, scheduler=None, delay=0.04, jobs="thread",
 
     Parameters
     ----------
-    data : dict or ObservationSet, optional
-        ``{"observations": ObservationSet, "photometry": Dataset, "spectrum": Dataset,
-        "paths": {...}}`` or just an ObservationSet. Default: the sample data.
+    data : path, sequence of paths, ObservationSet or dict, optional
+        The data to judge the model against:
+
+        * a file or a folder, or a list of them: OIFITS files, photometry tables and
+          spectra, each recognised by its content (a folder's other files are skipped
+          with a note); relative paths refer to ``workdir``;
+        * an :class:`~diskexplorer.data.ObservationSet` (interferometry only);
+        * a dict ``{"observations": ObservationSet, "photometry": Dataset, "spectrum":
+          Dataset, "paths": {...}}`` as :func:`diskexplorer.sample.load_sample_data`
+          returns;
+        * an empty list: no data.
+
+        Default (None): the sample data. When data are given, nothing of the sample is
+        loaded.
     scene : Scene, optional
-        Starting model. Default: the sample's starting scene.
+        Starting model. Default: the sample's scene (:func:`diskexplorer.sample.demo_scene`:
+        an invented 7900 K, 21 L☉ star at 162 pc with an inner rim at 0.34 au and an outer
+        ring beyond a gap), also when ``data`` are the user's: a sensible model of a young
+        star's inner disk to start from, not a fit to them.
     scheduler : optional
         Debounce scheduler (tests pass a :class:`~diskexplorer.app.debounce.ManualScheduler`).
     delay : float
@@ -367,15 +405,24 @@ def explore(data=None, scene=None, *, scheduler=None, delay=0.04, jobs="thread",
     Returns
     -------
     Explorer
-        A displayable ipywidgets container.
-    """
-    from ..data.observations import ObservationSet
-    from .demo import demo_material
+        A displayable ipywidgets container; :meth:`Explorer.judgement` gives the χ² of its
+        current model.
 
-    if data is None or scene is None:
-        demo_scene, demo_data = demo_material()
-        scene = scene if scene is not None else demo_scene
-        data = data if data is not None else demo_data
-    if isinstance(data, ObservationSet):
-        data = {"observations": data}
+    Raises
+    ------
+    DataError
+        A given file that cannot be read (none is loaded then), a folder without data, or
+        ``data`` of another type.
+
+    Examples
+    --------
+    >>> explore(data="my_data/")                       # doctest: +SKIP
+    >>> explore(data=["night1.fits", "sed.csv"])       # doctest: +SKIP
+    """
+    from .. import sample
+
+    if data is None:
+        data = sample.load_sample_data()
+    if scene is None:
+        scene = sample.demo_scene()
     return Explorer(scene, data, scheduler=scheduler, delay=delay, jobs=jobs, workdir=workdir)

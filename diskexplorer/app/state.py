@@ -21,6 +21,9 @@ MAX_PINS = 4
 #: scales; ``none`` recomputes nothing (messages).
 TIERS = {
     "notice": "none",
+    # The list of data sets and the paths are bookkeeping: the combined observations,
+    # photometry and spectrum they set alongside are what asks for the data tier.
+    "data_sets": "none", "data_sources": "none",
     "log_sed_x": "style", "log_sed_y": "style", "log_vis2": "style", "log_freq": "style",
     "log_profiles": "style",
     "curve_position_angle": "curve",
@@ -37,6 +40,22 @@ TIERS = {
 }
 
 
+class Held(t.Any):
+    """A trait holding any object, changed whenever it is set to another object.
+
+    traitlets stays silent when ``bool(old == new)`` is true; for xarray datasets ``==``
+    compares element by element and the truth of the result is that of "has variables",
+    so replacing a photometry table by another one, or by None, would notify nobody.
+    """
+
+    def set(self, obj, value):
+        new = self._validate(obj, value)
+        old = obj._trait_values.get(self.name, self.default_value)
+        obj._trait_values[self.name] = new
+        if old is not new:
+            obj._notify_trait(self.name, old, new)
+
+
 def tiers_for(names):
     """The set of tiers that the changed ``names`` need."""
     return {TIERS.get(n, "model") for n in names} - {"none"}
@@ -49,8 +68,12 @@ class ExplorerState(t.HasTraits):
     ----------
     scene : Scene
         The current model.
+    data_sets : tuple of DataSet
+        The loaded data, one entry per file (:mod:`~diskexplorer.app.data_sets`); change it
+        with :meth:`set_data_sets`, :meth:`add_data_sets` and :meth:`remove_data_set`, which
+        also set the four traits below.
     observations : ObservationSet or None
-        Interferometric data as loaded (unfiltered).
+        Interferometric data as loaded (unfiltered): the OIFITS data sets concatenated.
     photometry, spectrum : xarray.Dataset or None
         Photometry (Jy) and spectrum (Jy against µm).
     data_sources : dict
@@ -83,9 +106,10 @@ class ExplorerState(t.HasTraits):
     """
 
     scene = t.Instance(Scene)
-    observations = t.Any(None)
-    photometry = t.Any(None)
-    spectrum = t.Any(None)
+    data_sets = t.Tuple()
+    observations = Held(None)
+    photometry = Held(None)
+    spectrum = Held(None)
     data_sources = t.Dict()
     band_filter = t.Tuple()
     instrument_filter = t.Tuple()
@@ -171,11 +195,86 @@ class ExplorerState(t.HasTraits):
         """Remove pin ``index``."""
         self.pins = [p for k, p in enumerate(self.pins) if k != index]
 
+    # ------------------------------------------------------------------ data
+    def set_data_sets(self, data_sets):
+        """Hold exactly ``data_sets`` (a sequence of :class:`~diskexplorer.app.data_sets.DataSet`).
+
+        Returns
+        -------
+        list of str
+            Warnings of combining them (e.g. two arrays of one name defined differently).
+        """
+        from .data_sets import combine_data_sets
+
+        data_sets = tuple(data_sets)
+        combined = combine_data_sets(data_sets)
+        obs = combined["observations"]
+        present_bands, present_instruments = _bands_and_instruments(obs)
+        with self.hold_trait_notifications():
+            self.data_sets = data_sets
+            self.data_sources = combined["data_sources"]
+            self.observations = obs
+            self.photometry = combined["photometry"]
+            self.spectrum = combined["spectrum"]
+            # A filter value whose data are gone would hide everything that is left.
+            self.band_filter = tuple(b for b in self.band_filter if b in present_bands)
+            self.instrument_filter = tuple(i for i in self.instrument_filter if i in present_instruments)
+        return combined["warnings"]
+
+    def add_data_sets(self, data_sets):
+        """Add data sets; one of a file already loaded, or a second photometry table or
+        spectrum, takes the place of the one it replaces.
+
+        Returns
+        -------
+        (list of DataSet, list of str)
+            The data sets replaced, and the warnings of combining.
+        """
+        from .data_sets import SINGLE_KINDS
+
+        held = list(self.data_sets)
+        replaced = []
+        for new in data_sets:
+            at = next((k for k, d in enumerate(held) if (new.source and d.source == new.source)
+                       or (new.kind in SINGLE_KINDS and d.kind == new.kind)), None)
+            if at is None:
+                held.append(new)
+            else:
+                replaced.append(held[at])
+                held[at] = new
+        return replaced, self.set_data_sets(held)
+
+    def remove_data_set(self, index):
+        """Remove data set ``index`` (0-based, in the order of :attr:`data_sets`).
+
+        Returns
+        -------
+        DataSet
+            The data set removed.
+        """
+        held = list(self.data_sets)
+        gone = held.pop(index)
+        self.set_data_sets(held)
+        return gone
+
     def say(self, text):
         """Show ``text`` in the message area (also when it repeats the last message)."""
         if self.notice == text:
             self.notice = ""
         self.notice = text
+
+
+def _bands_and_instruments(obs):
+    """Interferometric bands and instruments present in ``obs`` (empty sets for None)."""
+    if obs is None:
+        return set(), set()
+    import numpy as np
+
+    from ..data.bands import INTERFEROMETRIC_BANDS
+
+    waves = np.concatenate([ds["wavelength"].values for ds in obs.datasets().values()] or [np.zeros(0)])
+    bands = {b for b, (lo, hi) in INTERFEROMETRIC_BANDS.items() if np.any((waves >= lo) & (waves <= hi))}
+    return bands, set(obs.instruments)
 
 
 def default_new_ring(scene):
