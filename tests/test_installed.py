@@ -1,0 +1,145 @@
+"""The package as a pip user gets it: a wheel installed into a new venv, used from an empty folder.
+
+Builds a wheel of this checkout, installs it (not editable) into a fresh virtual
+environment with pip (its cache makes the dependencies quick after ``make test`` has set up
+``.venv``) and, from an empty folder with nothing of the project beside it: reads the
+sample, copies it, evaluates it with the command line, serves the demo, saves a starting
+point from the app in headless Chromium, and stops the demo with SIGTERM.
+"""
+import json
+import os
+import signal
+import socket
+import subprocess
+import sys
+import time
+import zipfile
+from pathlib import Path
+
+import psutil
+import pytest
+
+pytestmark = [pytest.mark.slow]
+
+ROOT = Path(__file__).resolve().parents[1]
+CHROMIUM = "/usr/bin/chromium"
+ARGS = ["--headless", "--no-sandbox", "--disable-gpu", "--disable-quic", "--no-first-run",
+        "--disable-background-networking", "--disable-component-update", "--disable-sync"]
+
+
+def _run(cmd, cwd, timeout=600, env=None):
+    proc = subprocess.run(cmd, cwd=str(cwd), capture_output=True, text=True, timeout=timeout, env=env)
+    assert proc.returncode == 0, f"{' '.join(map(str, cmd))} failed ({proc.returncode}):\n{proc.stdout}\n{proc.stderr}"
+    return proc.stdout
+
+
+def _clean_env():
+    # Nothing of the checkout may leak into the installed package's runs.
+    env = {k: v for k, v in os.environ.items() if not k.startswith(("PYTHON", "DISKEXPLORER_", "VIRTUAL_ENV"))}
+    env["PATH"] = os.defpath
+    return env
+
+
+@pytest.fixture(scope="module")
+def installed(tmp_path_factory):
+    """(venv bin folder, empty working folder, wheel path)."""
+    base = tmp_path_factory.mktemp("installed")
+    dist = base / "dist"
+    _run([sys.executable, "-m", "pip", "wheel", "--no-deps", "--quiet", "-w", str(dist), str(ROOT)], cwd=base)
+    wheel = next(dist.glob("diskexplorer-*.whl"))
+    venv = base / "venv"
+    _run([sys.executable, "-m", "venv", str(venv)], cwd=base)
+    _run([str(venv / "bin" / "python"), "-m", "pip", "install", "--quiet", str(wheel)], cwd=base)
+    empty = base / "work"
+    empty.mkdir()
+    return venv / "bin", empty, wheel
+
+
+def test_the_wheel_carries_its_data_and_not_the_tests(installed):
+    _, _, wheel = installed
+    names = zipfile.ZipFile(wheel).namelist()
+    for needed in ("diskexplorer/sample_data/aurelis_QT-HK.fits", "diskexplorer/sample_data/aurelis_start.json",
+                   "diskexplorer/app/explorer.ipynb", "diskexplorer/dust/kappa_library.npz"):
+        assert needed in names, needed
+    assert any(n.startswith("diskexplorer/dust/lab_constants/") and n.endswith(".txt") for n in names)
+    assert not any(n.startswith("tests/") or "/reference/oifits" in n for n in names)
+
+
+def test_sample_and_evaluate_from_an_empty_folder(installed):
+    bin_dir, empty, _ = installed
+    env = _clean_env()
+    out = _run([str(bin_dir / "python"), "-c",
+                "import diskexplorer, diskexplorer.sample as s; d = s.load_sample_data(); "
+                "print(diskexplorer.__file__); print(d['observations'].n_points('vis2'))"], cwd=empty, env=env)
+    location, n_vis2 = out.split()
+    assert "site-packages" in location and str(ROOT) not in location
+    assert int(n_vis2) > 0
+    _run([str(bin_dir / "diskexplorer"), "sample-data", "--out", "sample"], cwd=empty, env=env)
+    text = _run([str(bin_dir / "diskexplorer"), "evaluate", "sample/aurelis_start.json", "--out", "report",
+                 "--npix", "32", "--image-wavelengths", "2.2,10"], cwd=empty, env=env)
+    assert "total" in text
+    for name in ("chi2.csv", "model.nc", "sed.png", "vis2.png"):
+        assert (empty / "report" / name).stat().st_size > 0, name
+
+
+def _free_port():
+    with socket.socket() as s:
+        s.bind(("127.0.0.1", 0))
+        return s.getsockname()[1]
+
+
+def _port_open(port):
+    with socket.socket() as s:
+        return s.connect_ex(("127.0.0.1", port)) == 0
+
+
+@pytest.mark.browser
+def test_served_demo_saves_into_the_folder_and_stops_on_sigterm(installed):
+    if not os.path.exists(CHROMIUM):
+        if os.environ.get("DISKEXPLORER_REQUIRE_BROWSER") == "1":
+            pytest.fail(f"{CHROMIUM} is missing and DISKEXPLORER_REQUIRE_BROWSER=1")
+        pytest.skip(f"{CHROMIUM} is missing")
+    from playwright.sync_api import sync_playwright
+
+    bin_dir, empty, _ = installed
+    folder = empty / "demo"
+    folder.mkdir()
+    port = _free_port()
+    proc = subprocess.Popen([str(bin_dir / "diskexplorer"), "demo", "--port", str(port)], cwd=str(folder),
+                            env=_clean_env(), stdout=subprocess.PIPE, stderr=subprocess.STDOUT, text=True)
+    try:
+        end = time.monotonic() + 90
+        while not _port_open(port) and proc.poll() is None and time.monotonic() < end:
+            time.sleep(0.2)
+        assert proc.poll() is None and _port_open(port), proc.stdout.read() if proc.poll() is not None else ""
+        target = folder / "diskexplorer-start.json"
+        with sync_playwright() as p:
+            browser = p.chromium.launch(executable_path=CHROMIUM, headless=True, args=ARGS)
+            try:
+                page = browser.new_page(viewport={"width": 1500, "height": 1100})
+                page.goto(f"http://127.0.0.1:{port}/", timeout=120_000)
+                page.wait_for_selector(".dx-fig-vis2 svg path.line", timeout=120_000)
+                page.get_by_text("starting point", exact=True).first.click()
+                page.locator(".dx-start-save").first.click()
+                page.wait_for_function(
+                    "(want) => (document.querySelector('.dx-message') || {}).textContent?.includes(want)",
+                    arg=str(target), timeout=30_000)
+                assert target.is_file()
+                assert json.loads(target.read_text())["scene"]
+                site = Path(next(bin_dir.parent.glob("lib/python*/site-packages")))
+                assert not list((site / "diskexplorer").rglob("diskexplorer-start.json"))
+            finally:
+                browser.close()
+        family = psutil.Process(proc.pid).children(recursive=True)
+        assert any("ipykernel" in " ".join(p.cmdline()) for p in family)
+        t0 = time.monotonic()
+        proc.send_signal(signal.SIGTERM)
+        proc.wait(timeout=10)
+        while any(p.is_running() and p.status() != psutil.STATUS_ZOMBIE for p in family) \
+                and time.monotonic() - t0 < 10:
+            time.sleep(0.2)
+        assert not [p.pid for p in family if p.is_running() and p.status() != psutil.STATUS_ZOMBIE]
+        assert not _port_open(port)
+    finally:
+        if proc.poll() is None:
+            proc.kill()
