@@ -1,0 +1,184 @@
+"""In a real browser, every V² and closure-phase point is drawn in the colour of its own
+wavelength after any sequence of loads and removals of files with other wavelengths.
+
+The app is served as ``diskexplorer demo --data FILE`` serves it (the data handed over in
+DISKEXPLORER_DATA), so it opens on the user's file and nothing of the sample. The files are
+written by the project's OIFITS writer for invented arrays and instruments: a first file
+in the N band, and a second one with 8 channels at 2.0–2.35 µm and 6 in the L band.
+The colours drawn in the SVG are compared point by point with the wavelength colour key.
+"""
+import os
+import re
+import subprocess
+import sys
+from pathlib import Path
+
+import numpy as np
+import pytest
+
+from test_browser import ARGS, CHROMIUM, NOTEBOOK, OUT, ROOT, _free_port, _wait_port
+
+pytestmark = pytest.mark.browser
+
+K_WAVES = np.linspace(2.0, 2.35, 8)
+L_WAVES = np.linspace(3.45, 3.95, 6)
+FIGURES = ("dx-fig-vis2", "dx-fig-t3")
+# Largest difference per RGB channel (0–255) between a drawn colour and the key: the page
+# interpolates the same stops in RGB and rounds once.
+TOLERANCE = 2
+
+
+@pytest.fixture(scope="module")
+def files(tmp_path_factory):
+    from diskexplorer.data.observations import ObservationSet
+    from diskexplorer.data.oifits_write import write_oifits
+    from diskexplorer.testing import make_observations, make_oifits
+
+    folder = tmp_path_factory.mktemp("browser_data")
+    first = make_oifits(folder, "first_n.fits", n_telescopes=4, n_exposures=4, n_channels=10, band="N",
+                        insname="ARRAY1_N", arrname="ARRAY1", target="SIM-DISK-4", diameter_mas=12.0, seed=7)
+    k = make_observations(n_telescopes=6, n_exposures=5, wavelengths=K_WAVES, insname="ARRAY2_K", arrname="ARRAY2",
+                          target="SIM-DISK-4", diameter_mas=1.5, seed=8)
+    lb = make_observations(n_telescopes=4, n_exposures=3, wavelengths=L_WAVES, insname="ARRAY2_L",
+                           arrname="ARRAY2_L", target="SIM-DISK-4", diameter_mas=3.0, seed=9)
+    second = folder / "second_kl.fits"
+    write_oifits(second, ObservationSet.concat([k, lb]), date="2024-01-01T00:00:00")
+    return folder, first, second
+
+
+@pytest.fixture(scope="module")
+def served(files):
+    if not os.path.exists(CHROMIUM):
+        if os.environ.get("DISKEXPLORER_REQUIRE_BROWSER") == "1":
+            pytest.fail(f"{CHROMIUM} is missing and DISKEXPLORER_REQUIRE_BROWSER=1")
+        pytest.skip(f"{CHROMIUM} is missing")
+    if os.environ.get("DISKEXPLORER_REQUIRE_BROWSER") == "1":
+        import playwright  # noqa: F401 - an ImportError fails the test instead of skipping it
+    else:
+        pytest.importorskip("playwright")
+    folder, first, _ = files
+    port = _free_port()
+    env = dict(os.environ, DISKEXPLORER_DATA=str(first), DISKEXPLORER_WORKDIR=str(folder),
+               OPENBLAS_NUM_THREADS="1")
+    log = open(folder / "voila.log", "wb")
+    proc = subprocess.Popen([sys.executable, "-m", "voila", str(NOTEBOOK), "--no-browser", f"--port={port}",
+                             "--Voila.ip=127.0.0.1"], stdout=log, stderr=subprocess.STDOUT, cwd=str(ROOT), env=env)
+    try:
+        _wait_port(port)
+        yield f"http://127.0.0.1:{port}/"
+    finally:
+        proc.terminate()
+        try:
+            proc.wait(timeout=15)
+        except subprocess.TimeoutExpired:
+            proc.kill()
+        log.close()
+
+
+def _expected(paths):
+    """Per figure: the wavelength of each point (in the order drawn) and its colour on the key."""
+    from diskexplorer.app.figures.interferometry import wavelength_colours
+    from diskexplorer.data.oifits import read_oifits
+
+    sets = [read_oifits(str(p)) for p in paths]
+    wl = {"dx-fig-vis2": np.concatenate([s.vis2["wavelength"].values for s in sets]),
+          "dx-fig-t3": np.concatenate([s.t3["wavelength"].values for s in sets])}
+    lo = min(float(w.min()) for w in wl.values())
+    hi = max(float(w.max()) for w in wl.values())
+    out = {}
+    for css, w in wl.items():
+        rgb = np.array([[int(c[i:i + 2], 16) for i in (1, 3, 5)] for c in wavelength_colours(w, lo, hi)])
+        out[css] = (w, rgb)
+    return out
+
+
+_DRAWN = """(css) => Array.from(document.querySelectorAll('.' + css + ' .object_grp path.dot'))
+  .map(p => (getComputedStyle(p).fill.match(/\\d+(\\.\\d+)?/g) || []).slice(0, 3).map(Number))"""
+
+_MATCHES = """([css, want, tol]) => {
+  const got = Array.from(document.querySelectorAll('.' + css + ' .object_grp path.dot'))
+    .map(p => (getComputedStyle(p).fill.match(/\\d+(\\.\\d+)?/g) || []).slice(0, 3).map(Number));
+  return got.length === want.length && got.every((c, i) => c.length === 3 &&
+    c.every((v, k) => Math.abs(v - want[i][k]) <= tol));
+}"""
+
+
+def _check_colours(page, paths, step):
+    expected = _expected(paths)
+    for css, (wl, rgb) in expected.items():
+        try:
+            page.wait_for_function(_MATCHES, arg=[css, rgb.tolist(), TOLERANCE], timeout=30_000)
+        except Exception:  # noqa: BLE001 - the assertions below say what is drawn instead
+            pass
+        # A late redraw must not repaint older colours over the right ones.
+        page.wait_for_timeout(600)
+        drawn = np.array(page.evaluate(_DRAWN, css), float).reshape(-1, 3)
+        assert drawn.shape[0] == wl.size, f"{step}: {css} draws {drawn.shape[0]} points, the data hold {wl.size}"
+        distinct = {tuple(int(v) for v in c) for c in drawn.round()}
+        waves = np.unique(wl)
+        per_wave = {float(w): sorted({tuple(int(v) for v in c) for c in drawn[wl == w].round()}) for w in waves}
+        several = {round(w, 4): c for w, c in per_wave.items() if len(c) > 1}
+        assert not several, f"{step}: {css}: points of one wavelength (µm) drawn in several colours: {several}"
+        assert len(distinct) == waves.size, \
+            f"{step}: {css}: {len(distinct)} distinct colours drawn for {waves.size} distinct wavelengths"
+        bad = np.flatnonzero(np.abs(drawn - rgb).max(axis=1) > TOLERANCE)
+        assert bad.size == 0, (f"{step}: {css}: {bad.size} of {wl.size} points off the wavelength key; first: "
+                               f"λ = {wl[bad[0]]:.4f} µm drawn {drawn[bad[0]].tolist()}, key {rgb[bad[0]].tolist()}")
+
+
+def _open_data_tab(page):
+    page.locator(".lm-TabBar-tab", has_text=re.compile(r"^\s*data\s*$")).first.click()
+    page.wait_for_selector(".dx-path input", state="visible", timeout=30_000)
+
+
+def _labels(page):
+    return page.evaluate("() => Array.from(document.querySelectorAll('.dx-data-set b')).map(b => b.textContent)")
+
+
+def _load(page, path):
+    page.fill(".dx-path input", str(path))
+    page.locator("button.dx-load-data").click()
+    page.wait_for_function("(name) => Array.from(document.querySelectorAll('.dx-data-set b'))"
+                           ".some(b => b.textContent === name)", arg=Path(path).name, timeout=30_000)
+
+
+def _remove(page, name):
+    page.locator(".dx-data-set", has_text=name).locator("button.dx-remove-data").click()
+    page.wait_for_function("(name) => !Array.from(document.querySelectorAll('.dx-data-set b'))"
+                           ".some(b => b.textContent === name)", arg=name, timeout=30_000)
+
+
+def test_point_colours_follow_loads_and_removals(served, files):
+    from playwright.sync_api import sync_playwright
+
+    _, first, second = files
+    OUT.mkdir(exist_ok=True)
+    with sync_playwright() as p:
+        browser = p.chromium.launch(executable_path=CHROMIUM, headless=True, args=ARGS)
+        try:
+            page = browser.new_page(viewport={"width": 1500, "height": 1100})
+            page.goto(served, timeout=120_000)
+            page.wait_for_selector(".dx-fig-vis2 .object_grp path.dot", timeout=120_000)
+            _check_colours(page, [first], "opened on the first file")
+            # the data given on the command line, nothing of the sample
+            chi2 = page.inner_text(".dx-chi2")
+            assert "photometry" not in chi2 and "spectrum" not in chi2
+            _open_data_tab(page)
+            assert _labels(page) == [first.name]
+
+            _load(page, second)
+            _check_colours(page, [first, second], "second file added")
+            page.screenshot(path=str(OUT / "data_two_files.png"), full_page=True)
+
+            _remove(page, first.name)
+            _check_colours(page, [second], "first file removed")
+            page.screenshot(path=str(OUT / "data_second_only.png"), full_page=True)
+
+            _load(page, first)
+            _check_colours(page, [second, first], "first file loaded again")
+
+            _remove(page, second.name)
+            _check_colours(page, [first], "second file removed")
+            assert _labels(page) == [first.name]
+        finally:
+            browser.close()
