@@ -80,3 +80,40 @@ def test_a_save_into_the_package_is_refused_and_nothing_is_written(material, tmp
     assert "inside the installed diskexplorer package" in app.state.notice
     assert sorted(os.listdir(PACKAGE / "app")) == before
     assert not (PACKAGE / "session.json").exists()
+
+
+def test_loads_and_species_files_resolve_against_the_working_folder(material, tmp_path, monkeypatch):
+    import numpy as np
+
+    from diskexplorer.app.data_panel import load_into_state
+    from diskexplorer.dust import unregister_species
+    from diskexplorer.sample import SAMPLE_FILES, copy_sample_data
+
+    monkeypatch.chdir(tmp_path)
+    work = tmp_path / "work"
+    copy_sample_data(work / "obs")
+    app = _app(material, work)
+    assert load_into_state(app.state, "auto", [f"obs/{SAMPLE_FILES['photometry']}"])
+    assert str(work.resolve() / "obs" / SAMPLE_FILES["photometry"]) in str(app.state.data_sources)
+    lam = np.geomspace(0.2, 200.0, 40)
+    np.savetxt(work / "grey.txt", np.column_stack([lam, np.full(lam.size, 30.0)]),
+               header="wavelength_um kappa_cm2_g")
+    form = app.data_panel.species_form
+    form.name.value, form.source_kind.value, form.path.value = "grey_workdir_dust", "kappa", "grey.txt"
+    try:
+        assert form.add(), app.state.notice
+        assert str(work.resolve() / "grey.txt") in app.state.notice
+    finally:
+        unregister_species("grey_workdir_dust")
+
+
+def test_served_app_with_bad_data_opens_without_it_and_says_why(tmp_path):
+    from diskexplorer.app.served import explore_served
+
+    (tmp_path / "broken.fits").write_bytes(b"SIMPLE  =                    T" + b" " * 50)
+    app = explore_served(environ={"DISKEXPLORER_WORKDIR": str(tmp_path),
+                                  "DISKEXPLORER_DATA": str(tmp_path / "broken.fits")},
+                         scheduler=ManualScheduler(), jobs="sync")
+    assert "broken.fits" in app.state.notice
+    assert app.state.observations is None and app.state.photometry is None
+    assert app.state.workdir == str(tmp_path.resolve())

@@ -14,6 +14,7 @@ import urllib.request
 
 import psutil
 import pytest
+from _processes import alive, free_port, port_open, stop_tree
 
 from diskexplorer.cli import main
 from diskexplorer.serve import DemoServer, check_port
@@ -22,15 +23,7 @@ from diskexplorer.errors import DiskExplorerError
 pytestmark = pytest.mark.slow
 
 
-def _free_port():
-    with socket.socket() as s:
-        s.bind(("127.0.0.1", 0))
-        return s.getsockname()[1]
 
-
-def _port_open(port):
-    with socket.socket() as s:
-        return s.connect_ex(("127.0.0.1", port)) == 0
 
 
 def _kernels(root_pid):
@@ -68,20 +61,20 @@ def test_a_busy_port_is_refused_not_replaced(capsys):
 
 
 def test_missing_workdir_and_data_are_usage_errors(tmp_path, capsys):
-    assert main(["demo", "--port", str(_free_port()), "--workdir", str(tmp_path / "nope")]) == 2
+    assert main(["demo", "--port", str(free_port()), "--workdir", str(tmp_path / "nope")]) == 2
     assert "no such folder" in capsys.readouterr().err
-    assert main(["demo", "--port", str(_free_port()), "--data", str(tmp_path / "none.fits")]) == 2
+    assert main(["demo", "--port", str(free_port()), "--data", str(tmp_path / "none.fits")]) == 2
     assert "none.fits" in capsys.readouterr().err
 
 
 def test_check_port_accepts_a_free_port():
-    check_port(_free_port())
+    check_port(free_port())
     with pytest.raises(DiskExplorerError, match="between 1 and 65535"):
         check_port("8866")
 
 
 def test_server_binds_loopback_only_and_culls_kernels_of_closed_pages(tmp_path):
-    port = _free_port()
+    port = free_port()
     server = DemoServer(port=port, workdir=tmp_path, idle_timeout=3)
     assert "--Voila.ip=127.0.0.1" in server.command()
     server.start()
@@ -96,20 +89,19 @@ def test_server_binds_loopback_only_and_culls_kernels_of_closed_pages(tmp_path):
         kernels = _kernels(server.process.pid)
         assert len(kernels) == 1
         # Culled once idle with no page attached (3 s here; the default is 30 s).
-        assert _wait(lambda: not any(k.is_running() and k.status() != psutil.STATUS_ZOMBIE
-                                     for k in kernels), timeout=30), "the abandoned kernel was not shut down"
-        assert _port_open(port)  # the server itself keeps serving
+        assert _wait(lambda: not alive(kernels), timeout=30), "the abandoned kernel was not shut down"
+        assert port_open(port)  # the server itself keeps serving
     finally:
         server.stop()
-    assert not _port_open(port)
+    assert not port_open(port)
 
 
 def test_sigterm_stops_voila_and_every_kernel(tmp_path):
-    port = _free_port()
+    port = free_port()
     proc = subprocess.Popen([sys.executable, "-m", "diskexplorer.cli", "demo", "--port", str(port)],
                             cwd=str(tmp_path), stdout=subprocess.PIPE, stderr=subprocess.STDOUT, text=True)
     try:
-        assert _wait(lambda: _port_open(port) or proc.poll() is not None, timeout=90)
+        assert _wait(lambda: port_open(port) or proc.poll() is not None, timeout=90)
         assert proc.poll() is None, proc.stdout.read()
         with urllib.request.urlopen(f"http://127.0.0.1:{port}/", timeout=120) as response:
             assert response.status == 200
@@ -118,13 +110,10 @@ def test_sigterm_stops_voila_and_every_kernel(tmp_path):
         assert any("ipykernel" in " ".join(p.cmdline()) for p in family)
         proc.send_signal(signal.SIGTERM)
         proc.wait(timeout=10)
-        gone = _wait(lambda: not any(p.is_running() and p.status() != psutil.STATUS_ZOMBIE for p in family),
-                     timeout=10)
-        assert gone, [p.cmdline() for p in family if p.is_running()]
-        assert not _port_open(port)
+        assert _wait(lambda: not alive(family), timeout=10), [p.cmdline() for p in alive(family)]
+        assert not port_open(port)
         assert proc.returncode == 0
         out = proc.stdout.read()
         assert f"http://127.0.0.1:{port}/" in out and str(tmp_path) in out and "Traceback" not in out
     finally:
-        if proc.poll() is None:
-            proc.kill()
+        stop_tree(proc)

@@ -9,7 +9,6 @@ point from the app in headless Chromium, and stops the demo with SIGTERM.
 import json
 import os
 import signal
-import socket
 import subprocess
 import sys
 import time
@@ -18,6 +17,7 @@ from pathlib import Path
 
 import psutil
 import pytest
+from _processes import alive, free_port, port_open, stop_tree
 
 pytestmark = [pytest.mark.slow]
 
@@ -82,15 +82,7 @@ def test_sample_and_evaluate_from_an_empty_folder(installed):
         assert (empty / "report" / name).stat().st_size > 0, name
 
 
-def _free_port():
-    with socket.socket() as s:
-        s.bind(("127.0.0.1", 0))
-        return s.getsockname()[1]
 
-
-def _port_open(port):
-    with socket.socket() as s:
-        return s.connect_ex(("127.0.0.1", port)) == 0
 
 
 @pytest.mark.browser
@@ -104,14 +96,14 @@ def test_served_demo_saves_into_the_folder_and_stops_on_sigterm(installed):
     bin_dir, empty, _ = installed
     folder = empty / "demo"
     folder.mkdir()
-    port = _free_port()
+    port = free_port()
     proc = subprocess.Popen([str(bin_dir / "diskexplorer"), "demo", "--port", str(port)], cwd=str(folder),
                             env=_clean_env(), stdout=subprocess.PIPE, stderr=subprocess.STDOUT, text=True)
     try:
         end = time.monotonic() + 90
-        while not _port_open(port) and proc.poll() is None and time.monotonic() < end:
+        while not port_open(port) and proc.poll() is None and time.monotonic() < end:
             time.sleep(0.2)
-        assert proc.poll() is None and _port_open(port), proc.stdout.read() if proc.poll() is not None else ""
+        assert proc.poll() is None and port_open(port), proc.stdout.read() if proc.poll() is not None else ""
         target = folder / "diskexplorer-start.json"
         with sync_playwright() as p:
             browser = p.chromium.launch(executable_path=CHROMIUM, headless=True, args=ARGS)
@@ -135,11 +127,9 @@ def test_served_demo_saves_into_the_folder_and_stops_on_sigterm(installed):
         t0 = time.monotonic()
         proc.send_signal(signal.SIGTERM)
         proc.wait(timeout=10)
-        while any(p.is_running() and p.status() != psutil.STATUS_ZOMBIE for p in family) \
-                and time.monotonic() - t0 < 10:
+        while alive(family) and time.monotonic() - t0 < 10:
             time.sleep(0.2)
-        assert not [p.pid for p in family if p.is_running() and p.status() != psutil.STATUS_ZOMBIE]
-        assert not _port_open(port)
+        assert not alive(family), [p.cmdline() for p in alive(family)]
+        assert not port_open(port)
     finally:
-        if proc.poll() is None:
-            proc.kill()
+        stop_tree(proc)

@@ -143,7 +143,8 @@ class SpeciesForm(w.VBox):
         from ..errors import DiskExplorerError
 
         name = self.name.value.strip()
-        path = self.path.value.strip()
+        typed = self.path.value.strip()
+        path = str(resolve_user_path(typed, state_folder(self.state))) if typed else ""
         try:
             if not name or not path:
                 raise DiskExplorerError("give a species name and a file")

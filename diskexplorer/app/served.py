@@ -9,6 +9,7 @@ from __future__ import annotations
 
 import os
 
+from ..errors import DiskExplorerError
 from ..serve import DATA_VARIABLE, WORKDIR_VARIABLE
 from .explorer import explore
 
@@ -34,6 +35,13 @@ def explore_served(environ=None, **kwargs):
         Passed to :func:`~diskexplorer.app.explore`.
     """
     workdir, data = served_settings(environ)
-    if data is not None:
-        kwargs.setdefault("data", data if len(data) > 1 else data[0])
-    return explore(workdir=workdir, **kwargs)
+    if data is None:
+        return explore(workdir=workdir, **kwargs)
+    try:
+        return explore(data=data if len(data) > 1 else data[0], workdir=workdir, **kwargs)
+    except DiskExplorerError as exc:
+        # A served page cannot show a traceback usefully: open without the data and say why
+        # in the app's notice, so the user can fix the file and load it from the data tab.
+        app = explore(data=[], workdir=workdir, **kwargs)
+        app.state.say(f"not loaded: {exc}")
+        return app
