@@ -173,3 +173,22 @@ def test_gzip_files_in_a_folder_and_damaged_gzip(tmp_path):
     (tmp_path / "inner.fits.gz").write_bytes(gzip.compress(data[: len(data) // 2 + 99]))
     with pytest.raises(DataError, match=r"inner\.fits\.gz: truncated or damaged FITS file"):
         read_oifits(tmp_path / "inner.fits.gz")
+
+
+def test_a_fits_spectrum_cut_short_names_the_file(tmp_path):
+    from diskexplorer.data import read_spectrum
+
+    lam = np.linspace(7.5, 13.5, 400)
+    table = fits.BinTableHDU.from_columns([
+        fits.Column("WAVELENGTH", "D", unit="um", array=lam), fits.Column("FLUX", "D", unit="Jy", array=lam * 0 + 2.0),
+        fits.Column("ERROR", "D", unit="Jy", array=lam * 0 + 0.1)])
+    whole = tmp_path / "nband.fits"
+    fits.HDUList([fits.PrimaryHDU(), table]).writeto(whole)
+    assert read_spectrum(whole)["flux"].size == 400
+    cut = tmp_path / "nband_cut.fits"
+    cut.write_bytes(whole.read_bytes()[:2 * BLOCK + 2980])
+    with pytest.raises(DataError, match=r"nband_cut\.fits: truncated or damaged FITS file"):
+        read_spectrum(cut)
+    gz = tmp_path / "nband.fits.gz"
+    gz.write_bytes(gzip.compress(whole.read_bytes()))
+    assert read_spectrum(gz)["flux"].size == 400

@@ -10,6 +10,8 @@ One-row tables with array columns (a common layout) are flattened.
 
 from __future__ import annotations
 
+import io
+
 import os
 
 import numpy as np
@@ -161,8 +163,14 @@ def _read_text(path):
 
 
 def _read_fits(path, hdu):
+    from .fits_tables import fits_layout, read_fits_bytes
+
+    # Check the layout first: astropy reads a file cut short as far as it goes and then
+    # fails with a reshape error that names neither the file nor the defect.
+    buf = read_fits_bytes(path)
+    fits_layout(buf, path)
     try:
-        hdul = fits.open(path, memmap=False)
+        hdul = fits.open(io.BytesIO(buf), memmap=False)
     except Exception as exc:
         raise DataError(f"{path}: cannot be read as FITS: {exc}") from exc
     with hdul:
