@@ -96,7 +96,8 @@ def test_server_binds_loopback_only_and_culls_kernels_of_closed_pages(tmp_path):
     assert not port_open(port)
 
 
-def test_sigterm_stops_voila_and_every_kernel(tmp_path):
+@pytest.mark.parametrize("signum", [signal.SIGTERM, signal.SIGINT], ids=["SIGTERM", "Ctrl-C"])
+def test_a_signal_stops_voila_and_every_kernel(tmp_path, signum):
     port = free_port()
     proc = subprocess.Popen([sys.executable, "-m", "diskexplorer.cli", "demo", "--port", str(port)],
                             cwd=str(tmp_path), stdout=subprocess.PIPE, stderr=subprocess.STDOUT, text=True)
@@ -108,7 +109,7 @@ def test_sigterm_stops_voila_and_every_kernel(tmp_path):
         family = psutil.Process(proc.pid).children(recursive=True)
         assert any("voila" in " ".join(p.cmdline()) for p in family)
         assert any("ipykernel" in " ".join(p.cmdline()) for p in family)
-        proc.send_signal(signal.SIGTERM)
+        proc.send_signal(signum)
         proc.wait(timeout=10)
         assert _wait(lambda: not alive(family), timeout=10), [p.cmdline() for p in alive(family)]
         assert not port_open(port)
