@@ -132,10 +132,11 @@ def test_single_species_mixture_equals_species():
             np.testing.assert_array_equal(mix.kappa(lam), lib.row(name, shape, size))
 
 
-def test_mixture_is_weighted_sum_and_renormalised():
+def test_mixture_is_weighted_sum_of_normalised_weights():
     lib = get_library()
     lam = np.array([0.5, 2.2, 9.7, 11.3, 30.0])
-    mix = DustMix({"olivine_glass": 3, "forsterite": 1, "iron": 1}, grain_size=1.5, shape="dhs")
+    mix = DustMix.from_weights({"olivine_glass": 3, "forsterite": 1, "iron": 1}, grain_size=1.5, shape="dhs")
+    assert mix == DustMix({"olivine_glass": 0.6, "forsterite": 0.2, "iron": 0.2}, grain_size=1.5, shape="dhs")
     assert dict(mix.fractions) == pytest.approx({"olivine_glass": 0.6, "forsterite": 0.2, "iron": 0.2})
     expect = sum(f * np.interp(np.log(lam), np.log(lib.wavelength), lib.row(s, "dhs", 1.5))
                  for s, f in [("olivine_glass", 0.6), ("forsterite", 0.2), ("iron", 0.2)])
@@ -153,7 +154,7 @@ def test_mixture_components_with_own_size_and_shape():
 
 def test_mixture_hashable_and_equal_by_value():
     a = DustMix({"olivine_glass": 0.6, "forsterite": 0.4}, grain_size=1.5, shape="dhs")
-    b = DustMix([("forsterite", 2.0), ("olivine_glass", 3.0)], grain_size=1.5, shape="DHS")
+    b = DustMix([("forsterite", 0.4), ("olivine_glass", 0.6)], grain_size=1.5, shape="DHS")
     c = DustMix({"olivine_glass": 0.6, "forsterite": 0.4}, grain_size=0.1, shape="dhs")
     assert a == b and hash(a) == hash(b)
     assert a != c
@@ -176,6 +177,40 @@ def test_mixture_hashable_and_equal_by_value():
 def test_mixture_refuses_bad_input(bad, pattern):
     with pytest.raises(DustError, match=pattern):
         DustMix(**bad)
+
+
+@pytest.mark.parametrize("fractions, pattern", [
+    # The case: 5.0 was read as a weight and forsterite became 85 %.
+    ({"olivine_glass": 0.55, "forsterite": 5.0, "iron": 0.3}, r"forsterite: 5.*forsterite above 1"),
+    ({"olivine_glass": 0.6, "forsterite": 0.3}, r"olivine_glass: 0.6, forsterite: 0.3\} sum to 0.9: expected 1"),
+    ({"olivine_glass": 0.6, "forsterite": 0.6}, r"sum to 1.2: expected 1 \(within 0.001\)"),
+    ({("forsterite", 0.1, "cde"): 0.5, "iron": 0.2}, r"'forsterite', None, 'cde'\): 0.5.*sum to 0.7"),
+])
+def test_mixture_fractions_must_be_fractions(fractions, pattern):
+    with pytest.raises(DustError, match=pattern):
+        DustMix(fractions, grain_size=1.5)
+    with pytest.raises(DustError, match=pattern):
+        dust.resolve_dust(dict(fractions, grain_size=1.5) if all(isinstance(k, str) for k in fractions)
+                          else {"fractions": list(fractions.items()), "grain_size": 1.5})
+
+
+def test_mixture_sum_within_tolerance_is_rescaled_to_one():
+    third = DustMix({"olivine_glass": 0.333, "forsterite": 0.333, "iron": 0.333}, grain_size=1.5)
+    assert sum(f for _, f in third.fractions) == pytest.approx(1.0, abs=1e-15)
+    assert dict(third.fractions)["iron"] == pytest.approx(1 / 3, abs=1e-12)
+    assert third == DustMix.from_weights({"olivine_glass": 1, "forsterite": 1, "iron": 1}, grain_size=1.5)
+    # Just outside the tolerance is refused.
+    with pytest.raises(DustError, match="sum to 0.998"):
+        DustMix({"olivine_glass": 0.499, "forsterite": 0.499}, grain_size=1.5)
+
+
+def test_weights_are_normalised_only_on_request():
+    with pytest.raises(DustError, match="weight of iron = -1"):
+        DustMix.from_weights({"olivine_glass": 2, "iron": -1})
+    with pytest.raises(DustError, match="positive weight"):
+        DustMix.from_weights({"olivine_glass": 0})
+    mix = DustMix.from_weights([("forsterite", 2.0), ("olivine_glass", 3.0)], grain_size=1.5)
+    assert dict(mix.fractions) == pytest.approx({"forsterite": 0.4, "olivine_glass": 0.6})
 
 
 def test_mixture_extends_beyond_grid_as_power_law():

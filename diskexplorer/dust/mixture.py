@@ -17,6 +17,11 @@ Forms accepted by ``dust=`` (through :func:`diskexplorer.physics.opacity.as_opac
 
 A fraction's key is a species name (using the mixture's ``grain_size`` and ``shape``) or
 a ``(species, grain_size, shape)`` triple for a component of its own size or method.
+
+Mass fractions are fractions: each in [0, 1], summing to 1 within
+:data:`FRACTION_SUM_TOLERANCE` (a sum of 0.999 from rounding is rescaled to 1; a
+fraction of 5 is refused rather than read as a weight). Relative weights of any scale go
+through :meth:`DustMix.from_weights`, which normalises them on purpose.
 """
 from __future__ import annotations
 
@@ -33,11 +38,16 @@ from .library import get_library
 from .optics import METHODS
 from .species import check_component, known_species, species_row
 
-__all__ = ["DustMix", "DEFAULT_GRAIN_SIZE", "DEFAULT_SHAPE", "resolve_dust", "mixture_kappa"]
+__all__ = ["DustMix", "DEFAULT_GRAIN_SIZE", "DEFAULT_SHAPE", "FRACTION_SUM_TOLERANCE", "resolve_dust",
+           "mixture_kappa"]
 
 #: Defaults used when a mixture or a bare species name gives no size or shape.
 DEFAULT_GRAIN_SIZE = 0.1
 DEFAULT_SHAPE = "dhs"
+
+#: Largest |Σ f − 1| accepted for mass fractions: room for fractions rounded to three
+#: decimals (1/3 written 0.333 three times), far below any intended change of a mixture.
+FRACTION_SUM_TOLERANCE = 1e-3
 
 _ROW_CACHE: OrderedDict = OrderedDict()
 _ROW_CACHE_SIZE = 512
@@ -71,9 +81,11 @@ class DustMix:
     Parameters
     ----------
     fractions : mapping or sequence of (key, fraction) pairs
-        Mass fractions (any positive scale; renormalised to sum 1). Keys are species
+        Mass fractions, each in [0, 1], summing to 1 within
+        :data:`FRACTION_SUM_TOLERANCE` (then rescaled to exactly 1). Keys are species
         names, or ``(species, grain_size, shape)`` triples overriding the defaults.
-        Zero fractions are dropped; duplicate keys are added.
+        Zero fractions are dropped; duplicate keys are added. For relative weights of
+        another scale use :meth:`from_weights`.
     grain_size : float
         Grain radius in µm for keys without their own (Mie: sphere radius; DHS:
         volume-equivalent radius of the material). Ignored by ``"cde"``.
@@ -84,8 +96,15 @@ class DustMix:
     Attributes
     ----------
     fractions : tuple of (key, float)
-        Canonical form: sorted, renormalised, hashable. Two mixtures are equal
+        Canonical form: sorted, summing to 1, hashable. Two mixtures are equal
         (and hash equal) when these and ``grain_size`` and ``shape`` are.
+
+    Raises
+    ------
+    DustError
+        A fraction that is negative, not finite or above 1, fractions whose sum is not 1
+        within :data:`FRACTION_SUM_TOLERANCE` (naming each species and its value), an
+        unknown species, an untabulated size or an unknown shape.
 
     Notes
     -----
@@ -113,27 +132,22 @@ class DustMix:
             raise DustError(f"DustMix.grain_size = {self.grain_size!r}: expected a radius in µm") from None
         if not (math.isfinite(size) and size > 0):
             raise DustError(f"DustMix.grain_size = {self.grain_size!r} µm: expected > 0")
-        raw = self.fractions
-        items = list(raw.items()) if isinstance(raw, Mapping) else list(raw)
-        merged: dict = {}
-        for item in items:
-            try:
-                key, value = item
-            except (TypeError, ValueError):
-                raise DustError(f"DustMix fractions: entry {item!r} is not a (species, fraction) pair") from None
-            key = _canonical_key(key, "DustMix")
-            try:
-                value = float(value)
-            except (TypeError, ValueError):
-                raise DustError(f"DustMix fraction of {key!r} = {value!r}: expected a number") from None
-            if not (math.isfinite(value) and value >= 0):
-                raise DustError(f"DustMix fraction of {key!r} = {value!r}: expected a finite value ≥ 0")
-            merged[key] = merged.get(key, 0.0) + value
+        merged = _merge_fractions(self.fractions, "fraction")
         total = sum(merged.values())
         if not total > 0:
-            raise DustError(f"DustMix fractions {dict(merged)!r}: need at least one positive fraction")
+            raise DustError(f"DustMix fractions {_show(merged)}: need at least one positive fraction")
+        above = [k for k, v in merged.items() if v > 1.0]
+        if above:
+            raise DustError(f"DustMix mass fractions {_show(merged)}: "
+                            f"{', '.join(_name(k) for k in above)} above 1; each fraction must lie in "
+                            "[0, 1] and all must sum to 1 (DustMix.from_weights normalises relative weights)")
+        if abs(total - 1.0) > FRACTION_SUM_TOLERANCE:
+            raise DustError(f"DustMix mass fractions {_show(merged)} sum to {total:.6g}: expected 1 "
+                            f"(within {FRACTION_SUM_TOLERANCE:g}); DustMix.from_weights normalises "
+                            "relative weights")
         # Fractions that already sum to 1 (to rounding) are kept as given, so a mixture
-        # written out and read back compares equal to the original.
+        # written out and read back compares equal to the original; a sum a little off
+        # (within the tolerance) is rescaled to exactly 1.
         scale = 1.0 if abs(total - 1.0) <= 1e-12 else total
         canon = tuple(sorted(((k, v / scale) for k, v in merged.items() if v > 0), key=lambda kv: repr(kv[0])))
         object.__setattr__(self, "fractions", canon)
@@ -142,6 +156,28 @@ class DustMix:
         # Refuse unknown species and untabulated sizes now, not at the first κ call.
         for (name, csize, cshape), _ in self.components:
             check_component(name, cshape, csize)
+
+    @classmethod
+    def from_weights(cls, weights, grain_size=DEFAULT_GRAIN_SIZE, shape=DEFAULT_SHAPE):
+        """A mixture from relative mass weights of any positive scale, normalised to sum 1.
+
+        Parameters
+        ----------
+        weights : mapping or sequence of (key, weight) pairs
+            Keys as for :class:`DustMix`; weights finite and ≥ 0, at least one > 0.
+        grain_size, shape
+            As for :class:`DustMix`.
+
+        Examples
+        --------
+        >>> DustMix.from_weights({"olivine_glass": 3, "forsterite": 1}).fractions  # doctest: +SKIP
+        (('forsterite', 0.25), ('olivine_glass', 0.75))
+        """
+        merged = _merge_fractions(weights, "weight")
+        total = sum(merged.values())
+        if not total > 0:
+            raise DustError(f"DustMix.from_weights {_show(merged)}: need at least one positive weight")
+        return cls({k: v / total for k, v in merged.items()}, grain_size=grain_size, shape=shape)
 
     # --- views ------------------------------------------------------------------------
 
@@ -231,6 +267,36 @@ class DustMix:
             raise DustError(f"{self.label}: a user species' optical constants do not cover the "
                             "requested wavelengths (κ undefined there)")
         return k
+
+
+def _merge_fractions(raw, what):
+    """Canonical keys → summed values, each a finite number ≥ 0 (``what`` names them in errors)."""
+    items = list(raw.items()) if isinstance(raw, Mapping) else list(raw)
+    merged: dict = {}
+    for item in items:
+        try:
+            key, value = item
+        except (TypeError, ValueError):
+            raise DustError(f"DustMix fractions: entry {item!r} is not a (species, {what}) pair") from None
+        key = _canonical_key(key, "DustMix")
+        try:
+            value = float(value)
+        except (TypeError, ValueError):
+            raise DustError(f"DustMix {what} of {_name(key)} = {value!r}: expected a number") from None
+        if not (math.isfinite(value) and value >= 0):
+            raise DustError(f"DustMix {what} of {_name(key)} = {value!r}: expected a finite value ≥ 0")
+        merged[key] = merged.get(key, 0.0) + value
+    if not merged:
+        raise DustError(f"DustMix: no species given; need at least one positive {what}")
+    return merged
+
+
+def _name(key):
+    return key if isinstance(key, str) else repr(key)
+
+
+def _show(merged):
+    return "{" + ", ".join(f"{_name(k)}: {v:g}" for k, v in merged.items()) + "}"
 
 
 def _end_slopes(loglam, row):
