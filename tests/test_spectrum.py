@@ -34,3 +34,44 @@ def test_band_peak_and_strength():
 def test_missing_window_is_an_error():
     with pytest.raises(ValueError, match="continuum window 12.8–13.2"):
         normalized_silicate_band(np.linspace(7.5, 12.0, 50), np.ones(50))
+
+
+# --- the band of a model -------------------------------------------------------------------
+
+def _scenes():
+    from diskexplorer.sample import demo_scene
+    dusty = demo_scene()
+    opaque = dusty.replace(rings=tuple(r.__class__(**{**r.__dict__, "dust": None}) for r in dusty.rings))
+    return dusty, opaque
+
+
+def test_dust_free_model_has_no_band():
+    from diskexplorer.observables.spectrum import has_dust_opacity, model_silicate_band
+    dusty, opaque = _scenes()
+    lam = np.linspace(7.5, 13.5, 121)
+    assert has_dust_opacity(dusty) and not has_dust_opacity(opaque)
+    assert model_silicate_band(opaque, lam) is None
+    assert model_silicate_band(dusty.replace(rings=()), lam) is None          # a bare photosphere
+    # Why: the chord through the windows lies above a curved photosphere, which the
+    # definition would show as an "absorption" of ~15 % (the issue saw ~13 %).
+    star_only = dusty.replace(rings=())
+    assert np.min(normalized_silicate_band(lam, star_only.sed(lam))) < 0.9
+
+
+def test_disabled_dusty_rings_make_no_band():
+    from diskexplorer.observables.spectrum import model_silicate_band
+    dusty, _ = _scenes()
+    off = dusty.replace(rings=tuple(r.__class__(**{**r.__dict__, "enabled": False}) for r in dusty.rings))
+    assert model_silicate_band(off, np.linspace(7.5, 13.5, 61)) is None
+
+
+def test_dusty_model_band_is_the_documented_definition():
+    from diskexplorer.observables.spectrum import model_silicate_band
+    dusty, _ = _scenes()
+    lam = np.linspace(7.5, 13.5, 121)
+    flux = dusty.sed(lam)
+    np.testing.assert_array_equal(model_silicate_band(dusty, lam), normalized_silicate_band(lam, flux))
+    np.testing.assert_array_equal(model_silicate_band(dusty, lam, flux=flux), normalized_silicate_band(lam, flux))
+    assert np.max(model_silicate_band(dusty, lam)) > 1.1
+    with pytest.raises(ValueError, match="continuum window"):
+        model_silicate_band(dusty, np.linspace(7.5, 12.0, 40))

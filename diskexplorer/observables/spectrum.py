@@ -1,9 +1,22 @@
-"""Spectral diagnostics: the normalised 10 µm silicate band."""
+"""Spectral diagnostics: the normalised 10 µm silicate band, of a spectrum and of a model.
+
+A model without any dust opacity (a photosphere, opaque black-body rings, the resolved
+component) has no silicate band; its normalised spectrum is not flat all the same,
+because the linear continuum through the two windows is a chord of curved Planck
+spectra (a Rayleigh-Jeans photosphere, F ∝ λ⁻², lies ~16 % below the chord at
+10.5 µm). :func:`model_silicate_band` therefore answers ``None`` for such a model, with
+:data:`NO_DUST_BAND` saying why, instead of showing that curvature as an absorption band.
+For models with dust the definition F_norm = 1 + (F − F_c)/⟨F_c⟩ applies unchanged.
+"""
 from __future__ import annotations
 
 import numpy as np
 
-__all__ = ["silicate_continuum", "normalized_silicate_band", "SILICATE_WINDOWS"]
+__all__ = ["silicate_continuum", "normalized_silicate_band", "SILICATE_WINDOWS", "has_dust_opacity",
+           "model_silicate_band", "NO_DUST_BAND"]
+
+#: What figures and reports say instead of drawing the band of a model without dust.
+NO_DUST_BAND = "no dust opacity in the model: no silicate band"
 
 # Continuum windows either side of the band (µm): where silicate emission is weakest
 # and the band edges start (common practice: anchor points near 8 and 13 µm).
@@ -61,3 +74,45 @@ def normalized_silicate_band(wavelength, flux, windows=SILICATE_WINDOWS):
     band = (lam >= lo) & (lam <= hi)
     mean_c = fc[band].mean() if np.any(band) else fc.mean()
     return 1.0 + (f - fc) / mean_c
+
+
+def has_dust_opacity(scene):
+    """Whether any enabled ring of ``scene`` has a dust opacity (``dust`` not ``None``).
+
+    Opaque rings (``dust=None``), the star and the resolved component emit Planck-like
+    spectra without features; only a ring with an opacity can make a silicate band.
+    """
+    return any(ring.enabled and ring.dust is not None for ring in scene.rings)
+
+
+def model_silicate_band(scene, wavelength, flux=None, windows=SILICATE_WINDOWS):
+    """Normalised silicate band of a model scene, or ``None`` if it has no dust opacity.
+
+    Parameters
+    ----------
+    scene : Scene
+        The model.
+    wavelength : array_like
+        Wavelengths in µm; must sample both continuum windows.
+    flux : array_like, optional
+        The scene's total flux density at ``wavelength`` (any unit) if already
+        computed; otherwise ``scene.sed(wavelength)`` (Jy).
+    windows : ((float, float), (float, float))
+        Continuum windows in µm.
+
+    Returns
+    -------
+    ndarray or None
+        :func:`normalized_silicate_band` of the model's total flux; ``None`` when
+        :func:`has_dust_opacity` is false (see the module notes and :data:`NO_DUST_BAND`).
+
+    Raises
+    ------
+    ValueError
+        If a continuum window holds no sample (dusty models only).
+    """
+    if not has_dust_opacity(scene):
+        return None
+    lam = np.asarray(wavelength, float)
+    f = scene.sed(lam) if flux is None else np.asarray(flux, float)
+    return normalized_silicate_band(lam, f, windows)

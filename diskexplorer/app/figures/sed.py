@@ -5,11 +5,15 @@ import bqplot as bq
 import ipywidgets as w
 import numpy as np
 
+from ...observables.spectrum import NO_DUST_BAND, has_dust_opacity
 from ..model_views import SED_WAVELENGTHS, silicate_band
 from ..palette import COMPONENT_COLOURS, PIN_COLOURS, ring_colour
 from .base import EMPTY, assign, axis, error_segments, new_figure, swap_scale
 
-__all__ = ["SedFigure", "SpectrumFigure", "component_colours"]
+__all__ = ["SedFigure", "SpectrumFigure", "component_colours", "BAND_TITLE"]
+
+#: Title of the silicate-band figure; a model without dust adds :data:`NO_DUST_BAND` to it.
+BAND_TITLE = "normalised silicate band"
 
 
 def component_colours(names):
@@ -112,7 +116,7 @@ class SpectrumFigure:
         self.band_model = bq.Lines(x=EMPTY, y=EMPTY, scales=bs, colors=[c["total"]], stroke_width=1.6,
                                    labels=["model"], display_legend=True)
         self.band_pins = bq.Lines(x=EMPTY, y=EMPTY, scales=bs, line_style="dashed", visible=False)
-        self.band_figure = new_figure("normalised silicate band", [self.band_pins, self.band_model,
+        self.band_figure = new_figure(BAND_TITLE, [self.band_pins, self.band_model,
                                                                   self.band_data],
                                       [axis(self.bx, "λ [µm]"),
                                        axis(self.by, "1 + (F − F_c)/⟨F_c⟩", "vertical")],
@@ -148,9 +152,20 @@ class SpectrumFigure:
         names = [n for n in spec if n != "extended" or np.any(spec[n] > 0)]
         assign(self.components, x=self._wl, y=np.vstack([spec[n] for n in names]),
                colors=component_colours(names), labels=names)
-        band = silicate_band(self._wl, spec["total"])
+        band = self._model_band(frame)
         assign(self.band_model, x=self._wl if band is not None else EMPTY,
                y=band if band is not None else EMPTY)
+        # A model without dust has no band: say so rather than draw the curvature of its
+        # Planck spectra through the continuum windows as an absorption.
+        dusty = has_dust_opacity(frame.scene)
+        assign(self.band_figure, title=BAND_TITLE if dusty else f"{BAND_TITLE} — {NO_DUST_BAND}")
+        assign(self.band_model, labels=["model"] if dusty else [f"model: {NO_DUST_BAND}"])
+
+    def _model_band(self, frame):
+        """The model's normalised band at :attr:`wavelength`, or None (no dust, or a window missing)."""
+        if not has_dust_opacity(frame.scene):
+            return None
+        return silicate_band(self._wl, frame.spectrum["total"])
 
     def update_pins(self, pins):
         """Faint dashed totals and bands of the pinned states."""
@@ -161,7 +176,7 @@ class SpectrumFigure:
         cols = [c for _, c, _ in pins]
         assign(self.pins, x=self._wl, y=np.vstack([f.spectrum["total"] for _, _, f in pins]), colors=cols,
                opacities=[0.6] * len(pins), visible=True)
-        bands = [silicate_band(self._wl, f.spectrum["total"]) for _, _, f in pins]
+        bands = [self._model_band(f) for _, _, f in pins]
         bands = [b if b is not None else np.full(self._wl.size, np.nan) for b in bands]
         assign(self.band_pins, x=self._wl, y=np.vstack(bands), colors=cols, opacities=[0.6] * len(pins),
                visible=True)
