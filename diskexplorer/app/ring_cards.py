@@ -14,7 +14,8 @@ from ..physics.ring import Ring
 from .controls import ParamControl, _guarded
 from .palette import MUTED, ring_colour
 
-__all__ = ["RingDeck", "RingCard", "MixtureEditor", "renormalise", "AMPLITUDE_SPEC", "ANGLE_SPEC"]
+__all__ = ["RingDeck", "RingCard", "MixtureEditor", "renormalise", "NORMALISATION_NOTE", "AMPLITUDE_SPEC",
+           "ANGLE_SPEC"]
 
 #: The modulation is declared as (c1, s1); the cards show it as amplitude and angle, whose
 #: ranges follow from that declaration: √(c1² + s1²) ≤ max |c1|, angle a full turn.
@@ -66,6 +67,10 @@ def _sizes(species):
     return sorted({float(x) for sp in species for x in lib.sizes(sp, "dhs")})
 
 
+#: What the editor says under the fractions: they are normalised on purpose, visibly.
+NORMALISATION_NOTE = "setting one fraction rescales the others in proportion, so that they sum to 1"
+
+
 class MixtureEditor(w.VBox):
     """Mass fractions per species (kept normalised), grain size and shape method of a ring's dust.
 
@@ -75,14 +80,24 @@ class MixtureEditor(w.VBox):
         None is an opaque (black-body) ring.
     on_change : callable
         Called with the new dust (a DustMix or None).
+    say : callable, optional
+        Shows a message to the user (the app's notice); a fraction typed outside [0, 1]
+        is refused with a message instead of being clipped.
+
+    Notes
+    -----
+    :class:`~diskexplorer.dust.DustMix` takes mass fractions that sum to 1 and refuses
+    others; this editor keeps them so explicitly (:func:`renormalise`) and says so
+    under the fractions (:data:`NORMALISATION_NOTE`).
     """
 
-    def __init__(self, dust, on_change):
+    def __init__(self, dust, on_change, say=None):
         self._callback = on_change
+        self._say = say
         self._quiet = False
         self.species = _species()
         frac_spec = ParameterSpec(name="fraction", unit="", label="f", description="mass fraction",
-                                  valid=(0.0, 1.0), closed=(True, True), bounds=(0.0, 1.0))
+                                  valid=(0.0, 1.0), closed=(True, True), bounds=(0.0, 1.0), digits=3)
         self._frac_spec = frac_spec
         self.fraction_controls = {}
         rows = [self._fraction_row(sp) for sp in self.species]
@@ -136,7 +151,7 @@ class MixtureEditor(w.VBox):
                     name = key if isinstance(key, str) else key[0]
                     fr[name] = fr.get(name, 0.0) + f
                 for sp, c in self.fraction_controls.items():
-                    c.set_value(round(fr.get(sp, 0.0), 6))
+                    c.set_value(fr.get(sp, 0.0))
                 if dust.grain_size in [v for _, v in self.size.options]:
                     self.size.value = dust.grain_size
                 self.shape.value = dust.shape
@@ -147,17 +162,30 @@ class MixtureEditor(w.VBox):
 
     def _show_sum(self):
         total = sum(self.fractions.values())
-        self.sum_label.value = f"<span style='color:{MUTED};font-size:11px'>sum of mass fractions: {total:.3f}</span>"
+        self._accepted = self.fractions
+        self.sum_label.value = (f"<span style='color:{MUTED};font-size:11px'>sum of mass fractions: {total:.3f}"
+                                f" — {html.escape(NORMALISATION_NOTE)}</span>")
 
     # -- writing -------------------------------------------------------------------
     def _on_fraction(self, species, value):
         if self._quiet:
             return
+        if not (math.isfinite(value) and 0.0 <= value <= 1.0):
+            # Clipping 5 to 1 would silently make a single-species ring; refuse instead.
+            self._quiet = True
+            try:
+                self.fraction_controls[species].set_value(self._accepted.get(species, 0.0))
+            finally:
+                self._quiet = False
+            if self._say is not None:
+                self._say(f"dust mixture: mass fraction of {species} = {value:g} is outside [0, 1]; "
+                          "the mixture is unchanged")
+            return
         new = renormalise(self.fractions, species, value)
         self._quiet = True
         try:
             for sp, c in self.fraction_controls.items():
-                c.set_value(round(new[sp], 6))
+                c.set_value(new[sp])
         finally:
             self._quiet = False
         self._show_sum()
@@ -219,7 +247,7 @@ class RingCard(w.VBox):
         self.amplitude = ParamControl(AMPLITUDE_SPEC, ring.modulation_amplitude, lambda v: self._modulate(),
                                       css="dx-ring-amplitude")
         self.angle = ParamControl(ANGLE_SPEC, ring.modulation_angle, lambda v: self._modulate(), css="dx-ring-angle")
-        self.mixture = MixtureEditor(ring.dust, lambda dust: self._edit(dust=dust))
+        self.mixture = MixtureEditor(ring.dust, lambda dust: self._edit(dust=dust), say=state.say)
         dust_box = w.Accordion([self.mixture], titles=("dust mixture",), selected_index=None)
         super().__init__([header] + list(self.controls.values()) + [self.amplitude, self.angle, dust_box])
         self.add_class("dx-ring-card")

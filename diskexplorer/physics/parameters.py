@@ -12,7 +12,26 @@ from dataclasses import dataclass, field, fields
 
 from ..errors import ParameterError
 
-__all__ = ["ParameterSpec", "parameter", "parameter_specs", "validate_parameters", "check_parameter"]
+__all__ = ["ParameterSpec", "parameter", "parameter_specs", "validate_parameters", "check_parameter",
+           "DEFAULT_DIGITS", "round_significant"]
+
+#: Significant digits a value is shown with unless its declaration says otherwise: enough
+#: for any slider step (≥ 1/300 of the range), and short enough for the app's number boxes.
+DEFAULT_DIGITS = 4
+
+
+def round_significant(value, digits):
+    """``value`` rounded to ``digits`` significant digits (0, inf and nan pass unchanged).
+
+    Examples
+    --------
+    >>> round_significant(0.347612, 4), round_significant(1483.27, 4)
+    (0.3476, 1483.0)
+    """
+    x = float(value)
+    if x == 0 or not math.isfinite(x):
+        return x
+    return float(f"{x:.{int(digits)}g}")
 
 
 @dataclass(frozen=True)
@@ -37,6 +56,9 @@ class ParameterSpec:
         Default exploration and fit range (slider range, default prior bounds).
     scale : {"linear", "log"}
         How the slider and priors treat the parameter.
+    digits : int
+        Significant digits the value is displayed with (number boxes, slider value
+        text); the value itself is never rounded.
     """
 
     name: str
@@ -47,6 +69,7 @@ class ParameterSpec:
     closed: tuple
     bounds: tuple
     scale: str = "linear"
+    digits: int = DEFAULT_DIGITS
 
     def contains(self, value) -> bool:
         lo, hi = self.valid
@@ -61,13 +84,17 @@ class ParameterSpec:
         unit = f" {self.unit}" if self.unit else ""
         return f"{left}{lo:g}, {hi:g}{right}{unit}"
 
+    def rounded(self, value) -> float:
+        """``value`` rounded to this parameter's display digits (:attr:`digits`)."""
+        return round_significant(value, self.digits)
+
 
 def parameter(default, *, unit, label, description, valid=(-math.inf, math.inf),
-              closed=(False, False), bounds=None, scale="linear"):
+              closed=(False, False), bounds=None, scale="linear", digits=DEFAULT_DIGITS):
     """Declare a numeric dataclass field with its :class:`ParameterSpec` in the metadata."""
     spec = dict(unit=unit, label=label, description=description, valid=tuple(valid),
                 closed=tuple(closed), bounds=tuple(bounds if bounds is not None else valid),
-                scale=scale)
+                scale=scale, digits=int(digits))
     return field(default=default, metadata={"parameter": spec})
 
 
