@@ -19,6 +19,7 @@ from .observables import (
     Evaluator,
     Observer,
     model_image,
+    model_silicate_band,
     normalized_silicate_band,
     radial_profiles,
 )
@@ -53,6 +54,7 @@ __all__ = [
     "KappaTable", "PowerLawOpacity", "planck_nu",
     # observables
     "Evaluator", "Observer", "model_image", "radial_profiles", "normalized_silicate_band",
+    "model_silicate_band",
     # data
     "ObservationSet", "read_oifits", "write_oifits", "read_photometry", "read_spectrum",
     # judging, exploring

@@ -454,3 +454,24 @@ def test_evaluate_from_python_checks_arguments_before_reading_anything(tmp_path)
     with pytest.raises(NotADirectoryError, match="is a file, so"):
         evaluate(demo_scene(), out=tmp_path / "f" / "sub", data=[missing])
     assert sorted(p.name for p in tmp_path.iterdir()) == ["f"]
+
+
+def test_report_silicate_figure_of_a_dust_free_model_draws_no_band():
+    from diskexplorer.report.figures import _figure_silicate, _pyplot
+    from diskexplorer.observables.spectrum import NO_DUST_BAND
+
+    plt = _pyplot()
+    bare = demo_scene().replace(rings=())
+    fig = _figure_silicate(plt, bare, None)
+    try:
+        ax = fig.axes[0]
+        assert NO_DUST_BAND in ax.get_title()
+        assert [ln.get_label() for ln in ax.get_lines() if ln.get_label() == "model"] == []
+    finally:
+        plt.close(fig)
+    fig = _figure_silicate(plt, demo_scene(), None)
+    try:
+        assert "model" in [ln.get_label() for ln in fig.axes[0].get_lines()]
+        assert NO_DUST_BAND not in fig.axes[0].get_title()
+    finally:
+        plt.close(fig)

@@ -85,7 +85,8 @@ def _figure_sed(plt, scene, comparison, cube):
 
 
 def _figure_silicate(plt, scene, comparison):
-    from ..observables.spectrum import SILICATE_WINDOWS, normalized_silicate_band
+    from ..observables.spectrum import (NO_DUST_BAND, SILICATE_WINDOWS, model_silicate_band,
+                                        normalized_silicate_band)
 
     fig, ax = plt.subplots(figsize=FIGURE_SIZES_IN["silicate_band"], layout="constrained")
     spec = comparison.spectrum if comparison is not None else None
@@ -100,15 +101,21 @@ def _figure_silicate(plt, scene, comparison):
             lam = None
     if lam is None:
         lam = np.linspace(7.5, 13.5, 200)
-    model = scene.sed(lam)
-    ax.plot(lam, normalized_silicate_band(lam, model), color=_COMPONENT_COLOURS["total"], lw=2, label="model")
+    band = model_silicate_band(scene, lam)
+    title = "normalised 10 µm silicate band (grey: continuum windows)"
+    if band is None:
+        # A bare photosphere's curvature through the windows is no band: draw none.
+        title += "\n" + NO_DUST_BAND
+    else:
+        ax.plot(lam, band, color=_COMPONENT_COLOURS["total"], lw=2, label="model")
     for lo, hi in SILICATE_WINDOWS:
         ax.axvspan(lo, hi, color="#999999", alpha=0.2, lw=0)
     ax.axhline(1.0, color="#999999", lw=0.8)
     ax.set_xlabel("wavelength λ [µm]")
     ax.set_ylabel("normalised flux 1 + (F$_ν$ − F$_c$)/⟨F$_c$⟩")
-    ax.set_title("normalised 10 µm silicate band (grey: continuum windows)")
-    ax.legend(fontsize=9)
+    ax.set_title(title)
+    if ax.get_legend_handles_labels()[0]:
+        ax.legend(fontsize=9)
     return fig
 
 
