@@ -53,7 +53,12 @@ class Chi2Table:
             pins = "".join(f"<td>{_fmt(pr.get(label, (0, 0, 0, np.nan))[3])}</td>" for _, _, pr in pin_rows)
             body.append(f"<tr style='{bold}'><td>{label}{note}</td><td>{n:,}</td><td>{_fmt(c)}</td>"
                         f"<td>{_fmt(red)}</td>{pins}</tr>")
+        # Numbers right-aligned with room between columns: a large χ² must never run
+        # into its neighbours.
         self.widget.value = (
+            "<style>.dx-chi2-table td, .dx-chi2-table th {padding: 1px 0 1px 12px; text-align: right}"
+            " .dx-chi2-table td:first-child, .dx-chi2-table th:first-child {padding-left: 0; text-align: left}"
+            "</style>"
             f"<table class='dx-chi2-table' style='border-collapse:collapse;font-size:12px;color:{INK}'>"
             f"<tr><th style='text-align:left'>data</th><th>N</th><th>χ²</th><th>χ²/N</th>{head}</tr>"
             + "".join(body) + "</table>")
