@@ -117,3 +117,29 @@ def test_served_app_with_bad_data_opens_without_it_and_says_why(tmp_path):
     assert "broken.fits" in app.state.notice
     assert app.state.observations is None and app.state.photometry is None
     assert app.state.workdir == str(tmp_path.resolve())
+
+
+def test_restoring_a_session_leaves_exactly_its_data(tmp_path):
+    from diskexplorer.sample import SAMPLE_FILES, copy_sample_data
+
+    copy_sample_data(tmp_path / "obs")
+    app = explore(data=tmp_path / "obs", scheduler=ManualScheduler(), jobs="sync", workdir=tmp_path)
+    assert {d.kind for d in app.state.data_sets} == {"oifits", "photometry", "spectrum"}
+    # a session that names only one OIFITS file and the photometry
+    app.state.set_data_sets([d for d in app.state.data_sets
+                             if d.label in (SAMPLE_FILES["oifits"][0], SAMPLE_FILES["photometry"])])
+    panel = app.session_panel
+    panel.path.value = "partial.json"
+    assert panel.save()
+    assert app.state.photometry is not None
+    # the user then loads everything again ...
+    from diskexplorer.app.data_panel import load_into_state
+    assert load_into_state(app.state, "auto", ["obs"])
+    assert app.state.spectrum is not None
+    # ... and restoring the session brings back exactly the session's data
+    assert panel.restore(), app.state.notice
+    assert sorted(d.label for d in app.state.data_sets) == sorted([SAMPLE_FILES["oifits"][0],
+                                                                   SAMPLE_FILES["photometry"]])
+    assert app.state.spectrum is None
+    app.flush()
+    assert "spectrum" not in app.judgement().chi2

@@ -18,12 +18,16 @@ def restore_session(state, document):
     """Apply a session document to ``state``: scene, data (re-read from paths), filters, view, pins,
     starting-point set-up.
 
-    Data files that cannot be read leave a message; everything else is still restored.
+    The data become exactly the session's: whatever was loaded before is dropped. Data files
+    that cannot be read leave a message; everything else is still restored.
     """
     scene = scene_from_dict(document["scene"])
     pins = [{"name": p["name"], "scene": scene_from_dict(p["scene"])} for p in document.get("pins", [])]
     data = document.get("data", {})
     with state.hold_trait_notifications():
+        # The session's data replace everything loaded: a kind the session lacks must not
+        # survive the restore and go on counting in χ².
+        state.set_data_sets(())
         if data.get("oifits"):
             load_into_state(state, "oifits", data["oifits"])
         for kind in ("photometry", "spectrum"):
