@@ -36,6 +36,7 @@ import numpy as np
 from ..errors import DustError
 from .library import get_library
 from .optics import METHODS
+from .row_interpolation import end_slopes, interpolate_row
 from .species import check_component, known_species, species_row
 
 __all__ = ["DustMix", "DEFAULT_GRAIN_SIZE", "DEFAULT_SHAPE", "FRACTION_SUM_TOLERANCE", "resolve_dust",
@@ -51,9 +52,6 @@ FRACTION_SUM_TOLERANCE = 1e-3
 
 _ROW_CACHE: OrderedDict = OrderedDict()
 _ROW_CACHE_SIZE = 512
-# Outside the grid κ is continued as a power law whose slope is taken over the last
-# 10% (in λ) of the grid, not the last interval, so grid-scale noise does not set it.
-_SLOPE_SPAN = math.log(1.1)
 
 
 def _canonical_key(key, where):
@@ -233,7 +231,7 @@ class DustMix:
             rows = np.stack([species_row(n, sh, sz) for (n, sz, sh), _ in comps])
             row = np.asarray([f for _, f in comps]) @ rows
         loglam = get_library().log_wavelength
-        hit = (row, loglam, _end_slopes(loglam, row))
+        hit = (row, loglam, end_slopes(loglam, row))
         _ROW_CACHE[self] = hit
         if len(_ROW_CACHE) > _ROW_CACHE_SIZE:
             try:
@@ -250,23 +248,8 @@ class DustMix:
         DustError
             Non-positive wavelengths, or wavelengths a user species' data do not cover.
         """
-        row, loglam, (s_lo, s_hi) = self._grid_row()
-        lam = np.asarray(wavelength, dtype=float)
-        with np.errstate(divide="ignore", invalid="ignore"):
-            x = np.log(lam)
-        if not np.all(np.isfinite(x)):
-            raise DustError(f"{self.label}: wavelengths must be finite and > 0 µm")
-        k = np.interp(x, loglam, row)
-        lo = x < loglam[0]
-        hi = x > loglam[-1]
-        if lo.any():
-            k = np.where(lo, row[0] * np.exp(s_lo * (x - loglam[0])), k)
-        if hi.any():
-            k = np.where(hi, row[-1] * np.exp(s_hi * (x - loglam[-1])), k)
-        if np.isnan(k).any():
-            raise DustError(f"{self.label}: a user species' optical constants do not cover the "
-                            "requested wavelengths (κ undefined there)")
-        return k
+        row, loglam, slopes = self._grid_row()
+        return interpolate_row(row, loglam, slopes, wavelength, self.label)
 
 
 def _merge_fractions(raw, what):
@@ -297,16 +280,6 @@ def _name(key):
 
 def _show(merged):
     return "{" + ", ".join(f"{_name(k)}: {v:g}" for k, v in merged.items()) + "}"
-
-
-def _end_slopes(loglam, row):
-    """d ln κ / d ln λ over the first and last 10% of the grid (0 where undefined)."""
-    i_lo = int(np.searchsorted(loglam, loglam[0] + _SLOPE_SPAN))
-    i_hi = int(np.searchsorted(loglam, loglam[-1] - _SLOPE_SPAN))
-    with np.errstate(divide="ignore", invalid="ignore"):
-        s_lo = math.log(row[i_lo] / row[0]) / (loglam[i_lo] - loglam[0]) if row[i_lo] > 0 < row[0] else 0.0
-        s_hi = math.log(row[-1] / row[i_hi]) / (loglam[-1] - loglam[i_hi]) if row[-1] > 0 < row[i_hi] else 0.0
-    return (s_lo if math.isfinite(s_lo) else 0.0, s_hi if math.isfinite(s_hi) else 0.0)
 
 
 def mixture_kappa(fractions, wavelength, grain_size=DEFAULT_GRAIN_SIZE, shape=DEFAULT_SHAPE):

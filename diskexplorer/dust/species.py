@@ -8,6 +8,7 @@ process's registry.
 """
 from __future__ import annotations
 
+import math
 import os
 import threading
 from dataclasses import dataclass, field
@@ -18,6 +19,8 @@ from ..errors import DustError
 from ..physics.opacity import KappaTable
 from .library import get_library
 from .optical_constants import OpticalConstants, read_nk_file
+from .optics import METHODS
+from .row_interpolation import end_slopes, interpolate_row
 
 __all__ = ["UserSpecies", "register_species", "unregister_species", "user_species", "install_species",
            "list_species",
@@ -206,11 +209,34 @@ def species_kappa(name, grain_size=0.1, shape="dhs", wavelength=None):
     """κ_abs (cm² g⁻¹) of one species at ``wavelength`` (µm; default: the library grid).
 
     A built-in species is read from the committed table (tabulated sizes only; see
-    :func:`diskexplorer.dust.compute_kappa` for any other size).
+    :func:`diskexplorer.dust.compute_kappa` for any other size). The row is read as a
+    one-species :class:`~diskexplorer.dust.DustMix` reads it
+    (:func:`~diskexplorer.dust.row_interpolation.interpolate_row`).
+
+    Raises
+    ------
+    DustError
+        Unknown species or shape, a grain size that is not > 0 µm or not tabulated, or
+        wavelengths that are not > 0 µm (or that a user species' data do not cover).
     """
-    from .mixture import DustMix
-    mix = DustMix({name: 1.0}, grain_size=grain_size, shape=shape)
-    return mix.kappa(library_grid() if wavelength is None else wavelength)
+    shape_key = str(shape).lower()
+    if shape_key not in METHODS:
+        raise DustError(f"species_kappa({name!r}): shape {shape!r} not one of {METHODS}")
+    size = None
+    if shape_key != "cde":
+        try:
+            size = float(grain_size)
+        except (TypeError, ValueError):
+            raise DustError(f"species_kappa({name!r}): grain_size {grain_size!r} is not a radius in µm") from None
+        if not (math.isfinite(size) and size > 0):
+            raise DustError(f"species_kappa({name!r}): grain_size {grain_size!r} µm: expected > 0")
+        size = round(size, 9)  # as DustMix keys its sizes
+    check_component(name, shape_key, size)
+    row = species_row(name, shape_key, size)
+    loglam = get_library().log_wavelength
+    label = f"{name} ({'CDE' if size is None else f'{shape_key.upper()} {size:g} µm'})"
+    return interpolate_row(row, loglam, end_slopes(loglam, row),
+                           library_grid() if wavelength is None else wavelength, label)
 
 
 def library_grid():
