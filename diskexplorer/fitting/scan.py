@@ -9,12 +9,21 @@ Execution: the grid is cut into chunks; each task evaluates a whole chunk with o
 :class:`~diskexplorer.fitting.Comparison`. The data travel to each worker once
 (``client.scatter(..., broadcast=True)``) and the comparison built from them is cached on
 the worker (:mod:`~diskexplorer.fitting.scan_worker`), so no grid point pickles the data.
+The scattered data are kept on the cluster while the same client scans the same data
+again (the app scans a grid in blocks of rows), and are released when other data come.
+Workers read no files: everything they need (data, scene, registered dust species)
+travels from the submitting process, so a remote worker needs only the same
+diskexplorer version installed.
+
+``scheduler="local"`` uses one :class:`distributed.LocalCluster` per process, started by
+the first scan that asks for it and kept warm for every later one (:func:`local_client`);
+it is closed when the process exits (or by :func:`close_local_cluster`).
 
 Use from a widget
 -----------------
-``progress(done, total)`` and ``cancel()`` are called from the thread running
-:func:`scan_grid`, after every finished chunk and (on a cluster) every ~0.1 s while
-waiting. To keep a notebook responsive, run the scan in a :class:`threading.Thread`, let
+``progress(done, total)``, ``on_chunk(start, chi2)`` and ``cancel()`` are called from the
+thread running :func:`scan_grid`, after every finished chunk (``cancel`` also every
+~0.1 s while waiting on a cluster). To keep a notebook responsive, run the scan in a :class:`threading.Thread`, let
 ``progress`` set a progress bar's value, and pass ``cancel=stop_event.is_set`` with a
 :class:`threading.Event` set by a "Stop" button. A cancelled scan cancels its pending
 tasks and returns the partial dataset (unevaluated points NaN, ``attrs["status"] ==
@@ -22,10 +31,12 @@ tasks and returns the partial dataset (unevaluated points NaN, ``attrs["status"]
 """
 from __future__ import annotations
 
+import atexit
 import json
 import math
 import os
 import re
+import threading
 import time
 import uuid
 from pathlib import Path
@@ -39,7 +50,8 @@ from .paths import canonical_path, get_value, parameter_paths, spec_for
 from ..dust.species import user_species
 from .scan_worker import evaluate_chunk
 
-__all__ = ["scan_grid", "best_point", "confidence_levels", "write_scan", "axis_values", "safe_name"]
+__all__ = ["scan_grid", "best_point", "confidence_levels", "write_scan", "axis_values", "safe_name",
+           "local_client", "close_local_cluster"]
 
 _POLL_S = 0.1  # how often a waiting scan polls cancel() and the futures
 
@@ -163,27 +175,80 @@ def _scene_repr(scene, free):
 
 
 # ------------------------------------------------------------------------------ execution
-def _open_client(scheduler, n_workers):
-    """(client, owned objects to close) for a scheduler specification."""
-    from distributed import Client, LocalCluster
+_LOCAL = {"cluster": None, "client": None}
+_LOCAL_LOCK = threading.Lock()
 
-    if isinstance(scheduler, Client):
-        return scheduler, []
-    if scheduler is None:
+
+def local_client(n_workers=None):
+    """The client of this process's shared local dask cluster, started on first use.
+
+    One :class:`distributed.LocalCluster` on 127.0.0.1 (single-threaded worker processes,
+    one per core or ``n_workers``) serves every ``scheduler="local"`` scan of the process,
+    so only the first scan pays its start-up (2–10 s on a busy 2-core machine). It is
+    closed when the process ends (an ``atexit`` hook: a notebook kernel's shutdown) or by
+    :func:`close_local_cluster`.
+
+    Parameters
+    ----------
+    n_workers : int, optional
+        Workers of the cluster when it is started; ignored when it is already running.
+
+    Returns
+    -------
+    distributed.Client
+    """
+    with _LOCAL_LOCK:
+        client = _LOCAL["client"]
+        if client is not None and client.status == "running":
+            return client
+        _close_local()
+        # Deferred: distributed costs ~1 s to import; serial scans never pay it.
+        from distributed import Client, LocalCluster
+
         # Spawned worker processes, one single-threaded worker per core: the engine is
         # numpy-bound and the GIL would serialise threads. Loopback only.
         cluster = LocalCluster(n_workers=n_workers or os.cpu_count() or 1, threads_per_worker=1,
                                processes=True, host="127.0.0.1", dashboard_address="127.0.0.1:0")
-        client = Client(cluster)
-        return client, [client, cluster]
-    if isinstance(scheduler, str):
-        client = Client(scheduler)
+        _LOCAL["cluster"], _LOCAL["client"] = cluster, Client(cluster)
+        return _LOCAL["client"]
+
+
+def _close_local():
+    client, cluster = _LOCAL["client"], _LOCAL["cluster"]
+    _LOCAL["client"] = _LOCAL["cluster"] = None
+    for obj in (client, cluster):
+        if obj is not None:
+            try:
+                obj.close()
+            except Exception:  # noqa: BLE001 - closing at exit is best effort
+                pass
+
+
+def close_local_cluster():
+    """Shut down the shared local cluster of :func:`local_client`, if one is running."""
+    with _LOCAL_LOCK:
+        _close_local()
+
+
+atexit.register(close_local_cluster)
+
+
+def _open_client(scheduler, n_workers):
+    """(client, owned objects to close) for a scheduler specification."""
+    from distributed import Client
+
+    if isinstance(scheduler, Client):
+        return scheduler, []
+    if isinstance(scheduler, str) and scheduler == "local":
+        return local_client(n_workers), []
+    if isinstance(scheduler, str) and "://" in scheduler:
+        client = Client(scheduler, timeout="10s")
         return client, [client]
     if hasattr(scheduler, "scheduler_address"):  # a cluster object (LocalCluster, ...)
         client = Client(scheduler)
         return client, [client]
-    raise ParameterError(f"scan_grid: scheduler {scheduler!r}; expected None, 'serial', an address "
-                         "such as 'tcp://127.0.0.1:8786', a distributed.Client or a cluster")
+    raise ParameterError(f"scan_grid: scheduler {scheduler!r}; expected None or 'serial', 'local', an "
+                         "address such as 'tcp://127.0.0.1:8786', a distributed.Client or a cluster")
 
 
 def _address(client):
@@ -201,7 +266,7 @@ def _n_workers(client):
 
 
 def scan_grid(scene, data, axes, *, refine_free=None, refine_max_nfev=10, scheduler=None,
-              n_workers=None, chunk_size=None, progress=None, cancel=None):
+              n_workers=None, chunk_size=None, progress=None, cancel=None, on_chunk=None):
     """χ² of a scene over a regular grid of parameters.
 
     Parameters
@@ -223,15 +288,16 @@ def scan_grid(scene, data, axes, *, refine_free=None, refine_max_nfev=10, schedu
         profile-likelihood-like map); must not overlap the axes.
     refine_max_nfev : int
         Model evaluations per refinement (small: a scan multiplies it by the grid size).
-    scheduler : None, "serial", str, distributed.Client or cluster
-        None: start a LocalCluster on 127.0.0.1 (one single-threaded worker process per
-        core, or ``n_workers``) for this scan and shut it down afterwards. ``"serial"``:
-        evaluate in this process without dask. An address (``"tcp://127.0.0.1:8786"``):
-        connect to an existing scheduler. A Client or cluster object: use it (left open).
+    scheduler : None, "serial", "local", str, distributed.Client or cluster
+        None or ``"serial"``: evaluate in this process without dask. ``"local"``: the
+        process's shared LocalCluster on 127.0.0.1 (:func:`local_client`; started by the
+        first such scan, kept for later ones). An address (``"tcp://127.0.0.1:8786"``):
+        connect to an existing scheduler for this scan. A Client or cluster object: use
+        it (left open).
     n_workers : int, optional
-        Workers of the LocalCluster started when ``scheduler`` is None.
+        Workers of the shared LocalCluster when this scan starts it.
     chunk_size : int, optional
-        Grid points per task; default about four tasks per worker, at most 256 points
+        Grid points per task; default about eight tasks per worker, at most 256 points
         (fewer, longer tasks amortise overhead; more tasks balance load and make
         progress and cancellation finer).
     progress : callable, optional
@@ -239,6 +305,12 @@ def scan_grid(scene, data, axes, *, refine_free=None, refine_max_nfev=10, schedu
     cancel : callable, optional
         ``cancel() -> bool``; when True, pending tasks are cancelled and the partial
         result is returned.
+    on_chunk : callable, optional
+        ``on_chunk(start, chi2)`` after each finished chunk, before ``progress``:
+        ``chi2`` (n, 1 + number of kinds) holds the total then the per-kind χ² of the
+        grid points ``start … start + n − 1`` in C order of the grid (the last axis
+        fastest) — to draw a map while the scan goes on. Chunks finish in any order on
+        a cluster.
 
     Returns
     -------
@@ -289,24 +361,31 @@ def scan_grid(scene, data, axes, *, refine_free=None, refine_max_nfev=10, schedu
     refined = np.full((total, len(refine_free)), np.nan)
     token = _token(payload)
 
-    serial = isinstance(scheduler, str) and scheduler == "serial"
+    serial = scheduler is None or (isinstance(scheduler, str) and scheduler == "serial")
     client, owned = (None, []) if serial else _open_client(scheduler, n_workers)
     try:
         where = "serial" if serial else _address(client)
         workers = 1 if serial else _n_workers(client)
         if chunk_size is None:
-            chunk_size = min(256, max(1, math.ceil(total / (4 * workers))))
+            chunk_size = min(256, max(1, math.ceil(total / (8 * workers))))
         chunk_size = int(chunk_size)
         if chunk_size < 1:
             raise ParameterError(f"scan_grid: chunk_size = {chunk_size}; expected ≥ 1")
         starts = list(range(0, total, chunk_size))
         args = (paths, kinds, refine_free, int(refine_max_nfev))
+
+        def report(done, start, result):
+            if on_chunk is not None:
+                on_chunk(start, result[0].copy())
+            if progress is not None:
+                progress(done, total)
+
         if serial:
             status, done = _run_serial(comparison, token, scene, points, starts, chunk_size, args,
-                                       chi2, refined, progress, cancel)
+                                       chi2, refined, report, cancel)
         else:
             status, done = _run_dask(client, payload, token, scene, points, starts, chunk_size, args,
-                                     chi2, refined, progress, cancel)
+                                     chi2, refined, report, cancel)
     finally:
         for obj in owned:
             obj.close()
@@ -351,7 +430,7 @@ def _store(chi2, refined, start, result):
     refined[start:start + len(r)] = r
 
 
-def _run_serial(comparison, token, scene, points, starts, chunk_size, args, chi2, refined, progress, cancel):
+def _run_serial(comparison, token, scene, points, starts, chunk_size, args, chi2, refined, report, cancel):
     paths, kinds, refine_free, nfev = args
     total, done = len(points), 0
     for start in starts:
@@ -359,27 +438,61 @@ def _run_serial(comparison, token, scene, points, starts, chunk_size, args, chi2
             return "cancelled", done
         chunk = points[start:start + chunk_size]
         # The comparison is handed over directly; the token only keys the process cache.
-        _store(chi2, refined, start, evaluate_chunk(comparison, token, scene, paths, chunk, kinds,
-                                                    refine_free, nfev))
+        result = evaluate_chunk(comparison, token, scene, paths, chunk, kinds, refine_free, nfev)
+        _store(chi2, refined, start, result)
         done += len(chunk)
-        if progress is not None:
-            progress(done, total)
+        report(done, start, result)
     return "complete", done
 
 
+# (client id, data token) -> [client, futures of data and species, species token]: the
+# data a client scattered last, kept for its next scan of the same data.
+_SHIPPED = {}
+_SHIPPED_LOCK = threading.Lock()
+
+
+def _shipped(client, payload, token):
+    """Futures of (data, species) on ``client``'s workers, scattered once per data and species."""
+    species = user_species()
+    try:
+        from dask.base import tokenize
+
+        species_token = tokenize(species)
+    except Exception:  # noqa: BLE001 - an unhashable species: ship it afresh
+        species_token = uuid.uuid4().hex
+    with _SHIPPED_LOCK:
+        for key, (other, futures, _) in list(_SHIPPED.items()):
+            if other.status != "running":  # a closed client's futures are gone with it
+                del _SHIPPED[key]
+        entry = _SHIPPED.get(id(client))
+        if (entry is not None and entry[0] is client and entry[2] == (token, species_token)
+                and all(f.status == "finished" for f in entry[1])):  # not lost with a worker
+            return entry[1]
+        if entry is not None:
+            try:
+                entry[0].cancel(list(entry[1]))
+            except Exception:  # noqa: BLE001 - releasing old data is best effort
+                pass
+        # One copy of data and the registered dust species per worker; tasks refer to them
+        # by future. Workers are other processes: without the species, a ring made of one
+        # would not resolve there.
+        futures = tuple(client.scatter([payload, species], broadcast=True, hash=False))
+        _SHIPPED[id(client)] = (client, futures, (token, species_token))
+        return futures
+
+
 def _run_dask(client, payload, token, scene, points, starts, chunk_size, args, chi2, refined,
-              progress, cancel):
+              report, cancel):
+    from distributed import wait
+
     paths, kinds, refine_free, nfev = args
     total, done = len(points), 0
-    # One copy of data, scene and the registered dust species per worker, shipped once;
-    # tasks refer to them by future. Workers are other processes: without the species, a
-    # ring made of one would not resolve there.
-    data_f, scene_f, species_f = client.scatter([payload, scene, user_species()], broadcast=True, hash=False)
+    data_f, species_f = _shipped(client, payload, token)
     run = uuid.uuid4().hex[:8]
     pending = {}
     for n, start in enumerate(starts):
         chunk = points[start:start + chunk_size]
-        fut = client.submit(evaluate_chunk, data_f, token, scene_f, paths, chunk, kinds, refine_free,
+        fut = client.submit(evaluate_chunk, data_f, token, scene, paths, chunk, kinds, refine_free,
                             nfev, species_f, key=f"scan-chunk-{run}-{n}", pure=False)
         pending[fut] = (start, len(chunk))
     status = "complete"
@@ -388,20 +501,21 @@ def _run_dask(client, payload, token, scene, points, starts, chunk_size, args, c
             if cancel is not None and cancel():
                 status = "cancelled"
                 break
-            finished = [f for f in pending if f.done()]
-            if not finished:
-                time.sleep(_POLL_S)
-                continue
-            for fut in finished:
+            # Wakes as soon as a chunk is done (a fixed sleep here cost up to 0.1 s per
+            # chunk); the timeout only bounds how long a cancel waits.
+            try:
+                wait(list(pending), timeout=_POLL_S, return_when="FIRST_COMPLETED")
+            except TimeoutError:
+                pass
+            for fut in [f for f in pending if f.done()]:
                 start, n = pending.pop(fut)
-                _store(chi2, refined, start, fut.result())  # re-raises a task's error here
+                result = fut.result()  # re-raises a task's error here
+                _store(chi2, refined, start, result)
                 done += n
-                if progress is not None:
-                    progress(done, total)
+                report(done, start, result)
     finally:
         if pending:
             client.cancel(list(pending))
-        client.cancel([data_f, scene_f, species_f])
     return status, done
 
 
