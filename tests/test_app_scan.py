@@ -52,7 +52,7 @@ def test_serial_scan_fills_the_map_and_a_click_sets_the_scene(material):
     scene = app.state.scene
     assert panel.scan_now()
     assert app.state.scene is scene  # a scan never moves the model
-    assert len(panel.datasets) == 3  # one block per row: the map was redrawn as rows arrived
+    assert panel.draws == 3 and len(panel.datasets) == 1  # one chunk per row: redrawn as rows arrived
     assert np.all(np.isfinite(panel.chi2)) and panel.chi2.shape == (3, 3)
     assert np.asarray(panel.heat.color).shape == (3, 3) and panel.heat.visible
     assert np.asarray(panel.heat.column).size == 4 and np.asarray(panel.heat.row).size == 4
@@ -119,7 +119,7 @@ def test_cancel_keeps_the_rows_done(material):
     _set_axes(panel, n=8)
     panel.start_button.click()
     t0 = time.time()
-    while len(panel.datasets) < 2 and time.time() - t0 < 15:
+    while panel.draws < 2 and time.time() - t0 < 15:
         time.sleep(0.01)
     panel.cancel_button.click()
     assert panel.runner.wait(15)
@@ -127,3 +127,33 @@ def test_cancel_keeps_the_rows_done(material):
     assert 2 <= done_rows < 8 and np.isnan(panel.chi2[-1]).all()
     assert panel.progress.value.startswith("cancelled")
     assert not panel.start_button.disabled
+
+
+@pytest.mark.slow
+def test_local_scans_share_one_warm_cluster(material):
+    # "local" is the process's shared cluster: started by the first scan, reused by the next
+    # one (of this panel or another app's) and equal to the serial scan.
+    from diskexplorer.fitting.scan import close_local_cluster, local_client
+
+    close_local_cluster()
+    try:
+        app = _app(material)
+        panel = app.scan_panel
+        _set_axes(panel)
+        panel.scan_now()
+        serial = panel.chi2.copy()
+        panel.scheduler.value = "local"
+        assert panel.scan_now()
+        first = local_client(start=False)
+        assert first is not None and "complete: 9 of 9" in panel.progress.value
+        np.testing.assert_allclose(panel.chi2, serial, rtol=1e-12)
+        other = _app(material).scan_panel
+        _set_axes(other)
+        other.scheduler.value = "local"
+        assert other.scan_now()
+        assert local_client(start=False) is first
+        np.testing.assert_allclose(other.chi2, serial, rtol=1e-12)
+        assert panel._clients == {} and other._clients == {}
+    finally:
+        close_local_cluster()
+    assert local_client(start=False) is None

@@ -1,17 +1,18 @@
 """The χ² grid panel: scan two parameters, watch the Δχ² map fill in, click a cell to go there.
 
-The scan runs :func:`~diskexplorer.fitting.scan_grid` over blocks of rows of the grid, one
-block after the other, in a background thread; each finished block is drawn at once, so the
-map fills in while the scan goes on and a cancel stops it between (and, through
-``scan_grid``'s own ``cancel``, inside) blocks. Scheduler: ``local`` starts a local dask
-cluster on 127.0.0.1 the first time a scan is started (never when the app is built) and
-keeps it for later scans; ``serial`` evaluates in the kernel's process; a ``tcp://``
-address connects to a running scheduler.
+The scan runs one :func:`~diskexplorer.fitting.scan_grid` over the whole grid in a
+background thread; each finished chunk of grid points is drawn at once (``on_chunk``), so
+the map fills in while the scan goes on, and a cancel stops it after the chunks in flight.
+In the kernel's process (``serial``) a chunk is one row. Scheduler: ``local`` is the
+process's shared dask cluster on 127.0.0.1 (:func:`~diskexplorer.fitting.scan.local_client`),
+started by the first scan (never when the app is built), reused by every later scan of the
+session and closed with the kernel; ``serial`` evaluates in the kernel's process; a
+``tcp://host:port`` address connects to a running scheduler (kept for later scans).
 """
 from __future__ import annotations
 
 import html
-import math
+import os
 
 import bqplot as bq
 import ipywidgets as w
@@ -20,7 +21,7 @@ import traitlets as t
 
 from ..errors import DiskExplorerError
 from ..fitting.paths import get_value, parameter_paths, set_values, spec_for
-from .background import JobRunner, Throttle
+from .background import JobRunner
 from .controls import unit_text
 from .figures.base import EMPTY, assign, axis, new_figure
 from .palette import DELTA_CHI2_SCHEME, INK, MUTED, OKABE_ITO
@@ -124,7 +125,9 @@ class ScanPanel(w.VBox):
     axes : tuple or None
         (y path, y values, x path, x values) of the last scan.
     datasets : list of xarray.Dataset
-        The scan results, one per block of rows.
+        The result of the last scan (one dataset once it has ended, partial if cancelled).
+    draws : int
+        Chunks drawn during the last scan.
     """
 
     def __init__(self, state, comparison=None, runner="thread"):
@@ -134,8 +137,8 @@ class ScanPanel(w.VBox):
         self.chi2 = None
         self.axes = None
         self.datasets = []
-        self._clients = {}
-        self._throttle = Throttle(0.2)
+        self.draws = 0
+        self._clients = {}  # address -> distributed.Client, kept for later scans
         self._paths = []
         self.x_axis = _AxisBox("x", self._on_path)
         self.y_axis = _AxisBox("y", self._on_path)
@@ -218,38 +221,27 @@ class ScanPanel(w.VBox):
 
     # ------------------------------------------------------------------ running
     def _client(self, where):
-        """A dask client for ``where`` ("local" or an address), created on first use and kept."""
-        if where in self._clients:
-            return self._clients[where]
-        # Deferred: dask.distributed costs ~1 s to import and the cluster ~2 s to start;
-        # the app must not pay either until a scan is started.
-        from distributed import Client, LocalCluster
-
+        """A dask client for ``where`` ("local" or an address), kept for later scans."""
         if where == "local":
-            import os
+            from ..fitting.scan import local_client
 
-            cluster = LocalCluster(n_workers=max(1, min(2, os.cpu_count() or 1)), threads_per_worker=1,
-                                   processes=True, host="127.0.0.1", dashboard_address="127.0.0.1:0")
-            client = Client(cluster)
-            self._clients[where] = client
-            self._cluster = cluster
-        else:
-            client = Client(where, timeout="10s")
-            self._clients[where] = client
-        return client
+            return local_client(max(1, min(2, os.cpu_count() or 1)))
+        if where not in self._clients:
+            # Deferred: dask.distributed costs ~1 s to import; the app must not pay it
+            # until a scan is started.
+            from distributed import Client
+
+            self._clients[where] = Client(where, timeout="10s")
+        return self._clients[where]
 
     def close(self):
-        """Close the dask clients and the local cluster this panel started."""
+        """Close the clients of scheduler addresses (the shared local cluster closes at exit)."""
         for c in self._clients.values():
             try:
                 c.close()
             except Exception:  # noqa: BLE001 - closing is best effort
                 pass
         self._clients.clear()
-        cluster = getattr(self, "_cluster", None)
-        if cluster is not None:
-            cluster.close()
-            self._cluster = None
 
     def start(self):
         """Start a scan of the two chosen parameters around the live scene.
@@ -290,46 +282,33 @@ class ScanPanel(w.VBox):
         self.axes = (py, ys, px, xs)
         self.chi2 = np.full((ys.size, xs.size), np.nan)
         self.datasets = []
+        self.draws = self._done = 0
         self._scene = scene
         self._prepare_map()
         self.start_button.disabled = True
         self.cancel_button.disabled = False
-        self.progress.value = "starting a local dask cluster …" if where == "local" and where not in self._clients \
+        self.progress.value = "starting a local dask cluster …" if where == "local" and not self._local_running() \
             else "scanning …"
-        runner, throttle = self.runner, self._throttle
+        runner = self.runner
         total = xs.size * ys.size
 
         def job():
             from ..fitting.scan import scan_grid
 
+            def on_chunk(start, values):
+                runner.post(lambda: self._add_chunk(start, values[:, 0], total))
+
             try:
                 scheduler = "serial" if where == "serial" else self._client(where)
-                workers = 1 if where == "serial" else max(1, len(scheduler.scheduler_info().get("workers", {})))
-                # Blocks of rows: one row at a time in process; on a cluster enough points per
-                # block to keep every worker busy (~8 chunks each).
-                rows = 1 if where == "serial" else max(1, math.ceil(8 * workers / xs.size))
-                done = 0
-                for start in range(0, ys.size, rows):
-                    if runner.cancel_event.is_set():
-                        break
-                    block = slice(start, min(start + rows, ys.size))
-
-                    def progress(d, t, done=done):
-                        if throttle.ready():
-                            runner.post(lambda: setattr(self.progress, "value", f"{done + d} of {total} points"))
-
-                    ds = scan_grid(scene, comparison, [(py, ys[block]), (px, xs)], scheduler=scheduler,
-                                   progress=progress, cancel=runner.cancel_event.is_set)
-                    values = np.asarray(ds["chi2"].values, float)
-                    done += int(ds.attrs.get("n_evaluated", values.size))
-                    runner.post(lambda block=block, values=values, ds=ds, done=done:
-                                self._add_block(block, values, ds, done, total))
-                    if ds.attrs.get("status") == "cancelled":
-                        break
+                # In process, one row per chunk: the map fills row by row and a cancel stops
+                # between rows. On a cluster scan_grid sizes chunks to keep every worker busy.
+                ds = scan_grid(scene, comparison, [(py, ys), (px, xs)], scheduler=scheduler,
+                               chunk_size=xs.size if where == "serial" else None,
+                               cancel=runner.cancel_event.is_set, on_chunk=on_chunk)
             except Exception as exc:  # noqa: BLE001 - a failed scan must end visibly
                 runner.post(lambda: self._finish(exc))
                 return
-            runner.post(lambda: self._finish(None))
+            runner.post(lambda: self._finish(None, ds))
 
         runner.start(job, name="diskexplorer-scan")
         return True
@@ -347,13 +326,21 @@ class ScanPanel(w.VBox):
         self.runner.cancel()
         self.progress.value = "cancelling …"
 
-    def _finish(self, error):
+    @staticmethod
+    def _local_running():
+        from ..fitting.scan import local_client
+
+        return local_client(start=False) is not None
+
+    def _finish(self, error, ds=None):
         self.start_button.disabled = False
         self.cancel_button.disabled = True
         if error is not None:
             self.progress.value = "scan failed"
             self.state.say(f"scan failed: {error}")
             return
+        self.datasets = [ds]
+        self._update_map()  # now with χ²/N from the result's point count
         n = int(np.isfinite(self.chi2).sum()) if self.chi2 is not None else 0
         state = "cancelled" if self.runner.cancel_event.is_set() else "complete"
         self.progress.value = f"{state}: {n} of {self.chi2.size} points"
@@ -388,10 +375,12 @@ class ScanPanel(w.VBox):
         self.levels.value = ""
         self.best_html.value = f"<span style='color:{MUTED}'>scanning …</span>"
 
-    def _add_block(self, block, values, ds, done, total):
-        self.chi2[block] = values
-        self.datasets.append(ds)
-        self.progress.value = f"{done} of {total} points"
+    def _add_chunk(self, start, values, total):
+        """Draw the χ² of grid points ``start …`` (C order: rows are y) as they arrive."""
+        self.chi2.flat[start:start + len(values)] = values
+        self.draws += 1
+        self._done += len(values)
+        self.progress.value = f"{self._done} of {total} points"
         self._update_map()
 
     def _update_map(self):

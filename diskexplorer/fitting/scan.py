@@ -179,7 +179,7 @@ _LOCAL = {"cluster": None, "client": None}
 _LOCAL_LOCK = threading.Lock()
 
 
-def local_client(n_workers=None):
+def local_client(n_workers=None, start=True):
     """The client of this process's shared local dask cluster, started on first use.
 
     One :class:`distributed.LocalCluster` on 127.0.0.1 (single-threaded worker processes,
@@ -192,15 +192,19 @@ def local_client(n_workers=None):
     ----------
     n_workers : int, optional
         Workers of the cluster when it is started; ignored when it is already running.
+    start : bool
+        Start the cluster if none is running (default); with False, answer None instead.
 
     Returns
     -------
-    distributed.Client
+    distributed.Client or None
     """
     with _LOCAL_LOCK:
         client = _LOCAL["client"]
         if client is not None and client.status == "running":
             return client
+        if not start:
+            return None
         _close_local()
         # Deferred: distributed costs ~1 s to import; serial scans never pay it.
         from distributed import Client, LocalCluster
