@@ -5,6 +5,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from .bandpass import ChannelEvaluator, ChannelSampling
 from .engine import Evaluator, Sampling
 from .scene import ring_labels
 
@@ -56,6 +57,12 @@ class Observer:
         Triangles: baselines AB and BC in m (OIFITS convention), wavelengths in µm.
     sed_wavelength : array_like, optional
         Wavelengths in µm of photometry and spectra.
+    bandwidth, t3_bandwidth, sed_bandwidth : array_like or None, optional
+        Full widths Δλ in µm of the top-hat channels of the V² points, the triangles and
+        the SED wavelengths (broadcast against their wavelengths; 0 is monochromatic).
+        ``None`` (default) is monochromatic; a group with widths is evaluated on a
+        :class:`~diskexplorer.observables.bandpass.ChannelEvaluator` (channel-averaged
+        visibilities, closure phases from them, channel-mean fluxes).
     accuracy : int
         Passed to the evaluators.
 
@@ -67,19 +74,33 @@ class Observer:
     """
 
     def __init__(self, u=(), v=(), wavelength=(), u1=(), v1=(), u2=(), v2=(), t3_wavelength=(),
-                 sed_wavelength=(), accuracy=1):
-        u, v, wl = (np.asarray(a, float).ravel() for a in np.broadcast_arrays(u, v, wavelength))
-        u1, v1, u2, v2, wl3 = (np.asarray(a, float).ravel()
-                               for a in np.broadcast_arrays(u1, v1, u2, v2, t3_wavelength))
+                 sed_wavelength=(), accuracy=1, bandwidth=None, t3_bandwidth=None, sed_bandwidth=None):
+        banded = bandwidth is not None or t3_bandwidth is not None
+        u, v, wl, bw = (np.asarray(a, float).ravel() for a in np.broadcast_arrays(
+            u, v, wavelength, 0.0 if bandwidth is None else bandwidth))
+        u1, v1, u2, v2, wl3, bw3 = (np.asarray(a, float).ravel() for a in np.broadcast_arrays(
+            u1, v1, u2, v2, t3_wavelength, 0.0 if t3_bandwidth is None else t3_bandwidth))
         self.n_vis, self.n_t3 = u.size, u1.size
         all_u = np.concatenate([u, u1, u2, -u1 - u2])
         all_v = np.concatenate([v, v1, v2, -v1 - v2])
         all_wl = np.concatenate([wl, wl3, wl3, wl3])
-        self.interferometric = Evaluator(sampling=Sampling(all_u, all_v, all_wl), accuracy=accuracy) \
-            if all_u.size else None
+        if not all_u.size:
+            self.interferometric = None
+        elif banded:
+            self.interferometric = ChannelEvaluator(sampling=ChannelSampling(
+                all_u, all_v, all_wl, np.concatenate([bw, bw3, bw3, bw3])), accuracy=accuracy)
+        else:
+            self.interferometric = Evaluator(sampling=Sampling(all_u, all_v, all_wl), accuracy=accuracy)
         self.sed_wavelength = np.asarray(sed_wavelength, float).ravel()
-        self.photometric = Evaluator(np.zeros(self.sed_wavelength.size), 0.0, self.sed_wavelength,
-                                     accuracy=accuracy) if self.sed_wavelength.size else None
+        n_sed = self.sed_wavelength.size
+        if not n_sed:
+            self.photometric = None
+        elif sed_bandwidth is not None:
+            sed_bw = np.broadcast_to(np.asarray(sed_bandwidth, float).ravel(), (n_sed,))
+            self.photometric = ChannelEvaluator(np.zeros(n_sed), 0.0, self.sed_wavelength, sed_bw,
+                                                accuracy=accuracy)
+        else:
+            self.photometric = Evaluator(np.zeros(n_sed), 0.0, self.sed_wavelength, accuracy=accuracy)
 
     def observe(self, scene) -> Prediction:
         """All predictions for ``scene``."""

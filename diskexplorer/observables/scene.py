@@ -11,6 +11,7 @@ from ..errors import ParameterError
 from ..physics.parameters import parameter, validate_parameters
 from ..physics.ring import Ring
 from ..physics.star import Star
+from .bandpass import ChannelEvaluator, ChannelSampling
 from .engine import Evaluator, Sampling
 
 __all__ = ["Scene", "evaluator_for"]
@@ -86,11 +87,14 @@ class Scene:
         return replace(self, rings=tuple(rings))
 
     # ------------------------------------------------------------------ observables
-    def evaluate(self, u, v, wavelength):
+    # ``bandwidth`` everywhere: full width Δλ in µm of a top-hat channel centred on the
+    # wavelength (scalar or broadcast against it); None (default) is monochromatic. What a
+    # channel's observables are is defined in :mod:`diskexplorer.observables.bandpass`.
+    def evaluate(self, u, v, wavelength, bandwidth=None):
         """The :class:`~diskexplorer.observables.engine.Evaluation` on a sampling (cached evaluator)."""
-        return evaluator_for(u, v, wavelength).evaluate(self)
+        return evaluator_for(u, v, wavelength, bandwidth).evaluate(self)
 
-    def visibility(self, u, v, wavelength):
+    def visibility(self, u, v, wavelength, bandwidth=None):
         """Complex normalised visibility.
 
         Parameters
@@ -99,58 +103,77 @@ class Scene:
             Baseline coordinates in m (u East, v North).
         wavelength : array_like
             Wavelength in µm; broadcast against ``u`` and ``v``.
+        bandwidth : array_like or None
+            Full width Δλ in µm of each point's top-hat channel centred on ``wavelength``
+            (broadcast against it); ``None`` is monochromatic.
 
         Returns
         -------
         ndarray of complex, broadcast shape of the inputs.
+
+        Notes
+        -----
+        With a bandwidth, V = ∫ F_ν V dλ / ∫ F_ν dλ over the channel (the flux-weighted
+        coherent average, see :mod:`~diskexplorer.observables.bandpass`).
         """
-        return self.evaluate(u, v, wavelength).vis
+        return self.evaluate(u, v, wavelength, bandwidth).vis
 
-    def vis2(self, u, v, wavelength):
-        """Squared visibility |V|² at (u, v) in m and λ in µm."""
-        return np.abs(self.visibility(u, v, wavelength)) ** 2
+    def vis2(self, u, v, wavelength, bandwidth=None):
+        """Squared visibility |V|² at (u, v) in m and λ in µm (channel of width ``bandwidth`` µm)."""
+        return np.abs(self.visibility(u, v, wavelength, bandwidth)) ** 2
 
-    def closure_phase(self, u1, v1, u2, v2, wavelength):
+    def closure_phase(self, u1, v1, u2, v2, wavelength, bandwidth=None):
         """Closure phase in degrees of triangles given by baselines AB = (u1, v1), BC = (u2, v2) in m.
 
-        arg[V(u1, v1) V(u2, v2) V(−u1−u2, −v1−v2)] (OIFITS convention), in (−180, 180].
+        arg[V(u1, v1) V(u2, v2) V(−u1−u2, −v1−v2)] (OIFITS convention), in (−180, 180];
+        with a ``bandwidth`` (µm) each V is its baseline's channel average.
         """
-        return np.degrees(np.angle(self.triple_product(u1, v1, u2, v2, wavelength)))
+        return np.degrees(np.angle(self.triple_product(u1, v1, u2, v2, wavelength, bandwidth)))
 
-    def triple_product(self, u1, v1, u2, v2, wavelength):
+    def triple_product(self, u1, v1, u2, v2, wavelength, bandwidth=None):
         """Complex triple product V(AB) V(BC) V(CA) of triangles (see :meth:`closure_phase`)."""
-        u1, v1, u2, v2, lam = np.broadcast_arrays(*(np.asarray(a, float) for a in (u1, v1, u2, v2, wavelength)))
+        arrays = [u1, v1, u2, v2, wavelength] + ([] if bandwidth is None else [bandwidth])
+        u1, v1, u2, v2, lam, *bw = np.broadcast_arrays(*(np.asarray(a, float) for a in arrays))
         us = np.stack([u1, u2, -u1 - u2])
         vs = np.stack([v1, v2, -v1 - v2])
-        vis = self.visibility(us, vs, np.stack([lam, lam, lam]))
+        vis = self.visibility(us, vs, np.stack([lam, lam, lam]),
+                              np.stack([bw[0]] * 3) if bw else None)
         return vis[0] * vis[1] * vis[2]
 
-    def correlated_flux(self, u, v, wavelength):
-        """Correlated flux |V| F_total in Jy at (u, v) in m and λ in µm."""
-        evaluator = evaluator_for(u, v, wavelength)
+    def correlated_flux(self, u, v, wavelength, bandwidth=None):
+        """Correlated flux |V| F_total in Jy at (u, v) in m and λ in µm (channel mean with ``bandwidth``)."""
+        evaluator = evaluator_for(u, v, wavelength, bandwidth)
         ev = evaluator.evaluate(self)
         s = evaluator.sampling
         return np.abs(ev.vis) * ev.flux_total[s.wave_index].reshape(s.shape)
 
-    def sed_components(self, wavelength):
+    def sed_components(self, wavelength, bandwidth=None):
         """Flux densities in Jy per component at ``wavelength`` (µm).
+
+        With ``bandwidth`` (µm, broadcast against ``wavelength``) each value is the channel
+        mean ∫ F_ν dλ / Δλ over a top-hat channel centred on the wavelength.
 
         Returns
         -------
         dict
             ``"star"``, one entry per ring (by ring name, made unique), ``"extended"``
-            and ``"total"``, each an array of the shape of ``wavelength``.
+            and ``"total"``, each an array of the broadcast shape of the inputs.
         """
-        lam = np.atleast_1d(np.asarray(wavelength, float))
-        evaluator = evaluator_for(np.zeros_like(lam), np.zeros_like(lam), lam)
+        if bandwidth is None:
+            lam = np.asarray(wavelength, float)
+        else:
+            lam, bandwidth = np.broadcast_arrays(np.asarray(wavelength, float), np.asarray(bandwidth, float))
+        shape = lam.shape
+        lam = np.atleast_1d(lam)
+        zeros = np.zeros_like(lam)
+        evaluator = evaluator_for(zeros, zeros, lam, None if bandwidth is None else np.atleast_1d(bandwidth))
         comps = evaluator.evaluate(self, fluxes_only=True).components(ring_labels(self.rings),
                                                                      evaluator.sampling.wave_index)
-        shape = np.shape(wavelength)
         return {k: v.reshape(shape) for k, v in comps.items()}
 
-    def sed(self, wavelength):
-        """Total flux density F_ν in Jy at ``wavelength`` (µm)."""
-        return self.sed_components(wavelength)["total"]
+    def sed(self, wavelength, bandwidth=None):
+        """Total flux density F_ν in Jy at ``wavelength`` (µm); channel mean with ``bandwidth`` (µm)."""
+        return self.sed_components(wavelength, bandwidth)["total"]
 
 
 def ring_labels(rings):
@@ -176,13 +199,23 @@ def _fingerprint(*arrays):
     return h.hexdigest()
 
 
-def evaluator_for(u, v, wavelength):
-    """The shared :class:`Evaluator` for this sampling (kept in a small cache by content)."""
-    u, v, lam = np.broadcast_arrays(np.asarray(u, float), np.asarray(v, float), np.asarray(wavelength, float))
-    key = _fingerprint(u, v, lam)
+def evaluator_for(u, v, wavelength, bandwidth=None):
+    """The shared evaluator for this sampling (kept in a small cache by content).
+
+    An :class:`Evaluator`, or with ``bandwidth`` (channel widths in µm) a
+    :class:`~diskexplorer.observables.bandpass.ChannelEvaluator`.
+    """
+    if bandwidth is None:
+        u, v, lam = np.broadcast_arrays(np.asarray(u, float), np.asarray(v, float), np.asarray(wavelength, float))
+        key = _fingerprint(u, v, lam)
+    else:
+        u, v, lam, bw = np.broadcast_arrays(np.asarray(u, float), np.asarray(v, float),
+                                            np.asarray(wavelength, float), np.asarray(bandwidth, float))
+        key = "band" + _fingerprint(u, v, lam, bw)
     ev = _EVALUATORS.pop(key, None)
     if ev is None:
-        ev = Evaluator(sampling=Sampling(u, v, lam))
+        ev = (Evaluator(sampling=Sampling(u, v, lam)) if bandwidth is None
+              else ChannelEvaluator(sampling=ChannelSampling(u, v, lam, bw)))
     _EVALUATORS[key] = ev
     while len(_EVALUATORS) > _MAX_EVALUATORS:
         _EVALUATORS.pop(next(iter(_EVALUATORS)))
