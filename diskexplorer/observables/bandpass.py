@@ -19,13 +19,17 @@ full width Δλ, and defines the channel's observables as
 
 Why this choice: a fringe-fitting estimator that integrates the coherent flux over a
 channel measures the coherent sum of the fringes of all wavelengths in the channel, which
-is what bandwidth smearing describes (treated in the interferometry textbooks, e.g.
-Thompson, Moran & Swenson, *Interferometry and Synthesis in Radio Astronomy*, ch. 6 on
-bandwidth smearing, and for optical long-baseline instruments Lachaume & Berger 2013,
-MNRAS 435, 2501 — both FROM MEMORY, not checked against the texts here). The exact
-estimator of a given instrument differs in detail (how V² is formed from the frames,
-the instrument's true spectral response rather than a top-hat); the top-hat coherent
-average is the instrument-neutral first-order model. With the flux weighting in
+is what bandwidth smearing describes. It is treated in the interferometry textbooks
+(e.g. Thompson, Moran & Swenson, *Interferometry and Synthesis in Radio Astronomy*, the
+chapter on bandwidth smearing — FROM MEMORY) and, for infrared long-baseline
+instruments, by Lachaume & Berger 2013, "Bandwidth smearing in infrared long-baseline
+interferometry. Application to stellar companion search in fringe-scanning mode", MNRAS
+435, 2501–2519, doi:10.1093/mnras/stt1462 (reference CONFIRMED from the published
+abstract; its abstract also says the bias on V and closure phase depends on the beam
+combination scheme and the data processing, which is why the model here stays
+instrument-neutral). The exact estimator of a given instrument differs in detail (how V²
+is formed from the frames, the instrument's true spectral response rather than a
+top-hat); the top-hat coherent average is the instrument-neutral first-order model. With the flux weighting in
 wavelength (dλ) as stated above, the channel V is the ratio of channel-summed correlated
 flux to channel-summed flux, and |V_chan| F_chan is the channel's correlated flux.
 
@@ -33,7 +37,9 @@ A point source at angular offset s from the phase centre (flat spectrum) has
 V(λ) = exp(−2πi B·s/λ); across a narrow channel (Δλ ≪ λ) the phase is linear in λ', so
 V_chan = exp(−2πi B·s/λ) · sinc(π B·s Δλ/λ²) with sinc(x) = sin x / x (the classical
 bandwidth-smearing factor; derived here from the definition above, to first order in
-Δλ/λ). ``tests/test_bandpass.py`` checks a binary against that formula.
+Δλ/λ; for F_ν ∝ λ⁻² it is exact in 1/λ, with the channel's centre and width in 1/λ).
+``tests/test_bandpass.py`` checks the quadrature against that formula, and the engine
+against the closed form of a uniform disk with F_ν ∝ λ⁻² and an 801-point brute force.
 
 Implementation: sub-channel quadrature. Each channel is replaced by the n Gauss–Legendre
 nodes of its interval, every point (u, v, λ, Δλ) by n points (u, v, λ_k); one ordinary
