@@ -1,5 +1,6 @@
 """The ``diskexplorer`` command line: serve the explorer, regenerate the sample data,
-list or add dust species, and evaluate a model against data into a static report.
+list or add dust species, evaluate a model against data into a static report, and scan
+χ² over a grid of parameters on a dask cluster.
 
 Every command answers ``--help``. Errors a user can cause (bad arguments, missing or
 malformed files, outputs that exist already) end with one line on stderr and a
@@ -176,6 +177,18 @@ def _cmd_evaluate(args):
     return 0
 
 
+def _cmd_scan(args):
+    from .scan_command import ScanUsageError, run_scan
+
+    try:
+        return run_scan(args, say=lambda m: print(m, flush=True))
+    except ScanUsageError as exc:
+        return _usage("scan", _one_line(exc))
+    except KeyboardInterrupt:
+        print("diskexplorer scan: interrupted; nothing written", file=sys.stderr)
+        return 130
+
+
 def _version():
     from importlib import metadata
 
@@ -255,6 +268,28 @@ def build_parser():
     p.add_argument("--npix", type=int, default=256, help="image pixels per side, at least 16 (default 256)")
     p.add_argument("--force", action="store_true", help="overwrite existing outputs")
     p.set_defaults(func=_cmd_evaluate)
+    p = sub.add_parser(
+        "scan", help="χ² over a grid of parameters of a starting point, on a dask cluster, into netCDF",
+        description="Scan the χ² of the starting point's model against the data it names over a regular "
+                    "grid of parameters (every other parameter stays at the document's value) and write "
+                    "the grid to a netCDF file (total χ² and χ² per data kind). Runs on a local dask cluster "
+                    "(--workers), on a running dask scheduler (--scheduler tcp://HOST:PORT) or in this "
+                    "process (--scheduler serial). Every argument is checked before the scan starts; the "
+                    "file is written under a temporary name and renamed when complete; the best grid "
+                    "point is printed.")
+    p.add_argument("start", metavar="START.json", help="starting-point document (diskexplorer.start JSON)")
+    p.add_argument("--axis", metavar="PATH=LO:HI:N[:log]", action="append", required=True,
+                   help="a scanned parameter: N points from LO to HI in its declared unit, evenly spaced "
+                        "(or in its logarithm with :log), e.g. rings.0.r_in=0.30:0.40:40; repeat for each "
+                        "axis (the first varies slowest)")
+    p.add_argument("--scheduler", metavar="ADDRESS",
+                   help="a running dask scheduler, tcp://HOST:PORT, whose workers run the same diskexplorer "
+                        "version; 'serial' runs in this process (default: a local cluster)")
+    p.add_argument("--workers", type=int, metavar="N",
+                   help="workers of the local cluster started without --scheduler (default: one per core)")
+    p.add_argument("--out", metavar="FILE.nc", required=True, help="netCDF file to write")
+    p.add_argument("--force", action="store_true", help="replace an existing --out file")
+    p.set_defaults(func=_cmd_scan)
     return parser
 
 

@@ -122,7 +122,7 @@ def _parse_axes(scene, axes):
         owner = spec_for(path)
         for v in vals:  # refuse values no scene could hold before any work is sent out
             if not owner.contains(v):
-                raise ParameterError(f"scan axis {path} = {v!r} {owner.unit}".rstrip()
+                raise ParameterError(f"scan axis {path} = {float(v)!r} {owner.unit}".rstrip()
                                      + f" is outside the allowed range {owner.describe_range()}")
         paths.append(path)
         values.append(vals)
