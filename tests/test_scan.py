@@ -233,3 +233,41 @@ def test_write_scan_netcdf_roundtrip(serial, tmp_path):
     with pytest.raises(FileExistsError, match="overwrite=True"):
         write_scan(serial, path)
     write_scan(serial, path, overwrite=True)
+
+
+def test_workers_restore_the_malloc_thresholds_dask_switched_off():
+    # dask's nanny sets MALLOC_TRIM_THRESHOLD_ in every worker; there (and only there) the
+    # worker side of a scan sets fixed thresholds, once per process.
+    import os
+    import subprocess
+    import sys
+
+    code = ("from diskexplorer.fitting.scan_worker import tune_allocator as t\n"
+            "print(t(), t())")
+    env = {k: v for k, v in os.environ.items() if k != "MALLOC_TRIM_THRESHOLD_"}
+    plain = subprocess.run([sys.executable, "-c", code], env=env, capture_output=True, text=True, check=True)
+    assert plain.stdout.split() == ["False", "False"]
+    worker = subprocess.run([sys.executable, "-c", code], env=dict(env, MALLOC_TRIM_THRESHOLD_="65536"),
+                            capture_output=True, text=True, check=True)
+    assert worker.stdout.split() == (["True", "True"] if sys.platform.startswith("linux") else ["False", "False"])
+
+
+def test_scheduler_none_is_serial_and_local_is_one_shared_cluster(scene, data, serial):
+    from diskexplorer.fitting import scan
+    from diskexplorer.fitting.scan import close_local_cluster, local_client
+
+    ds = scan_grid(scene, data, AXES, scheduler=None)
+    assert ds.attrs["scheduler"] == "serial"
+    np.testing.assert_array_equal(ds["chi2"].values, serial["chi2"].values)
+    try:
+        first = scan_grid(scene, data, AXES, scheduler="local", n_workers=1)
+        client = local_client(start=False)
+        shipped = scan._SHIPPED[id(client)][1]
+        second = scan_grid(scene, data, AXES, scheduler="local")
+        assert scan._SHIPPED[id(client)][1] is shipped  # the data went to the workers once
+        assert local_client(start=False) is client and client.status == "running"
+        assert first.attrs["scheduler"] == second.attrs["scheduler"] == client.scheduler.address
+        np.testing.assert_allclose(second["chi2"].values, serial["chi2"].values, rtol=1e-13)
+    finally:
+        close_local_cluster()
+    assert local_client(start=False) is None

@@ -158,3 +158,11 @@ def test_progress_bar_redraws_in_place():
     assert text.count("\r") == 2 and text.endswith("\n")
     assert "[##........] 50/200 points  25 %  5 s, 15 s left" in text
     assert "[##########] 200/200 points 100 %  10 s" in text
+
+
+def test_help(capsys):
+    with pytest.raises(SystemExit) as exc:
+        main(["scan", "--help"])
+    assert exc.value.code == 0
+    out = capsys.readouterr().out
+    assert out.startswith("usage: diskexplorer scan") and "--scheduler" in out and "PATH=LO:HI:N" in out
