@@ -234,3 +234,106 @@ def test_observer_with_bandwidths_matches_scene():
 def test_bad_bandwidth_is_refused(bw):
     with pytest.raises(ParameterError, match="bandwidth"):
         smeared_scene().visibility(100.0, 0.0, 2.2, bandwidth=bw)
+
+
+# ---------------------------------------------------------------- comparison with data
+
+def _two_files(tmp_path):
+    from diskexplorer.testing import make_oifits
+
+    a = make_oifits(tmp_path, "k.fits", band="K", n_channels=6, include_flux=True, seed=1)
+    b = make_oifits(tmp_path, "l.fits", band="L", n_channels=5, seed=2, insname="SIM_L")
+    return a, b
+
+
+def test_comparison_uses_eff_band_by_default_and_per_file_switch(tmp_path):
+    from diskexplorer.data import read_oifits
+    from diskexplorer.fitting import Comparison
+
+    a, b = _two_files(tmp_path)
+    obs = read_oifits([a, b])
+    scene = smeared_scene()
+    vis2 = obs.vis2
+    bw = vis2["bandwidth"].values
+    assert np.all(bw > 0)
+    default = Comparison(obs).compare(scene)
+    assert Comparison(obs).banded
+    expected = scene.vis2(vis2["u"].values, vis2["v"].values, vis2["wavelength"].values, bandwidth=bw)
+    np.testing.assert_allclose(default.model["vis2"], expected, rtol=0, atol=1e-12)
+    t3 = obs.t3
+    np.testing.assert_allclose(
+        default.model["t3phi"],
+        scene.closure_phase(t3["u1"].values, t3["v1"].values, t3["u2"].values, t3["v2"].values,
+                            t3["wavelength"].values, bandwidth=t3["bandwidth"].values), rtol=0, atol=1e-9)
+    flux = obs.flux
+    np.testing.assert_allclose(default.model["flux"],
+                               scene.sed(flux["wavelength"].values, bandwidth=flux["bandwidth"].values), rtol=1e-12)
+    mono = Comparison(obs, bandpass=False)
+    assert not mono.banded
+    mono_result = mono.compare(scene)
+    np.testing.assert_allclose(mono_result.model["vis2"],
+                               scene.vis2(vis2["u"].values, vis2["v"].values, vis2["wavelength"].values),
+                               rtol=0, atol=1e-12)
+    assert np.max(np.abs(mono_result.model["vis2"] - default.model["vis2"])) > 1e-4
+    # Per file: the K file monochromatic, the L file averaged over its channels.
+    mixed = Comparison(obs, bandpass={str(a): False}).compare(scene).model["vis2"]
+    in_a = vis2["file"].values.astype(str) == str(a)
+    assert in_a.any() and (~in_a).any()
+    np.testing.assert_allclose(mixed[in_a], mono_result.model["vis2"][in_a], rtol=0, atol=1e-12)
+    np.testing.assert_allclose(mixed[~in_a], default.model["vis2"][~in_a], rtol=0, atol=1e-12)
+
+
+def test_missing_or_zero_eff_band_is_monochromatic_and_too_wide_is_refused(tmp_path):
+    from diskexplorer.data import read_oifits
+    from diskexplorer.errors import DataError
+    from diskexplorer.fitting import Comparison
+    from diskexplorer.fitting.comparison import channel_widths
+
+    a, _ = _two_files(tmp_path)
+    obs = read_oifits(a)
+    nan_bw = obs.vis2.assign_coords(bandwidth=("point", np.full(obs.vis2.sizes["point"], np.nan)))
+    assert channel_widths(nan_bw) is None
+    wide = obs.vis2.assign_coords(bandwidth=("point", 2.5 * obs.vis2["wavelength"].values))
+    with pytest.raises(DataError, match=r"k\.fits: OI_WAVELENGTH EFF_BAND"):
+        channel_widths(wide, kind="vis2")
+    assert Comparison(obs, bandpass={str(a): False}).banded is False
+
+
+def test_data_description_records_the_bandpass_choice(tmp_path):
+    from diskexplorer.errors import SeedError
+    from diskexplorer.fitting import Comparison
+    from diskexplorer.fitting.data_description import DataDescription, describe_data
+
+    a, b = _two_files(tmp_path)
+    old = DataDescription.from_dict({"oifits": [{"path": str(a)}]})      # a document from before the key
+    assert old.oifits[0]["bandpass"] is True
+    desc = DataDescription.from_dict({"oifits": [{"path": str(a), "bandpass": False}, {"path": str(b)}]})
+    assert [e["bandpass"] for e in desc.as_dict()["oifits"]] == [False, True]
+    comparison = desc.comparison()
+    assert comparison.bandpass == {str(a): False}
+    scene = smeared_scene()
+    files = comparison.observations.vis2["file"].values.astype(str)
+    np.testing.assert_allclose(comparison.compare(scene).model["vis2"],
+                               Comparison(comparison.observations, bandpass={str(a): False}).compare(scene).model["vis2"],
+                               rtol=0, atol=0)
+    assert set(files) == {str(a), str(b)}
+    back = describe_data(comparison).as_dict()["oifits"]
+    assert {e["path"]: e["bandpass"] for e in back} == {str(a): False, str(b): True}
+    off = describe_data(Comparison(comparison.observations, bandpass=False)).as_dict()["oifits"]
+    assert all(e["bandpass"] is False for e in off)
+    with pytest.raises(SeedError, match=r"data\.oifits\.0\.bandpass = 'yes': expected true or false"):
+        DataDescription.from_dict({"oifits": [{"path": str(a), "bandpass": "yes"}]})
+
+
+def test_start_document_round_trips_the_bandpass_choice(tmp_path):
+    from diskexplorer.fitting import export_start, read_start, write_start
+
+    a, b = _two_files(tmp_path)
+    scene = smeared_scene()
+    doc = export_start(scene, data={"oifits": [{"path": str(a), "bandpass": False}, {"path": str(b)}]})
+    assert [e["bandpass"] for e in doc["data"]["oifits"]] == [False, True]
+    path = tmp_path / "start.json"
+    write_start(path, doc)                       # validated against the shipped schema
+    start = read_start(path)
+    assert [e["bandpass"] for e in start.data.oifits] == [False, True]
+    assert start.comparison().bandpass == {str(a): False}

@@ -5,9 +5,10 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
+from ..errors import DataError
 from ..observables.observer import Observer
 
-__all__ = ["Comparison", "ComparisonResult", "DATA_KINDS", "phase_residual"]
+__all__ = ["Comparison", "ComparisonResult", "DATA_KINDS", "phase_residual", "channel_widths"]
 
 #: Data kinds a comparison can judge, in display order.
 DATA_KINDS = ("vis2", "t3phi", "t3amp", "visamp", "photometry", "spectrum", "flux")
@@ -83,6 +84,51 @@ class ComparisonResult:
         return "\n".join(lines)
 
 
+def channel_widths(ds, bandpass=True, kind="data"):
+    """Channel widths (µm) the model uses for the points of one data kind.
+
+    Parameters
+    ----------
+    ds : xarray.Dataset
+        One kind of an :class:`~diskexplorer.data.ObservationSet` (coordinates
+        ``wavelength``, ``bandwidth`` = EFF_BAND in µm, ``file``).
+    bandpass : bool or mapping
+        ``True``: every point's EFF_BAND; ``False``: none (monochromatic); a mapping
+        ``{file: bool}`` decides per file (the points' ``file`` coordinate), files it does
+        not name use their EFF_BAND.
+    kind : str
+        Name of the kind for error messages.
+
+    Returns
+    -------
+    ndarray or None
+        Widths in µm per point, 0 where monochromatic (bandpass off, EFF_BAND missing,
+        NaN or ≤ 0); ``None`` when no point has a width (the monochromatic model itself).
+
+    Raises
+    ------
+    DataError
+        An EFF_BAND of twice its EFF_WAVE or more (a channel reaching λ ≤ 0), naming the file.
+    """
+    if bandpass is False or "bandwidth" not in ds.coords:
+        return None
+    bw = np.asarray(ds["bandwidth"].values, float).copy()
+    lam = np.asarray(ds["wavelength"].values, float)
+    files = np.asarray(ds["file"].values).astype(str) if "file" in ds.coords else np.full(bw.shape, "")
+    use = np.isfinite(bw) & (bw > 0)
+    if isinstance(bandpass, dict):
+        for name, on in bandpass.items():
+            if not on:
+                use &= files != str(name)
+    bw = np.where(use, bw, 0.0)
+    bad = bw >= 2.0 * lam
+    if np.any(bad):
+        k = int(np.flatnonzero(bad)[0])
+        raise DataError(f"{files[k] or kind}: OI_WAVELENGTH EFF_BAND = {bw[k]:.6g} µm at EFF_WAVE = "
+                        f"{lam[k]:.6g} µm ({kind}): a channel must be narrower than twice its wavelength")
+    return bw if np.any(bw > 0) else None
+
+
 class Comparison:
     """Binds loaded data to the engine; :meth:`compare` judges a scene against all of it.
 
@@ -100,10 +146,19 @@ class Comparison:
         Weight per data kind in the total χ² (default 1; ``t3amp`` defaults to 0).
     accuracy : int
         Engine accuracy factor.
+    bandpass : bool or dict
+        Whether the model of interferometric data (V², visibilities, closure phases,
+        OI_FLUX) is averaged over each channel's EFF_BAND (a top-hat channel, see
+        :mod:`diskexplorer.observables.bandpass`): ``True`` (default) for all, ``False``
+        for none (monochromatic at EFF_WAVE), or ``{file: bool}`` per file (the points'
+        ``file`` coordinate; files not named: True). Photometry and spectra stay
+        monochromatic (their readers carry no channel widths).
     """
 
-    def __init__(self, observations=None, photometry=None, spectrum=None, weights=None, accuracy=1):
+    def __init__(self, observations=None, photometry=None, spectrum=None, weights=None, accuracy=1,
+                 bandpass=True):
         self.observations = observations
+        self.bandpass = dict(bandpass) if isinstance(bandpass, dict) else bool(bandpass)
         self.photometry = photometry
         self.spectrum = spectrum
         self.weights = {"t3amp": 0.0}
@@ -112,13 +167,14 @@ class Comparison:
         vis2 = getattr(obs, "vis2", None)
         t3 = getattr(obs, "t3", None)
         vis = getattr(obs, "vis", None)
-        uv = []
+        uv, widths = [], []
         self._slices = {}
         start = 0
         for name, ds in (("vis2", vis2), ("vis", vis)):
             if ds is not None and ds.sizes.get("point", 0):
                 n = ds.sizes["point"]
                 uv.append((ds["u"].values, ds["v"].values, ds["wavelength"].values))
+                widths.append(channel_widths(ds, self.bandpass, name))
                 self._slices[name] = slice(start, start + n)
                 start += n
         u = np.concatenate([a[0] for a in uv]) if uv else np.zeros(0)
@@ -127,7 +183,8 @@ class Comparison:
         has_t3 = t3 is not None and t3.sizes.get("point", 0)
         t3_args = ((t3["u1"].values, t3["v1"].values, t3["u2"].values, t3["v2"].values, t3["wavelength"].values)
                    if has_t3 else ((), (), (), (), ()))
-        sed_parts = []
+        t3_bw = channel_widths(t3, self.bandpass, "t3") if has_t3 else None
+        sed_parts, sed_widths = [], []
         self._sed_slices = {}
         start = 0
         for name, ds in (("photometry", photometry), ("spectrum", spectrum),
@@ -135,10 +192,23 @@ class Comparison:
             if ds is not None and ds["wavelength"].size:
                 n = ds["wavelength"].size
                 sed_parts.append(np.asarray(ds["wavelength"].values, float))
+                sed_widths.append(channel_widths(ds, self.bandpass, name) if name == "flux" else None)
                 self._sed_slices[name] = slice(start, start + n)
                 start += n
         sed_wl = np.concatenate(sed_parts) if sed_parts else np.zeros(0)
-        self.observer = Observer(u, v, wl, *t3_args, sed_wavelength=sed_wl, accuracy=accuracy)
+        # None where no point has a width: those groups keep the monochromatic evaluator.
+        vis_bw = _join_widths(widths, [a[2] for a in uv])
+        sed_bw = _join_widths(sed_widths, sed_parts)
+        self.observer = Observer(u, v, wl, *t3_args, sed_wavelength=sed_wl, accuracy=accuracy,
+                                 bandwidth=vis_bw, t3_bandwidth=t3_bw, sed_bandwidth=sed_bw)
+
+    @property
+    def banded(self):
+        """Whether any interferometric or OI_FLUX point is averaged over its channel."""
+        from ..observables.bandpass import ChannelEvaluator
+
+        return any(isinstance(e, ChannelEvaluator)
+                   for e in (self.observer.interferometric, self.observer.photometric))
 
     @property
     def kinds(self):
@@ -210,3 +280,10 @@ class Comparison:
         weights = {k: float(self.weights.get(k, 1.0)) for k in chi2}
         return ComparisonResult(prediction=pred, model=model, residuals=resid, chi2=chi2, npoints=npts,
                                 weights=weights, sed=sed, spectrum=spec)
+
+
+def _join_widths(widths, wavelengths):
+    """One width array over concatenated groups (zeros for groups without), or None if none has any."""
+    if all(w is None for w in widths):
+        return None
+    return np.concatenate([np.zeros(np.size(lam)) if w is None else w for w, lam in zip(widths, wavelengths)])

@@ -6,7 +6,7 @@ The description is plain data (it goes into the starting-point document under
     {
       "oifits": [{"path": "night1.fits", "target": null, "bands": ["K"],
                   "wavelength_range": null, "instruments": null, "baseline_range": [20.0, null],
-                  "error_floor": {"vis2_relative": 0.05, "phase": 1.0}}],
+                  "error_floor": {"vis2_relative": 0.05, "phase": 1.0}, "bandpass": true}],
       "photometry": {"path": "sed.csv", "a_v": null, "r_v": 3.1},
       "spectrum": {"path": "nband.csv", "wavelength_range": [7.5, 13.5], "a_v": null, "r_v": 3.1},
       "weights": {"vis2": 1.0, "t3phi": 1.0}
@@ -14,6 +14,12 @@ The description is plain data (it goes into the starting-point document under
 
 ``baseline_range`` is [shortest, longest] projected baseline in m (``null`` for no upper
 limit); a closure triangle is kept when all three of its baselines lie inside.
+
+``bandpass`` (default ``true``) averages the model of the file's points over each
+channel's EFF_BAND (a top-hat channel, :mod:`diskexplorer.observables.bandpass`);
+``false`` compares the monochromatic model at EFF_WAVE. Documents written before the
+key existed have no ``bandpass``: they are read with the default, so their data are now
+judged with the channel average (χ² can differ slightly from the one they record).
 
 Relative paths are resolved against a base directory: the folder of the document when
 it was read from a file, else the current directory.
@@ -31,7 +37,8 @@ __all__ = ["DataDescription", "ERROR_FLOOR_KEYS", "describe_data"]
 
 #: Keyword arguments of :meth:`ObservationSet.with_error_floor` a document may set.
 ERROR_FLOOR_KEYS = ("vis2_relative", "vis2_absolute", "phase", "amplitude_relative", "combine")
-_OIFITS_KEYS = ("path", "target", "bands", "wavelength_range", "instruments", "baseline_range", "error_floor")
+_OIFITS_KEYS = ("path", "target", "bands", "wavelength_range", "instruments", "baseline_range", "error_floor",
+                "bandpass")
 _PHOT_KEYS = ("path", "a_v", "r_v")
 _SPEC_KEYS = ("path", "wavelength_range", "a_v", "r_v")
 
@@ -52,7 +59,10 @@ def _oifits_entry(e, where):
     out = {"path": e["path"], "target": e.get("target"), "bands": e.get("bands"),
            "wavelength_range": e.get("wavelength_range"), "instruments": e.get("instruments"),
            "baseline_range": _baseline_range(e.get("baseline_range"), f"{where}.baseline_range"),
-           "error_floor": dict(e.get("error_floor") or {})}
+           "error_floor": dict(e.get("error_floor") or {}),
+           "bandpass": e.get("bandpass", True)}
+    if not isinstance(out["bandpass"], bool):
+        raise SeedError(f"{where}.bandpass = {out['bandpass']!r}: expected true or false")
     extra = sorted(set(out["error_floor"]) - set(ERROR_FLOOR_KEYS))
     if extra:
         raise SeedError(f"{where}.error_floor: unknown key(s) {', '.join(map(repr, extra))}; allowed: "
@@ -89,7 +99,8 @@ class DataDescription:
         One entry per OIFITS file (or directory): ``path``, ``target`` (str or None),
         ``bands`` (interferometric band names or None), ``wavelength_range`` ([lo, hi] µm
         or None), ``instruments`` (INSNAMEs or None), ``error_floor`` (keyword arguments
-        of :meth:`~diskexplorer.data.ObservationSet.with_error_floor`).
+        of :meth:`~diskexplorer.data.ObservationSet.with_error_floor`), ``bandpass``
+        (bool: the model averaged over each channel's EFF_BAND; default True).
     photometry : dict or None
         ``path``, ``a_v`` (mag or None), ``r_v``.
     spectrum : dict or None
@@ -170,9 +181,14 @@ class DataDescription:
         DataError
             From the readers (missing or malformed files).
         """
+        loaded, _ = self._load(base_dir)
+        return loaded
+
+    def _load(self, base_dir):
+        """``load``'s tuple and the per-file bandpass choices ``{file: False}`` of the entries."""
         from ..data import ObservationSet, read_oifits, read_photometry, read_spectrum
 
-        sets = []
+        sets, bandpass = [], {}
         for e in self.oifits:
             obs = read_oifits(self.resolve(e["path"], base_dir), target=e["target"])
             if e["bands"]:
@@ -186,6 +202,8 @@ class DataDescription:
                 obs = obs.select_baseline(lo, math.inf if hi is None else hi)
             if e["error_floor"]:
                 obs = obs.with_error_floor(**e["error_floor"])
+            if not e.get("bandpass", True):
+                bandpass.update((f, False) for f in obs.files)
             sets.append(obs)
         observations = (sets[0] if len(sets) == 1 else ObservationSet.concat(sets)) if sets else None
         photometry = spectrum = None
@@ -198,14 +216,15 @@ class DataDescription:
             if s["wavelength_range"]:
                 lo, hi = s["wavelength_range"]
                 spectrum = spectrum.sel(wavelength=slice(lo, hi))
-        return observations, photometry, spectrum
+        return (observations, photometry, spectrum), bandpass
 
     def comparison(self, base_dir=None, accuracy=1):
         """A :class:`~diskexplorer.fitting.Comparison` of the loaded data with these weights."""
         from .comparison import Comparison
 
-        obs, phot, spec = self.load(base_dir)
-        return Comparison(obs, phot, spec, weights=self.weights or None, accuracy=accuracy)
+        (obs, phot, spec), bandpass = self._load(base_dir)
+        return Comparison(obs, phot, spec, weights=self.weights or None, accuracy=accuracy,
+                          bandpass=bandpass or True)
 
 
 def describe_data(data):
@@ -213,8 +232,8 @@ def describe_data(data):
 
     A :class:`~diskexplorer.fitting.Comparison` is described by the files its data were
     read from (``ObservationSet.files``, the ``source_file`` attribute of photometry and
-    spectra) and its weights; selections and error floors applied in memory are not
-    known to it and are not recorded.
+    spectra), its weights and its per-file bandpass choice; selections and error floors
+    applied in memory are not known to it and are not recorded.
     """
     if data is None:
         return DataDescription()
@@ -227,7 +246,9 @@ def describe_data(data):
         files = [f for f in (getattr(obs, "files", ()) or ()) if f]
         phot = getattr(data, "photometry", None)
         spec = getattr(data, "spectrum", None)
-        d = {"oifits": files,
+        choice = getattr(data, "bandpass", True)
+        d = {"oifits": [{"path": f, "bandpass": (choice.get(f, True) if isinstance(choice, dict)
+                                                 else bool(choice))} for f in files],
              "photometry": phot.attrs.get("source_file") if phot is not None else None,
              "spectrum": spec.attrs.get("source_file") if spec is not None else None,
              "weights": {k: v for k, v in data.weights.items() if not (k == "t3amp" and v == 0.0)}}

@@ -123,7 +123,10 @@ def build_schema():
                            "error_floor": _object({"vis2_relative": number, "vis2_absolute": number,
                                                    "phase": number, "amplitude_relative": number,
                                                    "combine": {"enum": ["max", "quadrature"]}},
-                                                  required=[])},
+                                                  required=[]),
+                           "bandpass": {"type": "boolean",
+                                        "description": "model averaged over each channel's EFF_BAND "
+                                                       "(top-hat); absent: true"}},
                           required=["path"]),
         "data": _object({
             "oifits": {"type": "array", "items": _ref("oifits")},
