@@ -12,7 +12,6 @@ session and closed with the kernel; ``serial`` evaluates in the kernel's process
 from __future__ import annotations
 
 import html
-import os
 
 import bqplot as bq
 import ipywidgets as w
@@ -225,7 +224,7 @@ class ScanPanel(w.VBox):
         if where == "local":
             from ..fitting.scan import local_client
 
-            return local_client(max(1, min(2, os.cpu_count() or 1)))
+            return local_client()  # one single-threaded worker per core
         if where not in self._clients:
             # Deferred: dask.distributed costs ~1 s to import; the app must not pay it
             # until a scan is started.
