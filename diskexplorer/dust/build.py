@@ -80,18 +80,24 @@ def build_library(constants_dir=None, sizes=None, species=None, progress=None):
     """Compute every catalogue species; returns (wavelength, rows, provenance).
 
     ``constants_dir``: folder of the optical-constants files (default: the packaged copy).
+    The grid (:func:`diskexplorer.dust.grid.library_wavelength_grid`) is the regular one
+    joined by the tabulated wavelengths of the species built (``species``) inside
+    :data:`~diskexplorer.dust.grid.LAB_NODE_RANGE`.
     """
     from .catalogue import CATALOGUE, K_FLOOR, constants_directory
-    from .grid import GRID_DESCRIPTION, LIBRARY_SIZES, library_wavelength_grid
+    from .grid import (GRID_DESCRIPTION, LAB_NODE_RANGE, LIBRARY_SIZES, laboratory_nodes,
+                       library_wavelength_grid)
     constants_directory(constants_dir)  # a missing folder fails before any computation
-    grid = library_wavelength_grid()
     sizes = tuple(sizes or LIBRARY_SIZES)
     names = list(species or CATALOGUE)
+    # All constants first: the grid holds every species' laboratory wavelengths.
+    loaded = {name: CATALOGUE[name].load(constants_dir) for name in names}
+    grid = library_wavelength_grid(laboratory_nodes(oc for axes in loaded.values() for oc in axes))
     rows, prov = [], {}
     for name in names:
         recipe = CATALOGUE[name]
         t0 = time.perf_counter()
-        axes = recipe.load(constants_dir)
+        axes = loaded[name]
         rows += compute_species_rows(recipe, grid, sizes, constants=axes)
         notes = list(dict.fromkeys(n for oc in axes for n in oc.notes)) + list(recipe.notes)
         if len(axes) > 1:
@@ -116,6 +122,8 @@ def build_library(constants_dir=None, sizes=None, species=None, progress=None):
         "built": _dt.datetime.now(_dt.timezone.utc).strftime("%Y-%m-%dT%H:%M:%SZ"),
         "by": "python -m diskexplorer.dust.build",
         "grid": GRID_DESCRIPTION,
+        "grid_points": int(grid.size),
+        "laboratory_nodes_um": list(LAB_NODE_RANGE),
         "kappa": "mass absorption coefficient κ_abs in cm2 g-1, stored as float32",
         "k_floor": K_FLOOR,
         "dhs_f_max": DHS_F_MAX,
