@@ -137,7 +137,10 @@ def _integral_j0(z):
 
 
 def _integral_j1_over_t(z):
-    """∫₀^z J1(t)/t dt = ∫₀^z J0 dt − J1(z), since d/dt[−J1(t)] = −J0(t) + J1(t)/t (J1' = J0 − J1/t)."""
+    """∫₀^z J1(t)/t dt = ∫₀^z J0 dt − J1(z).
+
+    Since J1' = J0 − J1/t, d/dt[−J1(t)] = −J0(t) + J1(t)/t.
+    """
     return _integral_j0(z) - special.j1(z)
 
 
@@ -267,7 +270,8 @@ def test_comparison_uses_eff_band_by_default_and_per_file_switch(tmp_path):
                             t3["wavelength"].values, bandwidth=t3["bandwidth"].values), rtol=0, atol=1e-9)
     flux = obs.flux
     np.testing.assert_allclose(default.model["flux"],
-                               scene.sed(flux["wavelength"].values, bandwidth=flux["bandwidth"].values), rtol=1e-12)
+                               scene.sed(flux["wavelength"].values, bandwidth=flux["bandwidth"].values),
+                               rtol=1e-12)
     mono = Comparison(obs, bandpass=False)
     assert not mono.banded
     mono_result = mono.compare(scene)
@@ -313,9 +317,8 @@ def test_data_description_records_the_bandpass_choice(tmp_path):
     assert comparison.bandpass == {str(a): False}
     scene = smeared_scene()
     files = comparison.observations.vis2["file"].values.astype(str)
-    np.testing.assert_allclose(comparison.compare(scene).model["vis2"],
-                               Comparison(comparison.observations, bandpass={str(a): False}).compare(scene).model["vis2"],
-                               rtol=0, atol=0)
+    by_hand = Comparison(comparison.observations, bandpass={str(a): False})
+    np.testing.assert_array_equal(comparison.compare(scene).model["vis2"], by_hand.compare(scene).model["vis2"])
     assert set(files) == {str(a), str(b)}
     back = describe_data(comparison).as_dict()["oifits"]
     assert {e["path"]: e["bandpass"] for e in back} == {str(a): False, str(b): True}

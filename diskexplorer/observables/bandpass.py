@@ -7,7 +7,7 @@ full width Δλ, and defines the channel's observables as
 
 * complex visibility: the flux-weighted coherent average over the channel,
 
-      V_chan(u, v) = ∫ F_ν(λ') V(u, v, λ') dλ' / ∫ F_ν(λ') dλ'   (λ' over [λ − Δλ/2, λ + Δλ/2]),
+      V_chan(u, v) = ∫ F_ν(λ') V(u, v, λ') dλ' / ∫ F_ν(λ') dλ',  λ' ∈ [λ − Δλ/2, λ + Δλ/2],
 
   i.e. the correlated flux summed over the channel divided by the flux summed over it, at
   fixed baseline (u, v) in metres;
