@@ -18,7 +18,7 @@ from diskexplorer.report import DEFAULT_DPI, FIGURE_SIZES_IN, FIGURES, classify_
 from diskexplorer.sample import SAMPLE_FILES, demo_scene, sample_data_dir
 
 SAMPLE = sample_data_dir()
-COMMANDS = ("demo", "sample-data", "species", "evaluate")
+COMMANDS = ("demo", "sample-data", "species", "evaluate", "scan")
 
 
 def _stderr_line(capsys):
