@@ -87,17 +87,18 @@ def _as_comparison(data, weights):
             merged.update(weights)
             return Comparison(data.observations, data.photometry, data.spectrum, weights=merged,
                               accuracy=data.observer.interferometric.accuracy
-                              if data.observer.interferometric is not None else 1)
+                              if data.observer.interferometric is not None else 1,
+                              bandpass=data.bandpass)
         return data
     if isinstance(data, dict):
-        extra = set(data) - {"observations", "photometry", "spectrum", "weights", "accuracy"}
+        extra = set(data) - {"observations", "photometry", "spectrum", "weights", "accuracy", "bandpass"}
         if extra:
             raise ParameterError(f"refine: data has unknown key(s) {sorted(extra)}; expected "
-                                 "observations, photometry, spectrum (and weights, accuracy)")
+                                 "observations, photometry, spectrum (and weights, accuracy, bandpass)")
         w = dict(data.get("weights") or {})
         w.update(weights or {})
         return Comparison(data.get("observations"), data.get("photometry"), data.get("spectrum"),
-                          weights=w, accuracy=data.get("accuracy", 1))
+                          weights=w, accuracy=data.get("accuracy", 1), bandpass=data.get("bandpass", True))
     raise ParameterError(f"refine: data must be a Comparison or a dict(observations=..., photometry=..., "
                          f"spectrum=...), got {type(data).__name__}")
 

@@ -137,18 +137,21 @@ def _payload(data):
         interf = data.observer.interferometric
         accuracy = interf.accuracy if interf is not None else 1
         payload = dict(observations=data.observations, photometry=data.photometry,
-                       spectrum=data.spectrum, weights=dict(data.weights), accuracy=accuracy)
+                       spectrum=data.spectrum, weights=dict(data.weights), accuracy=accuracy,
+                       bandpass=data.bandpass)
         return data, payload
     if isinstance(data, dict):
-        extra = set(data) - {"observations", "photometry", "spectrum", "weights", "accuracy", "paths"}
+        extra = set(data) - {"observations", "photometry", "spectrum", "weights", "accuracy", "paths",
+                             "bandpass"}
         if extra:
             raise ParameterError(f"scan_grid: data has unknown key(s) {sorted(extra)}; expected "
-                                 "observations, photometry, spectrum (and weights, accuracy)")
+                                 "observations, photometry, spectrum (and weights, accuracy, bandpass)")
         payload = dict(observations=data.get("observations"), photometry=data.get("photometry"),
                        spectrum=data.get("spectrum"), weights=dict(data.get("weights") or {}),
-                       accuracy=data.get("accuracy", 1))
+                       accuracy=data.get("accuracy", 1), bandpass=data.get("bandpass", True))
         comp = Comparison(payload["observations"], payload["photometry"], payload["spectrum"],
-                          weights=payload["weights"], accuracy=payload["accuracy"])
+                          weights=payload["weights"], accuracy=payload["accuracy"],
+                          bandpass=payload["bandpass"])
         return comp, payload
     raise ParameterError(f"scan_grid: data must be a Comparison or a dict(observations=..., "
                          f"photometry=..., spectrum=...), got {type(data).__name__}")
@@ -162,7 +165,9 @@ _TOKENS = weakref.WeakKeyDictionary()
 def _token_of(data, payload):
     if not isinstance(data, Comparison):
         return _token(payload)
-    weights = sorted(payload["weights"].items())
+    # The worker's cached comparison is found by this token: it must change with anything
+    # that changes χ² besides the data (weights, the channel-bandpass choice).
+    weights = (sorted(payload["weights"].items()), repr(payload.get("bandpass", True)))
     known = _TOKENS.get(data)
     if known is not None and known[0] == weights:
         return known[1]

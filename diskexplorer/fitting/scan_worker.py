@@ -101,7 +101,7 @@ def comparison_for(token, payload):
         else:
             comp = Comparison(payload.get("observations"), payload.get("photometry"),
                               payload.get("spectrum"), weights=payload.get("weights"),
-                              accuracy=payload.get("accuracy", 1))
+                              accuracy=payload.get("accuracy", 1), bandpass=payload.get("bandpass", True))
         _COMPARISONS[token] = comp
         while len(_COMPARISONS) > _MAX_CACHED:
             _COMPARISONS.popitem(last=False)

@@ -61,6 +61,15 @@ def _data_block(data):
     return "\n".join(out)
 
 
+def _bandpass_line(data):
+    off = [e["path"] for e in data.oifits if not e.get("bandpass", True)]
+    if not off:
+        return "bandpass = True  # the model is averaged over each channel's EFF_BAND"
+    # Keys are the files as read above (the points' file names), as Comparison matches them.
+    return ("# the model is averaged over each channel's EFF_BAND, except in these files\n"
+            f"bandpass = {{str(_data_path(p)): False for p in {off!r}}}")
+
+
 def _free_table(start):
     if not start.free:
         return "#   (none: every parameter is fixed; log_probability takes an empty vector)"
@@ -133,8 +142,9 @@ def _data_path(path):
 
 # --- the data the starting point was judged against -------------------------------------
 {_data_block(start.data)}
+{_bandpass_line(start.data)}
 comparison = Comparison(observations, photometry, spectrum, weights={weights!r},
-                        accuracy={start.accuracy!r})
+                        accuracy={start.accuracy!r}, bandpass=bandpass)
 
 
 def log_probability(x):
