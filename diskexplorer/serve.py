@@ -15,7 +15,6 @@ import signal
 import socket
 import subprocess
 import sys
-import tempfile
 import time
 from pathlib import Path
 
@@ -110,7 +109,6 @@ class DemoServer:
         self.idle_timeout = idle_timeout
         self.log_level = log_level
         self.process = None
-        self._runtime = None
 
     @property
     def url(self):
@@ -140,10 +138,6 @@ class DemoServer:
         # One BLAS thread per kernel: the live loop's products are small and several
         # kernels may share the machine.
         env.setdefault("OPENBLAS_NUM_THREADS", "1")
-        # voila and its kernels keep their runtime files (connection files) here, removed
-        # at stop, so nothing of theirs stays in the user's home folder.
-        self._runtime = tempfile.mkdtemp(prefix="diskexplorer-demo-")
-        env["JUPYTER_RUNTIME_DIR"] = self._runtime
         return env
 
     def start(self, timeout=60.0):
@@ -160,7 +154,6 @@ class DemoServer:
         while time.monotonic() < deadline:
             code = self.process.poll()
             if code is not None:
-                self._cleanup_runtime()
                 raise DiskExplorerError(f"voila stopped at start with exit status {code}")
             try:
                 with socket.create_connection(("127.0.0.1", self.port), timeout=0.5):
@@ -209,15 +202,7 @@ class DemoServer:
             except psutil.Error:
                 pass
         psutil.wait_procs(still, timeout=3.0)
-        self._cleanup_runtime()
         return code
-
-    def _cleanup_runtime(self):
-        if self._runtime:
-            import shutil
-
-            shutil.rmtree(self._runtime, ignore_errors=True)
-            self._runtime = None
 
     def serve_forever(self, say=print):
         """Start, print the address, and stop everything on SIGTERM, SIGINT or voila's exit.
