@@ -5,7 +5,6 @@ except under ``DISKEXPLORER_REQUIRE_BROWSER=1`` (CI), where they fail.
 """
 import contextlib
 import os
-import shutil
 import socket
 import subprocess
 import sys
@@ -13,6 +12,7 @@ import time
 from pathlib import Path
 
 import pytest
+from _processes import free_port
 
 __all__ = ["CHROMIUM", "ROOT", "NOTEBOOK", "OUT", "ARGS", "require_browser", "served_app", "open_app"]
 
@@ -39,12 +39,6 @@ def require_browser():
         pytest.skip("playwright is missing")
 
 
-def _free_port():
-    with socket.socket() as s:
-        s.bind(("127.0.0.1", 0))
-        return s.getsockname()[1]
-
-
 def _wait_port(port, proc, timeout=60.0):
     end = time.time() + timeout
     while time.time() < end:
@@ -58,12 +52,17 @@ def _wait_port(port, proc, timeout=60.0):
 
 
 @contextlib.contextmanager
-def served_app(notebook=NOTEBOOK):
-    """Serve ``notebook`` with voila on a free loopback port; yields its URL."""
-    voila = shutil.which("voila", path=str(Path(sys.executable).parent)) or "voila"
-    port = _free_port()
-    proc = subprocess.Popen([voila, str(notebook), "--no-browser", f"--port={port}", "--Voila.ip=127.0.0.1"],
-                            stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL, cwd=str(ROOT))
+def served_app(notebook=NOTEBOOK, env=None, log=None):
+    """Serve ``notebook`` with voila on a free loopback port; yields its URL.
+
+    ``env`` adds environment variables (e.g. the ones ``diskexplorer demo`` hands to the
+    app); ``log`` is a file voila's output goes to (default: discarded).
+    """
+    port = free_port()
+    out = open(log, "wb") if log is not None else subprocess.DEVNULL
+    proc = subprocess.Popen([sys.executable, "-m", "voila", str(notebook), "--no-browser", f"--port={port}",
+                             "--Voila.ip=127.0.0.1"], stdout=out, stderr=subprocess.STDOUT, cwd=str(ROOT),
+                            env=dict(os.environ, **(env or {})))
     try:
         _wait_port(port, proc)
         yield f"http://127.0.0.1:{port}/"
@@ -73,6 +72,8 @@ def served_app(notebook=NOTEBOOK):
             proc.wait(timeout=15)
         except subprocess.TimeoutExpired:
             proc.kill()
+        if log is not None:
+            out.close()
 
 
 @contextlib.contextmanager

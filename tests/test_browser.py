@@ -1,20 +1,12 @@
 """One real-browser test: the explorer served by voila, driven in headless Chromium."""
-import os
-import shutil
-import socket
-import subprocess
-import sys
 import time
-from pathlib import Path
 
 import pytest
 
+from _browser import ARGS, CHROMIUM, OUT, require_browser, served_app
+
 pytestmark = pytest.mark.browser
 
-CHROMIUM = "/usr/bin/chromium"
-ROOT = Path(__file__).resolve().parents[1]
-NOTEBOOK = ROOT / "diskexplorer" / "app" / "explorer.ipynb"
-OUT = ROOT / "test-output"
 # Figures (by CSS class) on each page of the figure tabs; each must draw at least one SVG path.
 PAGES = {
     "interferometry": ("dx-fig-vis2", "dx-fig-vis2-residuals", "dx-fig-t3", "dx-fig-t3-residuals", "dx-fig-corrflux"),
@@ -22,46 +14,13 @@ PAGES = {
     "disk structure": ("dx-fig-image", "dx-fig-profile-temperature", "dx-fig-profile-tau",
                        "dx-fig-profile-intensity"),
 }
-ARGS = ["--headless", "--no-sandbox", "--disable-gpu", "--disable-quic", "--no-first-run",
-        "--disable-background-networking", "--disable-component-update", "--disable-sync"]
-
-
-def _free_port():
-    with socket.socket() as s:
-        s.bind(("127.0.0.1", 0))
-        return s.getsockname()[1]
-
-
-def _wait_port(port, timeout=60.0):
-    end = time.time() + timeout
-    while time.time() < end:
-        with socket.socket() as s:
-            if s.connect_ex(("127.0.0.1", port)) == 0:
-                return
-        time.sleep(0.2)
-    raise TimeoutError(f"voila did not listen on port {port}")
 
 
 @pytest.fixture(scope="module")
 def voila_url():
-    if not os.path.exists(CHROMIUM):
-        if os.environ.get("DISKEXPLORER_REQUIRE_BROWSER") == "1":
-            pytest.fail(f"{CHROMIUM} is missing and DISKEXPLORER_REQUIRE_BROWSER=1")
-        pytest.skip(f"{CHROMIUM} is missing")
-    pytest.importorskip("playwright")
-    voila = shutil.which("voila", path=str(Path(sys.executable).parent)) or "voila"
-    port = _free_port()
-    proc = subprocess.Popen([voila, str(NOTEBOOK), "--no-browser", f"--port={port}", "--Voila.ip=127.0.0.1"],
-                            stdout=subprocess.PIPE, stderr=subprocess.STDOUT, cwd=str(ROOT))
-    try:
-        _wait_port(port)
-        yield f"http://127.0.0.1:{port}/"
-    finally:
-        proc.terminate()
-        try:
-            proc.wait(timeout=15)
-        except subprocess.TimeoutExpired:
-            proc.kill()
+    require_browser()
+    with served_app() as url:
+        yield url
 
 
 def _curve_paths(page):

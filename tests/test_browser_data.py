@@ -7,16 +7,13 @@ written by the project's OIFITS writer for invented arrays and instruments: a fi
 in the N band, and a second one with 8 channels at 2.0–2.35 µm and 6 in the L band.
 The colours drawn in the SVG are compared point by point with the wavelength colour key.
 """
-import os
 import re
-import subprocess
-import sys
 from pathlib import Path
 
 import numpy as np
 import pytest
 
-from test_browser import ARGS, CHROMIUM, NOTEBOOK, OUT, ROOT, _free_port, _wait_port
+from _browser import ARGS, CHROMIUM, OUT, require_browser, served_app
 
 pytestmark = pytest.mark.browser
 
@@ -48,31 +45,11 @@ def files(tmp_path_factory):
 
 @pytest.fixture(scope="module")
 def served(files):
-    if not os.path.exists(CHROMIUM):
-        if os.environ.get("DISKEXPLORER_REQUIRE_BROWSER") == "1":
-            pytest.fail(f"{CHROMIUM} is missing and DISKEXPLORER_REQUIRE_BROWSER=1")
-        pytest.skip(f"{CHROMIUM} is missing")
-    if os.environ.get("DISKEXPLORER_REQUIRE_BROWSER") == "1":
-        import playwright  # noqa: F401 - an ImportError fails the test instead of skipping it
-    else:
-        pytest.importorskip("playwright")
+    require_browser()
     folder, first, _ = files
-    port = _free_port()
-    env = dict(os.environ, DISKEXPLORER_DATA=str(first), DISKEXPLORER_WORKDIR=str(folder),
-               OPENBLAS_NUM_THREADS="1")
-    log = open(folder / "voila.log", "wb")
-    proc = subprocess.Popen([sys.executable, "-m", "voila", str(NOTEBOOK), "--no-browser", f"--port={port}",
-                             "--Voila.ip=127.0.0.1"], stdout=log, stderr=subprocess.STDOUT, cwd=str(ROOT), env=env)
-    try:
-        _wait_port(port)
-        yield f"http://127.0.0.1:{port}/"
-    finally:
-        proc.terminate()
-        try:
-            proc.wait(timeout=15)
-        except subprocess.TimeoutExpired:
-            proc.kill()
-        log.close()
+    env = {"DISKEXPLORER_DATA": str(first), "DISKEXPLORER_WORKDIR": str(folder), "OPENBLAS_NUM_THREADS": "1"}
+    with served_app(env=env, log=folder / "voila.log") as url:
+        yield url
 
 
 def _expected(paths):

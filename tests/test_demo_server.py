@@ -4,7 +4,6 @@ These start the real command in a subprocess (voila and its kernels are real pro
 so they take a while; they check processes and sockets, never durations against a goal
 beyond the generous limits a user would notice (a stop within 10 s, a cull within a minute).
 """
-import os
 import signal
 import socket
 import subprocess

@@ -17,14 +17,12 @@ from pathlib import Path
 
 import psutil
 import pytest
+from _browser import ARGS, CHROMIUM, require_browser
 from _processes import alive, free_port, port_open, stop_tree
 
 pytestmark = [pytest.mark.slow]
 
 ROOT = Path(__file__).resolve().parents[1]
-CHROMIUM = "/usr/bin/chromium"
-ARGS = ["--headless", "--no-sandbox", "--disable-gpu", "--disable-quic", "--no-first-run",
-        "--disable-background-networking", "--disable-component-update", "--disable-sync"]
 
 
 def _run(cmd, cwd, timeout=600, env=None):
@@ -87,10 +85,7 @@ def test_sample_and_evaluate_from_an_empty_folder(installed):
 
 @pytest.mark.browser
 def test_served_demo_saves_into_the_folder_and_stops_on_sigterm(installed):
-    if not os.path.exists(CHROMIUM):
-        if os.environ.get("DISKEXPLORER_REQUIRE_BROWSER") == "1":
-            pytest.fail(f"{CHROMIUM} is missing and DISKEXPLORER_REQUIRE_BROWSER=1")
-        pytest.skip(f"{CHROMIUM} is missing")
+    require_browser()
     from playwright.sync_api import sync_playwright
 
     bin_dir, empty, _ = installed
