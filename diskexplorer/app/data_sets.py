@@ -15,6 +15,7 @@ from pathlib import Path
 import numpy as np
 
 from ..errors import DataError, DiskExplorerError
+from .workdir import resolve_user_path
 
 __all__ = ["DataSet", "read_data_set", "read_data_sets", "data_sets_from", "combine_data_sets",
            "DATA_SET_KINDS", "SINGLE_KINDS"]
@@ -285,10 +286,8 @@ def data_sets_from(data, workdir=None):
     if not all(isinstance(x, (str, os.PathLike)) for x in items):
         kinds = sorted({type(x).__name__ for x in items})
         raise DataError(f"data: a list must hold paths (str or os.PathLike) or DataSets, got {', '.join(kinds)}")
-    base = Path(workdir) if workdir is not None else Path.cwd()
-    paths = [p if os.path.isabs(os.path.expanduser(os.fspath(p))) else base / os.fspath(p) for p in
-             (os.path.expanduser(os.fspath(x)) for x in items)]
-    return read_data_sets(paths)
+    base = workdir if workdir is not None else Path.cwd()
+    return read_data_sets([resolve_user_path(x, base) for x in items])
 
 
 def _sets_from_dict(data):

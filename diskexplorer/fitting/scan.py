@@ -459,7 +459,7 @@ def _store(chi2, refined, start, result):
 
 def _run_serial(comparison, token, scene, points, starts, chunk_size, args, chi2, refined, report, cancel):
     paths, kinds, refine_free, nfev = args
-    total, done = len(points), 0
+    done = 0
     for start in starts:
         if cancel is not None and cancel():
             return "cancelled", done
@@ -513,7 +513,7 @@ def _run_dask(client, payload, token, scene, points, starts, chunk_size, args, c
     from distributed import wait
 
     paths, kinds, refine_free, nfev = args
-    total, done = len(points), 0
+    done = 0
     data_f, species_f = _shipped(client, payload, token)
     run = uuid.uuid4().hex[:8]
     pending = {}
