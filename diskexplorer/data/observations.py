@@ -18,7 +18,10 @@ data variables:
 per kind:
     ``vis2``  coords ``u``, ``v`` (m); variables ``vis2``, ``vis2_err``
     ``vis``   coords ``u``, ``v`` (m), ``amptyp``, ``phityp``; variables ``visamp``,
-              ``visamp_err``, ``visphi``, ``visphi_err`` (phases in degrees)
+              ``visamp_err``, ``visphi``, ``visphi_err`` (phases in degrees); for
+              differential data also ``ref_wavelength`` and ``ref_bandwidth`` (µm) along
+              (``point``, ``ref``): the channels VISREFMAP names as the point's reference,
+              NaN-padded (see :data:`REFERENCE_VARIABLES`)
     ``t3``    coords ``u1``, ``v1`` (baseline AB), ``u2``, ``v2`` (baseline BC) (m);
               variables ``t3amp``, ``t3amp_err``, ``t3phi``, ``t3phi_err`` (degrees)
     ``flux``  coords ``calstat``, ``flux_unit``; variables ``flux``, ``flux_err``
@@ -39,7 +42,8 @@ import xarray as xr
 from ..errors import DataError
 from .bands import band_range
 
-__all__ = ["ObservationSet", "KINDS", "KIND_SPEC", "make_point_dataset", "baseline_lengths"]
+__all__ = ["ObservationSet", "KINDS", "KIND_SPEC", "REFERENCE_VARIABLES", "make_point_dataset",
+           "baseline_lengths", "reference_from_map"]
 
 #: Observable kinds in a fixed order.
 KINDS = ("vis2", "vis", "t3", "flux")
@@ -62,7 +66,15 @@ _UNITS = {
     "wavelength": "um", "bandwidth": "um", "mjd": "d", "int_time": "s",
     "u": "m", "v": "m", "u1": "m", "v1": "m", "u2": "m", "v2": "m",
     "visphi": "deg", "visphi_err": "deg", "t3phi": "deg", "t3phi_err": "deg",
+    "ref_wavelength": "um", "ref_bandwidth": "um",
 }
+#: Variables of ``vis`` points along (``point``, ``ref``): the EFF_WAVE and EFF_BAND (µm)
+#: of the channels of the same OIFITS row that VISREFMAP names as the point's reference
+#: for a differential amplitude or phase, NaN-padded to the longest reference of the set.
+#: Channels rather than indices, so the reference survives selections, flags and
+#: concatenation of files with other wavelength tables.
+REFERENCE_VARIABLES = ("ref_wavelength", "ref_bandwidth")
+
 _DEFAULT_EXTRA = {"amptyp": "absolute", "phityp": "absolute", "calstat": "C", "flux_unit": "Jy"}
 
 
@@ -108,6 +120,15 @@ def make_point_dataset(kind: str, columns: Mapping[str, np.ndarray]) -> xr.Datas
         coords[name] = ("point", get(name, -1).astype(np.int32))
     data = {name: ("point", get(name, np.nan).astype(float)) for name in spec["data"]}
     data["flag"] = ("point", get("flag", False).astype(bool))
+    if kind == "vis" and any(name in columns for name in REFERENCE_VARIABLES):
+        ref = np.atleast_2d(np.asarray(columns.get("ref_wavelength"), float))
+        if ref.shape[0] != n or ref.ndim != 2:
+            raise DataError(f"vis: column 'ref_wavelength' has shape {ref.shape}, expected ({n}, m)")
+        band = np.asarray(columns.get("ref_bandwidth", np.zeros(ref.shape)), float)
+        if band.shape != ref.shape:
+            raise DataError(f"vis: column 'ref_bandwidth' has shape {band.shape}, expected {ref.shape}")
+        data["ref_wavelength"] = (("point", "ref"), ref)
+        data["ref_bandwidth"] = (("point", "ref"), np.where(np.isfinite(ref), band, np.nan))
     ds = xr.Dataset(data, coords=coords, attrs={"kind": kind, "oifits_table": spec["table"]})
     for name, unit in _UNITS.items():
         if name in ds.variables:
@@ -331,6 +352,8 @@ class ObservationSet:
         for k in KINDS:
             parts = [getattr(s, k) for s in sets if getattr(s, k) is not None]
             parts = [p for p in parts if p.sizes["point"]]
+            if k == "vis":
+                parts = _common_reference(parts)
             out[k] = (xr.concat(parts, dim="point", data_vars="all", coords="all", compat="equals",
                                 join="outer", combine_attrs="override") if len(parts) > 1
                       else (parts[0] if parts else None))
@@ -400,7 +423,11 @@ class ObservationSet:
             every other column of shape (nrow,) or a scalar — it is broadcast to points.
             Units: wavelength and bandwidth µm, u/v m, mjd day, int_time s, phases degrees,
             flux Jy. ``bandwidth`` defaults to the channel spacing, ``mjd`` to 51544.5,
-            station indices to (1, 2) / (1, 2, 3).
+            station indices to (1, 2) / (1, 2, 3). Differential ``vis`` (``amptyp`` or
+            ``phityp`` "differential") in row × channel form takes ``visrefmap``, bool of
+            shape (nwave, nwave) or (nrow, nwave, nwave) as in
+            :func:`reference_from_map` (default: every channel of the row); flat points
+            take ``ref_wavelength``/``ref_bandwidth`` of shape (n, m) instead.
         insname, arrname, target : str
             Defaults for points that do not give their own.
         stations : mapping of str to (x, y, z), optional
@@ -438,8 +465,13 @@ class ObservationSet:
             missing = [c for c in ("wavelength",) + spec["uv"] + spec["data"] if c not in cols]
             if missing:
                 raise DataError(f"from_arrays: {kind} lacks column(s) {', '.join(missing)}")
+            cols = dict(cols)
+            refmap = cols.pop("visrefmap", None) if kind == "vis" else None
+            ref = {k: cols.pop(k) for k in REFERENCE_VARIABLES if kind == "vis" and k in cols}
             flat = _flatten_columns(kind, cols)
             n = len(flat[spec["data"][0]])
+            if kind == "vis":
+                flat.update(ref or _reference_columns(cols, refmap))
             for name, val in defaults.items():
                 flat.setdefault(name, np.full(n, val, dtype=object if isinstance(val, str) else float))
             if kind != "flux":
@@ -453,6 +485,60 @@ class ObservationSet:
             arrays[arrname] = make_array_table(names, xyz, diameter=diameter, frame=frame)
         targets = {target: dict(target_info or {})}
         return cls(**out, targets=targets, arrays=arrays, files=(file,) if file else ())
+
+
+def reference_from_map(visrefmap, wavelength, bandwidth, rows, channels):
+    """The reference channels of points from an OIFITS VISREFMAP.
+
+    Parameters
+    ----------
+    visrefmap : ndarray of bool, shape (nrow, nwave, nwave)
+        VISREFMAP of one OI_VIS table as numpy reads it: ``visrefmap[r, i, j]`` is True
+        when channel j is part of the reference of channel i in row r (the FITS cell
+        (j + 1, i + 1) of TDIM = (NWAVE, NWAVE)). Maps of the usual kinds (all channels,
+        all others) are symmetric, so the order of the two indices does not matter for them.
+    wavelength, bandwidth : ndarray, shape (nwave,)
+        EFF_WAVE and EFF_BAND of the table's channels, µm.
+    rows, channels : ndarray of int, shape (n,)
+        Row and channel of each point.
+
+    Returns
+    -------
+    ref_wavelength, ref_bandwidth : ndarray, shape (n, m)
+        The reference channels of each point, NaN-padded; m is the longest reference.
+    """
+    refmap = np.asarray(visrefmap, bool)[np.asarray(rows), np.asarray(channels)]
+    count = refmap.sum(axis=1)
+    m = int(count.max()) if count.size else 0
+    # Stable sort of "not in the reference" puts each point's reference channels first, in order.
+    order = np.argsort(~refmap, axis=1, kind="stable")[:, :m]
+    pad = np.arange(m)[None, :] >= count[:, None]
+    wl = np.where(pad, np.nan, np.asarray(wavelength, float)[order])
+    bw = np.where(pad, np.nan, np.asarray(bandwidth, float)[order])
+    return wl, bw
+
+
+def _common_reference(parts):
+    """Give every vis part the reference variables with one ``ref`` length (NaN-padded)."""
+    if not any("ref_wavelength" in p for p in parts):
+        return parts
+    m = max(p.sizes.get("ref", 0) for p in parts)
+    out = []
+    for p in parts:
+        have = p.sizes.get("ref", 0) if "ref_wavelength" in p else 0
+        if "ref_wavelength" in p and have == m:
+            out.append(p)
+            continue
+        p = p.copy()
+        for name in REFERENCE_VARIABLES:
+            grid = np.full((p.sizes["point"], m), np.nan)
+            if name in p:
+                grid[:, :have] = p[name].values
+                p = p.drop_vars(name)
+            p[name] = (("point", "ref"), grid)
+            p[name].attrs["units"] = "um"
+        out.append(p)
+    return out
 
 
 def make_array_table(sta_names, staxyz, *, tel_names=None, sta_index=None, diameter=1.0,
@@ -504,6 +590,29 @@ def make_array_table(sta_names, staxyz, *, tel_names=None, sta_index=None, diame
 __all__.append("make_array_table")
 
 _CHANNEL_COLUMNS = ("wavelength", "bandwidth")
+
+
+def _reference_columns(cols, refmap):
+    """``ref_*`` columns of row × channel vis input that is differential (else none)."""
+    kinds = {str(np.asarray(cols.get(k, "absolute")).ravel()[0]).lower() for k in ("amptyp", "phityp")}
+    data = np.asarray(cols["visamp"])
+    if "differential" not in kinds and refmap is None:
+        return {}
+    if data.ndim != 2:
+        raise DataError("from_arrays: differential vis needs row × channel columns (or ref_wavelength per point)")
+    nrow, nwave = data.shape
+    wave = np.asarray(cols["wavelength"], float)
+    band = np.asarray(cols["bandwidth"], float) if "bandwidth" in cols else (
+        np.abs(np.gradient(wave)) if wave.size > 1 else np.zeros(nwave))
+    refmap = np.ones((nwave, nwave), bool) if refmap is None else np.asarray(refmap, bool)
+    if refmap.shape == (nwave, nwave):
+        refmap = np.broadcast_to(refmap, (nrow, nwave, nwave))
+    if refmap.shape != (nrow, nwave, nwave):
+        raise DataError(f"from_arrays: vis column 'visrefmap' has shape {refmap.shape}, expected "
+                        f"{(nwave, nwave)} or {(nrow, nwave, nwave)}")
+    rows, chans = np.divmod(np.arange(nrow * nwave), nwave)
+    wl, bw = reference_from_map(refmap, wave, band, rows, chans)
+    return {"ref_wavelength": wl, "ref_bandwidth": bw}
 
 
 def _flatten_columns(kind, cols):

@@ -29,7 +29,8 @@ from astropy.io import fits
 
 from ..errors import DataError
 from .fits_tables import BLOCK, fits_layout, open_simple_fits, read_fits_bytes
-from .observations import KIND_SPEC, ObservationSet, make_array_table, make_point_dataset
+from .observations import (KIND_SPEC, ObservationSet, make_array_table, make_point_dataset,
+                           reference_from_map)
 from .oifits_validate import (ERROR_COLS, OifitsWarning, check_fits_signature, oifits_version,
                               validate_oifits)
 
@@ -160,9 +161,29 @@ def read_oifits(path_or_paths, target=None, strict: bool = True, *, pedantic: bo
         if not cols:
             datasets[kind] = None
             continue
-        merged = {key: np.concatenate([c[key] for c in cols]) for key in cols[0]}
+        merged = {key: np.concatenate([c[key] for c in cols]) for key in cols[0] if key not in _REF}
+        if any("ref_wavelength" in c for c in cols):
+            merged.update(_join_references(cols))
         datasets[kind] = make_point_dataset(kind, merged)
     return ObservationSet(**datasets, targets=targets, arrays=arrays, files=paths, notes=notes)
+
+
+_REF = ("ref_wavelength", "ref_bandwidth")
+
+
+def _join_references(cols):
+    """The reference columns of several OI_VIS tables as one NaN-padded pair (absolute: none)."""
+    m = max(c["ref_wavelength"].shape[1] for c in cols if "ref_wavelength" in c)
+    out = {}
+    for key in _REF:
+        parts = []
+        for c in cols:
+            grid = np.full((len(c["flag"]), m), np.nan)
+            if key in c:
+                grid[:, :c[key].shape[1]] = c[key]
+            parts.append(grid)
+        out[key] = np.concatenate(parts)
+    return out
 
 
 def _open(path, strict=True):
@@ -340,6 +361,22 @@ def _read_table(kind, h, path, waves, tnames, wanted_ids, keep_flagged):
     if kind == "vis":
         out["amptyp"] = np.full(n, _strip(hdr.get("AMPTYP", "absolute")).lower(), dtype=object)
         out["phityp"] = np.full(n, _strip(hdr.get("PHITYP", "absolute")).lower(), dtype=object)
+        unit_str = _strip(h.columns["VISAMP"].unit or "")
+        if out["amptyp"][:1].tolist() == ["correlated flux"] and unit_str:
+            out["visamp"], out["visamp_err"], unit_out = _flux_to_jy(out["visamp"], out["visamp_err"],
+                                                                     unit_str, out["wavelength"])
+            if unit_out != "Jy":
+                warnings.warn(OifitsWarning(f"{os.fspath(path)}: {h.name} (INSNAME {ins!r}): correlated "
+                                            f"fluxes in {unit_str!r}, not a flux density; they are compared "
+                                            "with the model as if in Jy"), stacklevel=2)
+        if "differential" in (out["amptyp"][:1].tolist() + out["phityp"][:1].tolist()):
+            refmap = np.asarray(d["VISREFMAP"]) if "VISREFMAP" in names else None
+            if refmap is None or refmap.size != nrow * nw * nw:
+                # Only lenient reading gets here (the validator reports a missing map, and strict
+                # reading refuses it): every channel of the row is the reference, the usual map.
+                refmap = np.ones((nrow, nw, nw), bool)
+            out["ref_wavelength"], out["ref_bandwidth"] = reference_from_map(
+                refmap.reshape(nrow, nw, nw).astype(bool), wave, band, r, c)
     if kind == "flux":
         out["calstat"] = np.full(n, _strip(hdr.get("CALSTAT", "C")), dtype=object)
         unit_str = _strip(h.columns["FLUXDATA"].unit or "")

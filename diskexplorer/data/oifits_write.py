@@ -89,8 +89,9 @@ def write_oifits(path, observations, *, overwrite: bool = False, origin: str = "
     -----
     Wavelengths are stored as EFF_WAVE in metres in single precision (format E, as the
     standard prescribes); (u, v), data and MJD in double precision. TIME is written as
-    zero (v2). For differential visibilities VISREFMAP is written with every channel as
-    reference, since the point layout does not keep the original map.
+    zero (v2). For differential visibilities VISREFMAP is written from each point's
+    reference channels (``ref_wavelength``); points without one, and cells without a point,
+    get every channel of the row.
     """
     path = Path(path)
     if path.exists() and not overwrite:
@@ -101,7 +102,7 @@ def write_oifits(path, observations, *, overwrite: bool = False, origin: str = "
         raise DataError(f"{path}: nothing to write (no points in any observable)")
 
     # Per-point columns as plain numpy arrays, with table keys resolved.
-    cols = {k: {name: ds[name].values for name in ds.variables if ds[name].dims == ("point",)}
+    cols = {k: {name: ds[name].values for name in ds.variables if ds[name].dims[:1] == ("point",)}
             for k, ds in datasets.items()}
     for k, c in cols.items():
         arr = c["arrname"].astype(object).copy()
@@ -118,6 +119,12 @@ def write_oifits(path, observations, *, overwrite: bool = False, origin: str = "
     for ins in dict.fromkeys(i for c in cols.values() for i in c["insname"]):
         w = np.concatenate([c["wavelength"][c["insname"] == ins] for c in cols.values()])
         b = np.concatenate([c["bandwidth"][c["insname"] == ins] for c in cols.values()])
+        if "ref_wavelength" in cols.get("vis", {}):
+            # Reference channels belong to the table even where all their own points are gone.
+            sel = cols["vis"]["insname"] == ins
+            rw, rb = cols["vis"]["ref_wavelength"][sel].ravel(), cols["vis"]["ref_bandwidth"][sel].ravel()
+            keep = np.isfinite(rw)
+            w, b = np.concatenate([w, rw[keep]]), np.concatenate([b, rb[keep]])
         w32 = (w * 1e-6).astype(np.float32)
         uniq, first = np.unique(w32, return_index=True)
         wave_tables[ins] = (uniq, (b[first] * 1e-6).astype(np.float32))
@@ -280,6 +287,8 @@ def _data_hdus(kind, c, tid, wave_tables, path):
             grid = np.full((nrow, nw), np.nan)
             grid[row_id, chan] = c[our][idx]
             unit = "deg" if oi_name in _PHASE_COLS else (flux_unit if kind == "flux" else None)
+            if kind == "vis" and oi_name in ("VISAMP", "VISAMPERR") and key["amptyp"] == "correlated flux":
+                unit = "Jy"
             columns.append(fits.Column(name=oi_name, format=f"{nw}D", unit=unit, array=grid))
         for oi_name, our in zip(oi_uv, spec["uv"]):
             columns.append(fits.Column(name=oi_name, format="D", unit="m", array=c[our][rows]))
@@ -292,7 +301,7 @@ def _data_hdus(kind, c, tid, wave_tables, path):
         columns.append(fits.Column(name="FLAG", format=f"{nw}L", array=flag))
         if kind == "vis" and "differential" in (key["amptyp"], key["phityp"]):
             columns.append(fits.Column(name="VISREFMAP", format=f"{nw * nw}L", dim=f"({nw},{nw})",
-                                       array=np.ones((nrow, nw, nw), bool)))
+                                       array=_visrefmap(c, idx, row_id, chan, nrow, w32)))
         hdu = fits.BinTableHDU.from_columns(columns, name=spec["table"])
         h = hdu.header
         h["OI_REVN"] = 1 if kind == "flux" else 2
@@ -307,3 +316,18 @@ def _data_hdus(kind, c, tid, wave_tables, path):
             h["CALSTAT"] = key["calstat"]
         hdus.append(hdu)
     return hdus
+
+
+def _visrefmap(c, idx, row_id, chan, nrow, w32):
+    """VISREFMAP (nrow, nwave, nwave) of one table from the points' reference channels."""
+    nw = w32.size
+    refmap = np.ones((nrow, nw, nw), bool)
+    if "ref_wavelength" not in c:
+        return refmap
+    ref = c["ref_wavelength"][idx]
+    named = np.isfinite(ref).any(axis=1)
+    refmap[row_id[named], chan[named]] = False
+    p, j = np.nonzero(np.isfinite(ref))
+    ref_chan = np.searchsorted(w32, (ref[p, j] * 1e-6).astype(np.float32))
+    refmap[row_id[p], chan[p], ref_chan] = True
+    return refmap

@@ -8,10 +8,24 @@ import numpy as np
 from ..errors import DataError
 from ..observables.observer import Observer
 
-__all__ = ["Comparison", "ComparisonResult", "DATA_KINDS", "phase_residual", "channel_widths"]
+__all__ = ["Comparison", "ComparisonResult", "DATA_KINDS", "KIND_LABELS", "phase_residual",
+           "channel_widths", "differential_phase"]
 
 #: Data kinds a comparison can judge, in display order.
-DATA_KINDS = ("vis2", "t3phi", "t3amp", "visamp", "photometry", "spectrum", "flux")
+#: ``visamp``: OI_VIS amplitudes with AMPTYP "absolute" (normalised |V|);
+#: ``corrflux``: AMPTYP "correlated flux" (|V| F_ν, Jy); ``diffphi``: VISPHI with PHITYP
+#: "differential" (degrees, see :func:`differential_phase`). Differential amplitudes and
+#: absolute VISPHI are drawn but not judged (a pipeline's normalisation of the former is not
+#: recorded in the file, and the latter carries the atmosphere's phase).
+DATA_KINDS = ("vis2", "t3phi", "t3amp", "visamp", "corrflux", "diffphi", "photometry", "spectrum", "flux")
+
+#: Short descriptions of the kinds, with units, for tables.
+KIND_LABELS = {
+    "vis2": "squared visibility", "t3phi": "closure phase (deg)", "t3amp": "triple amplitude",
+    "visamp": "visibility amplitude", "corrflux": "correlated flux (Jy)",
+    "diffphi": "differential phase (deg)", "photometry": "photometry (Jy)",
+    "spectrum": "spectrum (Jy)", "flux": "OI_FLUX (Jy)",
+}
 
 
 def phase_residual(data_deg, model_deg, error_deg):
@@ -24,6 +38,42 @@ def phase_residual(data_deg, model_deg, error_deg):
     """
     delta = np.radians(np.asarray(data_deg, float) - np.asarray(model_deg, float))
     return np.degrees(2.0 * np.sin(0.5 * delta)) / np.asarray(error_deg, float)
+
+
+def differential_phase(vis, vis_ref, flux_ref, ref_index):
+    """Model differential phase: each channel's phase relative to its reference channels, degrees.
+
+    OIFITS v2 (Duvert, Young & Hummel 2017, A&A 597, A8, the OI_VIS table) defines a
+    differential VISPHI as the phase relative to a reference built from the channels that
+    VISREFMAP names; the standard does not prescribe how the reference is formed. Here it
+    is the phase of the summed coherent fluxes F_ν V of the reference channels (what an
+    instrument measures when it adds those channels up), so
+
+        φ_diff = arg( V · conj( Σ_j F_j V_j ) ).
+
+    Pipelines often also remove a phase slope in 1/λ (the residual atmospheric piston),
+    which removes any part of the object's phase that is linear in wavenumber; this
+    definition keeps it.
+
+    Parameters
+    ----------
+    vis : ndarray of complex, shape (n,)
+        Model visibility of each point.
+    vis_ref, flux_ref : ndarray, shape (s,)
+        Model visibility and total flux (Jy) of the samples the references are made of.
+    ref_index : ndarray of int, shape (n, m)
+        For each point its reference samples (indices into ``vis_ref``), −1 as padding.
+
+    Returns
+    -------
+    ndarray, shape (n,)
+        Degrees in (−180, 180]; NaN where a point has no reference.
+    """
+    ref_index = np.asarray(ref_index)
+    coherent = np.append(np.asarray(flux_ref) * np.asarray(vis_ref), 0.0)   # index −1 → 0
+    ref = coherent[ref_index].sum(axis=1) if ref_index.size else np.zeros(len(vis), complex)
+    phase = np.degrees(np.angle(np.asarray(vis) * np.conj(ref)))
+    return np.where((ref_index >= 0).any(axis=1), phase, np.nan)
 
 
 @dataclass
@@ -74,13 +124,25 @@ class ComparisonResult:
         return {k: (self.chi2[k] / n if n else float("nan")) for k, n in self.npoints.items()}
 
     def summary(self) -> str:
-        lines = [f"{'data':<11}{'N':>8}{'chi2':>14}{'chi2/N':>10}"]
+        """A text table: N, χ², χ²/N and weight per kind, then the weighted total.
+
+        A kind with weight 0 is marked and left out of the total; a note below the table
+        says so.
+        """
+        lines = [f"{'data':<11}{'N':>8}{'chi2':>14}{'chi2/N':>10}{'weight':>8}"]
+        left_out = []
         for k in self.chi2:
             n = self.npoints[k]
             red = self.chi2[k] / n if n else float("nan")
-            lines.append(f"{k:<11}{n:>8d}{self.chi2[k]:>14.2f}{red:>10.3f}")
+            w = self.weights.get(k, 1.0)
+            mark = "" if w > 0 else " *"
+            if w <= 0:
+                left_out.append(k)
+            lines.append(f"{k:<11}{n:>8d}{self.chi2[k]:>14.2f}{red:>10.3f}{w:>8.3g}{mark}")
         n = self.n_total
         lines.append(f"{'total':<11}{n:>8d}{self.total:>14.2f}{(self.total / n if n else float('nan')):>10.3f}")
+        if left_out:
+            lines.append(f"* weight 0: {', '.join(left_out)} left out of the total")
         return "\n".join(lines)
 
 
@@ -115,11 +177,7 @@ def channel_widths(ds, bandpass=True, kind="data"):
     bw = np.asarray(ds["bandwidth"].values, float).copy()
     lam = np.asarray(ds["wavelength"].values, float)
     files = np.asarray(ds["file"].values).astype(str) if "file" in ds.coords else np.full(bw.shape, "")
-    use = np.isfinite(bw) & (bw > 0)
-    if isinstance(bandpass, dict):
-        for name, on in bandpass.items():
-            if not on:
-                use &= files != str(name)
+    use = np.isfinite(bw) & (bw > 0) & _bandpass_on(ds, bandpass)
     bw = np.where(use, bw, 0.0)
     bad = bw >= 2.0 * lam
     if np.any(bad):
@@ -127,6 +185,20 @@ def channel_widths(ds, bandpass=True, kind="data"):
         raise DataError(f"{files[k] or kind}: OI_WAVELENGTH EFF_BAND = {bw[k]:.6g} µm at EFF_WAVE = "
                         f"{lam[k]:.6g} µm ({kind}): a channel must be narrower than twice its wavelength")
     return bw if np.any(bw > 0) else None
+
+
+def _bandpass_on(ds, bandpass):
+    """Per point: whether its file's channels are averaged (bool array over ``point``)."""
+    n = ds.sizes["point"]
+    if bandpass is False:
+        return np.zeros(n, bool)
+    on = np.ones(n, bool)
+    if isinstance(bandpass, dict) and "file" in ds.coords:
+        files = np.asarray(ds["file"].values).astype(str)
+        for name, value in bandpass.items():
+            if not value:
+                on &= files != str(name)
+    return on
 
 
 class Comparison:
@@ -177,6 +249,15 @@ class Comparison:
                 widths.append(channel_widths(ds, self.bandpass, name))
                 self._slices[name] = slice(start, start + n)
                 start += n
+        self._ref_index = None
+        if "vis" in self._slices:
+            ref = _reference_samples(vis, self.bandpass, widths[-1])
+            if ref is not None:
+                (ru, rv, rwl, rbw), self._ref_index = ref
+                uv.append((ru, rv, rwl))
+                widths.append(rbw if np.any(rbw > 0) else None)
+                self._slices["visref"] = slice(start, start + ru.size)
+                start += ru.size
         u = np.concatenate([a[0] for a in uv]) if uv else np.zeros(0)
         v = np.concatenate([a[1] for a in uv]) if uv else np.zeros(0)
         wl = np.concatenate([a[2] for a in uv]) if uv else np.zeros(0)
@@ -220,7 +301,13 @@ class Comparison:
         if obs is not None and obs.t3 is not None and obs.t3.sizes.get("point", 0):
             out += ["t3phi", "t3amp"]
         if "vis" in self._slices:
-            out.append("visamp")
+            amptyp = set(np.unique(obs.vis["amptyp"].values.astype(str)))
+            if "absolute" in amptyp:
+                out.append("visamp")
+            if "correlated flux" in amptyp:
+                out.append("corrflux")
+            if self._ref_index is not None:
+                out.append("diffphi")
         out += [k for k in ("photometry", "spectrum", "flux") if k in self._sed_slices]
         return out
 
@@ -229,12 +316,13 @@ class Comparison:
         pred = self.observer.observe(scene)
         model, resid = {}, {}
         obs = self.observations
+        kinds = self.kinds
         if "vis2" in self._slices:
             ds = obs.vis2
             m = pred.vis2[self._slices["vis2"]]
             model["vis2"] = m
             resid["vis2"] = (ds["vis2"].values - m) / ds["vis2_err"].values
-        if "t3phi" in self.kinds:
+        if "t3phi" in kinds:
             ds = obs.t3
             model["t3phi"] = pred.t3phi
             resid["t3phi"] = phase_residual(ds["t3phi"].values, pred.t3phi, ds["t3phi_err"].values)
@@ -248,12 +336,25 @@ class Comparison:
             sl = self._slices["vis"]
             amptyp = np.asarray(ds["amptyp"].values).astype(str)
             absolute = np.abs(pred.vis[sl])
-            corr = absolute * pred.flux_at_vis[sl]
-            m = np.where(amptyp == "correlated flux", corr, absolute)
-            model["visamp"] = m
-            with np.errstate(invalid="ignore", divide="ignore"):
-                r = (ds["visamp"].values - m) / ds["visamp_err"].values
-            resid["visamp"] = np.where(amptyp == "differential", np.nan, r)
+            # Every kind is aligned with all vis points; points of other types are NaN
+            # (no residual), so figures and tables can index one array per kind.
+            for kind, amp, m in (("visamp", "absolute", absolute),
+                                 ("corrflux", "correlated flux", absolute * pred.flux_at_vis[sl])):
+                if kind in kinds:
+                    with np.errstate(invalid="ignore", divide="ignore"):
+                        r = (ds["visamp"].values - m) / ds["visamp_err"].values
+                    model[kind] = np.where(amptyp == amp, m, np.nan)
+                    resid[kind] = np.where(amptyp == amp, r, np.nan)
+            if self._ref_index is not None:
+                rs = self._slices["visref"]
+                samples = np.concatenate([pred.vis[sl], pred.vis[rs]])
+                sample_flux = np.concatenate([pred.flux_at_vis[sl], pred.flux_at_vis[rs]])
+                m = differential_phase(pred.vis[sl], samples, sample_flux, self._ref_index)
+                differential = np.asarray(ds["phityp"].values).astype(str) == "differential"
+                m = np.where(differential, m, np.nan)
+                model["diffphi"] = m
+                with np.errstate(invalid="ignore"):
+                    resid["diffphi"] = phase_residual(ds["visphi"].values, m, ds["visphi_err"].values)
         sed, spec = {}, {}
         for name, sl in self._sed_slices.items():
             comps = {k: v[sl] for k, v in pred.sed.items()}
@@ -287,3 +388,47 @@ def _join_widths(widths, wavelengths):
     if all(w is None for w in widths):
         return None
     return np.concatenate([np.zeros(np.size(lam)) if w is None else w for w, lam in zip(widths, wavelengths)])
+
+
+def _reference_samples(vis, bandpass, point_widths):
+    """The samples the differential phases refer to, or None.
+
+    Reference channels are mostly vis points themselves (a map of "every channel of the
+    row"), so a reference sample that equals a point's (u, v, λ, Δλ) reuses that point's
+    model value; only the others become extra samples.
+
+    Returns
+    -------
+    None or ((u, v, wavelength, bandwidth), index)
+        The extra samples (arrays of equal length, possibly empty) and ``index`` (n, m):
+        each vis point's reference samples as indices into the vis points followed by the
+        extra samples, −1 where none. None when no point has a differential phase with a
+        reference.
+    """
+    if "ref_wavelength" not in vis:
+        return None
+    n = vis.sizes["point"]
+    differential = np.asarray(vis["phityp"].values).astype(str) == "differential"
+    ref_wl = np.where(differential[:, None], vis["ref_wavelength"].values, np.nan)
+    have = np.isfinite(ref_wl)
+    if not have.any():
+        return None
+    ref_bw = np.nan_to_num(vis["ref_bandwidth"].values, nan=0.0)
+    # The file's bandpass choice holds for its reference channels too.
+    ref_bw = np.where(_bandpass_on(vis, bandpass)[:, None] & (ref_bw > 0), ref_bw, 0.0)
+    u, v = vis["u"].values, vis["v"].values
+    own_bw = np.zeros(n) if point_widths is None else np.asarray(point_widths, float)
+    points = np.stack([u, v, vis["wavelength"].values, own_bw], axis=1)
+    p, j = np.nonzero(have)
+    wanted = np.stack([u[p], v[p], ref_wl[p, j], ref_bw[p, j]], axis=1)
+    rows, inverse = np.unique(np.concatenate([points, wanted]), axis=0, return_inverse=True)
+    inverse = inverse.ravel()
+    # Where each distinct sample is found: the first vis point equal to it, else a new sample.
+    where = np.full(rows.shape[0], -1, dtype=np.int64)
+    where[inverse[:n][::-1]] = np.arange(n)[::-1]
+    new = np.unique(inverse[n:][where[inverse[n:]] < 0])
+    where[new] = n + np.arange(new.size)
+    index = np.full(ref_wl.shape, -1, dtype=np.int64)
+    index[p, j] = where[inverse[n:]]
+    extra = rows[new]
+    return (extra[:, 0], extra[:, 1], extra[:, 2], extra[:, 3]), index
