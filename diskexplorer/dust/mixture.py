@@ -25,6 +25,7 @@ through :meth:`DustMix.from_weights`, which normalises them on purpose.
 """
 from __future__ import annotations
 
+import functools
 import math
 import os
 from collections import OrderedDict
@@ -34,13 +35,15 @@ from dataclasses import dataclass
 import numpy as np
 
 from ..errors import DustError
+from ..physics.opacity import DEFAULT_SUBLIMATION_TEMPERATURE, OpacityPart
+from .catalogue import CATALOGUE
 from .library import get_library
 from .optics import METHODS
 from .row_interpolation import end_slopes, interpolate_row
 from .species import check_component, known_species, species_row
 
 __all__ = ["DustMix", "DEFAULT_GRAIN_SIZE", "DEFAULT_SHAPE", "FRACTION_SUM_TOLERANCE", "resolve_dust",
-           "mixture_kappa"]
+           "mixture_kappa", "species_sublimation_temperature"]
 
 #: Defaults used when a mixture or a bare species name gives no size or shape.
 DEFAULT_GRAIN_SIZE = 0.1
@@ -240,6 +243,28 @@ class DustMix:
                 pass
         return hit
 
+    @property
+    def wavelength_nodes(self):
+        """The library's wavelengths (µm), where κ is tabulated: quadratures over λ use them."""
+        return get_library().wavelength
+
+    @property
+    def sublimation_temperature(self):
+        """Default sublimation temperature (K) of a one-species mixture; ``None`` for several."""
+        comps = self.components
+        if len(comps) != 1:
+            return None
+        return species_sublimation_temperature(comps[0][0][0])
+
+    def species_parts(self):
+        """The species as :class:`~diskexplorer.physics.opacity.OpacityPart` (name, fraction, κ).
+
+        Each part's opacity is a one-species :class:`DustMix` of that component's size
+        and shape; its name is the species name, with size and shape added where the
+        mixture holds the species twice.
+        """
+        return _species_parts(self)
+
     def kappa(self, wavelength):
         """Mass absorption coefficient κ_abs in cm² g⁻¹ at ``wavelength`` (µm).
 
@@ -250,6 +275,31 @@ class DustMix:
         """
         row, loglam, slopes = self._grid_row()
         return interpolate_row(row, loglam, slopes, wavelength, self.label)
+
+
+@functools.lru_cache(maxsize=512)
+def _species_parts(mix):
+    comps = mix.components
+    if len(comps) == 1:
+        (name, _, _), f = comps[0]
+        return (OpacityPart(name, 1.0, mix, species_sublimation_temperature(name)),)
+    counts = {}
+    for (name, _, _), _ in comps:
+        counts[name] = counts.get(name, 0) + 1
+    parts = []
+    for (name, size, shape), f in comps:
+        label = name if counts[name] == 1 else (
+            f"{name} (CDE)" if shape == "cde" else f"{name} ({shape.upper()} {size:g} µm)")
+        parts.append(OpacityPart(label, f, DustMix({(name, size, shape): 1.0}, grain_size=mix.grain_size,
+                                                   shape=mix.shape),
+                                 species_sublimation_temperature(name)))
+    return tuple(parts)
+
+
+def species_sublimation_temperature(name):
+    """Default sublimation temperature in K of species ``name`` (the catalogue's, else 1500 K)."""
+    recipe = CATALOGUE.get(name)
+    return DEFAULT_SUBLIMATION_TEMPERATURE if recipe is None else float(recipe.sublimation_temperature)
 
 
 def _merge_fractions(raw, what):

@@ -17,7 +17,9 @@ from dataclasses import dataclass
 import numpy as np
 from scipy import sparse, special
 
+from ..errors import ParameterError
 from ..physics.constants import ARCSEC_RAD, RAD_PER_MAS
+from ..physics.equilibrium import equilibrium_temperature
 from ..physics.planck import planck_nu
 from .quadrature import cubic_weights, frequency_grid, radial_nodes
 
@@ -184,6 +186,8 @@ class Evaluator:
         self._stars = _Cache(4)
         self._sums = _Cache(8)
         self._fluxes = _Cache(16)
+        self._species = _Cache(32)
+        self._fronts = _Cache(16)
 
     # ------------------------------------------------------------------ tiers
     def _grid(self, scene):
@@ -191,16 +195,23 @@ class Evaluator:
         theta_max = max((r.r_out for r in scene.rings if r.enabled), default=1.0) * rad_per_au
         return frequency_grid(theta_max, self.sampling.rho_max, self.accuracy)
 
-    def _ring_nodes(self, ring, distance):
-        key = (ring.r_in, ring.r_out, distance)
-        return self._nodes.get(key, lambda: radial_nodes(
-            ring.r_in, ring.r_out, ARCSEC_RAD / distance, self.sampling.rho_max, self.accuracy))
+    def _breaks(self, ring, star):
+        """Sublimation fronts inside an equilibrium ring (au), where panels of nodes end."""
+        if not ring.is_equilibrium:
+            return ()
+        return self._fronts.get(("breaks", ring, star), lambda: ring.sublimation_breaks(star))
 
-    def _kernel(self, ring, distance, grid, order):
-        key = (ring.r_in, ring.r_out, distance, grid, order)
+    def _ring_nodes(self, ring, distance, star=None):
+        breaks = self._breaks(ring, star)
+        key = (ring.r_in, ring.r_out, breaks, distance)
+        return self._nodes.get(key, lambda: radial_nodes(
+            ring.r_in, ring.r_out, ARCSEC_RAD / distance, self.sampling.rho_max, self.accuracy, breaks))
+
+    def _kernel(self, ring, distance, grid, order, star=None):
+        key = (ring.r_in, ring.r_out, self._breaks(ring, star), distance, grid, order)
 
         def make():
-            _, theta, area = self._ring_nodes(ring, distance)
+            _, theta, area = self._ring_nodes(ring, distance, star)
             step, n = grid
             rho = (np.arange(n) - 1) * step
             arg = 2.0 * math.pi * theta[:, None] * rho[None, :]
@@ -211,6 +222,48 @@ class Evaluator:
 
     def _kappa_at(self, dust):
         return self._kappa.get(dust, lambda: np.asarray(dust.kappa(self.sampling.wavelengths), float))
+
+    def _species_planck(self, ring, part, distance, star):
+        """T (K) of one species on the ring's nodes in ``star``'s light, and its Planck table."""
+        key = (ring.r_in, ring.r_out, self._breaks(ring, star), distance, part.opacity, star)
+
+        def make():
+            r, _, _ = self._ring_nodes(ring, distance, star)
+            t = equilibrium_temperature(part.opacity, star, r)
+            return t, planck_nu(self.sampling.wavelengths[:, None], t[None, :])
+
+        return self._species.get(key, make)
+
+    def _equilibrium_intensity(self, ring, distance, inclination, star):
+        """I_ν of an equilibrium ring on its nodes: each species at its own temperature (Jy sr⁻¹)."""
+        key = (ring.r_in, ring.r_out, distance, ring.sigma_in, ring.p, ring.dust, inclination, star,
+               ring.sublimation)
+
+        def make():
+            if star is None:
+                raise ParameterError(f"Ring {ring.name!r}: equilibrium temperatures need a star, "
+                                     "and the scene has none")
+            r, _, _ = self._ring_nodes(ring, distance, star)
+            parts = ring.species()
+            t_sub = ring.sublimation_temperatures()
+            tables = [self._species_planck(ring, p, distance, star) for p in parts]
+            if ring.dust is None:
+                t, b = tables[0]
+                return b * (t <= t_sub[parts[0].name])[None, :]
+            sigma = ring.surface_density(r)
+            tau = np.zeros((self.sampling.wavelengths.size, r.size))
+            source = np.zeros_like(tau)
+            for p, (t, b) in zip(parts, tables):
+                present = t <= t_sub[p.name]
+                if not np.any(present):
+                    continue
+                tau_s = (p.fraction * self._kappa_at(p.opacity))[:, None] * np.where(present, sigma, 0.0)[None, :]
+                tau += tau_s
+                source += tau_s * b
+            with np.errstate(invalid="ignore", divide="ignore"):
+                return -np.expm1(-tau / math.cos(math.radians(inclination))) * np.where(tau > 0, source / tau, 0.0)
+
+        return self._emissivity.get(key, make)
 
     def _ring_planck(self, ring, distance):
         key = (ring.r_in, ring.r_out, distance, ring.t_in, ring.q)
@@ -233,22 +286,24 @@ class Evaluator:
 
         return self._emissivity.get(key, make)
 
-    def _projected_intensity(self, ring, distance, inclination):
+    def _projected_intensity(self, ring, distance, inclination, star=None):
         """cos i · I_ν on the ring's radial nodes, per distinct wavelength (Jy sr⁻¹)."""
+        if ring.is_equilibrium:
+            return self._equilibrium_intensity(ring, distance, inclination, star) * math.cos(math.radians(inclination))
         intensity = self._ring_planck(ring, distance)
         emiss = self._ring_emissivity(ring, distance, inclination)
         if emiss is not None:
             intensity = intensity * emiss
         return intensity * math.cos(math.radians(inclination))
 
-    def _ring_transform(self, ring, distance, inclination, grid):
+    def _ring_transform(self, ring, distance, inclination, grid, star=None):
         """H_k[w, m] = cos i Σ_nodes area I J_k(2π θ ρ_m): unnormalised transforms in Jy."""
-        key = (ring, distance, inclination, grid)
+        key = (ring, distance, inclination, grid, star)
 
         def make():
-            intensity = self._projected_intensity(ring, distance, inclination)
-            h0 = intensity @ self._kernel(ring, distance, grid, 0)
-            h1 = intensity @ self._kernel(ring, distance, grid, 1) if ring.is_modulated else None
+            intensity = self._projected_intensity(ring, distance, inclination, star)
+            h0 = intensity @ self._kernel(ring, distance, grid, 0, star)
+            h1 = intensity @ self._kernel(ring, distance, grid, 1, star) if ring.is_modulated else None
             return h0, h1
 
         return self._transforms.get(key, make)
@@ -276,10 +331,11 @@ class Evaluator:
         of a modulated ring (``None`` for an axisymmetric one, whose transform is real);
         the ring's flux density per distinct wavelength.
         """
-        key = (ring, scene.distance, scene.inclination, scene.position_angle, grid)
+        star = _heating_star(ring, scene)
+        key = (ring, scene.distance, scene.inclination, scene.position_angle, grid, star)
 
         def make():
-            h0, h1 = self._ring_transform(ring, scene.distance, scene.inclination, grid)
+            h0, h1 = self._ring_transform(ring, scene.distance, scene.inclination, grid, star)
             matrix, cos_psi, sin_psi = self._interpolation(scene.inclination, scene.position_angle, grid)
             even = matrix @ h0.ravel()
             even.flags.writeable = False
@@ -292,12 +348,19 @@ class Evaluator:
 
         return self._points.get(key, make)
 
-    def _ring_flux(self, ring, distance, inclination):
+    def _ring_flux(self, ring, distance, inclination, star=None):
         """Flux density (Jy) of one ring per distinct wavelength: cos i Σ_nodes area I."""
         def make():
-            return self._projected_intensity(ring, distance, inclination) @ self._ring_nodes(ring, distance)[2]
+            return (self._projected_intensity(ring, distance, inclination, star)
+                    @ self._ring_nodes(ring, distance, star)[2])
 
-        return self._fluxes.get((ring, distance, inclination), make)
+        return self._fluxes.get((ring, distance, inclination, star), make)
+
+    def _resolved(self, ring, star):
+        """The ring with its inner edge placed (the sublimation front), or None if empty."""
+        if ring.inner_edge == "fixed":
+            return ring
+        return self._fronts.get((ring, star), lambda: ring.resolved(star))
 
     def _star_points(self, star, distance):
         """The star's flux at the sampling's wavelengths (Jy) and F★ V★ at every point."""
@@ -343,10 +406,13 @@ class Evaluator:
         grid = None if fluxes_only else self._grid(scene)
         even, odd, flux_rings = [], [], []
         for ring in scene.rings:
-            if not ring.enabled:
+            if ring.enabled and ring.inner_edge != "fixed":
+                ring = self._resolved(ring, scene.star)
+            if ring is None or not ring.enabled:
                 flux_rings.append(np.zeros(nwave))
             elif fluxes_only:
-                flux_rings.append(self._ring_flux(ring, scene.distance, scene.inclination))
+                flux_rings.append(self._ring_flux(ring, scene.distance, scene.inclination,
+                                                  _heating_star(ring, scene)))
             else:
                 key, re, im, flux = self._ring_points(ring, scene, grid)
                 even.append((key, re))
@@ -366,6 +432,11 @@ class Evaluator:
         return Evaluation(numerator_real=re, numerator_imag=im, wave_index=s.wave_index, shape=s.shape,
                           wavelengths=s.wavelengths, flux_star=flux_star, flux_rings=flux_rings,
                           flux_extended=flux_ext)
+
+
+def _heating_star(ring, scene):
+    """The star that heats an equilibrium ring (part of its cache keys); None for a power law."""
+    return scene.star if ring.is_equilibrium else None
 
 
 def _frozen_sum(arrays):
@@ -390,10 +461,12 @@ def direct_visibility(scene, u, v, wavelength, accuracy=2):
     numerator = np.zeros(s.size, complex)
     total = np.zeros(s.size)
     for ring in scene.rings:
-        if not ring.enabled:
+        ring = ring.resolved(scene.star) if ring.enabled else None
+        if ring is None:
             continue
-        r, theta, area = radial_nodes(ring.r_in, ring.r_out, rad_per_au, s.rho_max, accuracy)
-        inten = ring.intensity(r, s.wavelengths, scene.inclination)[s.wave_index] * cos_i * area
+        breaks = ring.sublimation_breaks(scene.star) if ring.is_equilibrium else ()
+        r, theta, area = radial_nodes(ring.r_in, ring.r_out, rad_per_au, s.rho_max, accuracy, breaks)
+        inten = ring.intensity(r, s.wavelengths, scene.inclination, scene.star)[s.wave_index] * cos_i * area
         arg = 2 * math.pi * theta[None, :] * rho[:, None]
         numerator += np.sum(inten * special.j0(arg), axis=1)
         if ring.is_modulated:

@@ -52,7 +52,9 @@ def model_image(scene, wavelength, npix=256, pixel_size=None, supersample=4):
     """
     rad_per_au = ARCSEC_RAD / scene.distance
     mas_per_au = rad_per_au / RAD_PER_MAS
-    enabled = [r for r in scene.rings if r.enabled]
+    # Rings whose inner edge follows the sublimation front are drawn from that front.
+    drawn = [(r, r.resolved(scene.star)) for r in scene.rings if r.enabled]
+    enabled = [resolved for _, resolved in drawn if resolved is not None]
     if pixel_size is None:
         r_max = max((r.r_out for r in enabled), default=1.0) * mas_per_au
         pixel_size = 2.0 * r_max / (0.9 * npix)
@@ -71,7 +73,7 @@ def model_image(scene, wavelength, npix=256, pixel_size=None, supersample=4):
         inside = (r_au >= ring.r_in) & (r_au <= ring.r_out)
         if not np.any(inside):
             continue
-        inten = ring.intensity(r_au[inside], lam, scene.inclination)[0]
+        inten = ring.intensity(r_au[inside], lam, scene.inclination, scene.star)[0]
         if ring.is_modulated:
             inten = inten * (1.0 + ring.c1 * np.cos(phi[inside]) + ring.s1 * np.sin(phi[inside]))
         image[inside] += inten * sub_sr
@@ -93,7 +95,8 @@ def model_image(scene, wavelength, npix=256, pixel_size=None, supersample=4):
             "units": "Jy/pixel", "pixel_size_mas": float(pixel_size), "wavelength_um": float(wavelength),
             "x_axis": "mas towards East", "y_axis": "mas towards North",
             "extended_flux_jy": float(compact * f / (1 - f)),
-            "ring_names": [n for n, r in zip(names, scene.rings) if r.enabled],
+            "ring_names": [n for n, r in zip(names, scene.rings)
+                           if r.enabled and (r.inner_edge == "fixed" or r.resolved(scene.star) is not None)],
             "ring_edges_au": [[r.r_in, r.r_out] for r in enabled],
             "ring_edges_mas": [[r.r_in * mas_per_au, r.r_out * mas_per_au] for r in enabled],
         })

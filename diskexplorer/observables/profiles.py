@@ -28,6 +28,9 @@ def radial_profiles(scene, wavelength=10.0, radius=None, tau_wavelength=10.0, np
         Dims ("ring", "radius"): ``temperature`` (K), ``tau`` (vertical optical depth at
         ``tau_wavelength``; inf for optically thick rings), ``intensity`` (Jy sr⁻¹,
         azimuthally averaged, line-of-sight at the scene's inclination); NaN outside a ring.
+        For an equilibrium ring ``temperature`` is the hottest species present at each
+        radius (each species' own profile: :meth:`Scene.dust_temperature`) and ``tau``
+        counts only the species present; a ring following its sublimation front starts there.
     """
     rings = list(scene.rings)
     if radius is None:
@@ -39,6 +42,9 @@ def radial_profiles(scene, wavelength=10.0, radius=None, tau_wavelength=10.0, np
     tau = np.full_like(temp, np.nan)
     inten = np.full_like(temp, np.nan)
     for k, ring in enumerate(rings):
+        if ring.is_equilibrium:
+            _equilibrium_profiles(scene, k, radius, wavelength, tau_wavelength, temp, tau, inten)
+            continue
         inside = (radius >= ring.r_in) & (radius <= ring.r_out)
         r = radius[inside]
         temp[k, inside] = ring.temperature(r)
@@ -49,3 +55,27 @@ def radial_profiles(scene, wavelength=10.0, radius=None, tau_wavelength=10.0, np
          "tau": (("ring", "radius"), tau, {"units": "", "wavelength_um": tau_wavelength}),
          "intensity": (("ring", "radius"), inten, {"units": "Jy/sr", "wavelength_um": wavelength})},
         coords={"ring": ring_labels(rings), "radius": ("radius", radius, {"units": "au"})})
+
+
+def _equilibrium_profiles(scene, k, radius, wavelength, tau_wavelength, temp, tau, inten):
+    """Fill row ``k`` for an equilibrium ring: hottest species present, τ of those present."""
+    ring = scene.rings[k].resolved(scene.star)
+    if ring is None:
+        return
+    inside = (radius >= ring.r_in) & (radius <= ring.r_out)
+    r = radius[inside]
+    species = scene.dust_temperature(k, r)
+    stack = np.array(list(species.values()))
+    with np.errstate(all="ignore"):
+        hottest = np.where(np.all(np.isnan(stack), axis=0), np.nan, np.nanmax(np.nan_to_num(stack, nan=-1.0), axis=0))
+    temp[k, inside] = hottest
+    if ring.dust is None:
+        tau[k, inside] = np.where(np.isnan(hottest), 0.0, np.inf)
+    else:
+        sigma = ring.surface_density(r)
+        total = np.zeros(r.size)
+        for part in ring.species():
+            present = ~np.isnan(species[part.name])
+            total += np.where(present, part.fraction * float(part.opacity.kappa([tau_wavelength])[0]) * sigma, 0.0)
+        tau[k, inside] = total
+    inten[k, inside] = ring.intensity(r, [wavelength], scene.inclination, scene.star)[0]

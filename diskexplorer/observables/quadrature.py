@@ -22,7 +22,7 @@ def _gauss_legendre(n):
     return _GL[n]
 
 
-def radial_nodes(r_in, r_out, rad_per_au, rho_max, accuracy=1):
+def radial_nodes(r_in, r_out, rad_per_au, rho_max, accuracy=1, breaks=()):
     """Composite Gauss–Legendre nodes across a ring.
 
     Parameters
@@ -35,6 +35,9 @@ def radial_nodes(r_in, r_out, rad_per_au, rho_max, accuracy=1):
         Largest spatial frequency to be resolved, in rad⁻¹ (cycles per radian).
     accuracy : int
         Multiplies the number of nodes per panel (convergence studies).
+    breaks : sequence of float
+        Radii in au inside (r_in, r_out) where the intensity jumps (a species' sublimation
+        front): panels end there, so no Gauss–Legendre panel straddles the step.
 
     Returns
     -------
@@ -45,8 +48,8 @@ def radial_nodes(r_in, r_out, rad_per_au, rho_max, accuracy=1):
     area : ndarray
         Quadrature weights of 2π θ dθ in sr, so that Σ area·I = ∫ I 2π θ dθ.
     """
-    n_log = max(1, math.ceil(math.log(r_out / r_in) / math.log(_MAX_PANEL_RATIO)))
-    edges = np.geomspace(r_in, r_out, n_log + 1)
+    cuts = [r_in] + sorted(b for b in breaks if r_in < b < r_out) + [r_out]
+    edges = np.concatenate([_log_edges(a, b)[:-1] for a, b in zip(cuts[:-1], cuts[1:])] + [[r_out]])
     cycles = np.diff(edges) * rad_per_au * max(rho_max, 0.0)
     n_sub = np.maximum(1, np.ceil(cycles / _MAX_CYCLES_PER_PANEL)).astype(int)
     panels = np.concatenate([np.linspace(a, b, k + 1)[:-1] for a, b, k in zip(edges[:-1], edges[1:], n_sub)]
@@ -58,6 +61,11 @@ def radial_nodes(r_in, r_out, rad_per_au, rho_max, accuracy=1):
     theta = r * rad_per_au
     area = 2.0 * math.pi * theta * dr * rad_per_au
     return r, theta, area
+
+
+def _log_edges(r_in, r_out):
+    n_log = max(1, math.ceil(math.log(r_out / r_in) / math.log(_MAX_PANEL_RATIO)))
+    return np.geomspace(r_in, r_out, n_log + 1)
 
 
 def frequency_grid(theta_max, rho_max, accuracy=1):

@@ -86,6 +86,34 @@ class Scene:
         rings[index] = replace(rings[index], **changes)
         return replace(self, rings=tuple(rings))
 
+    # ------------------------------------------------------------------ temperatures
+    def dust_temperature(self, k, r):
+        """Temperature of each grain species of ring ``k`` at radii ``r`` (au), in K.
+
+        Returns
+        -------
+        dict
+            {species name: ndarray of T(r) in K}. A power-law ring gives every species
+            ``t_in (r/r_in)^(−q)``; an equilibrium ring each species' optically thin
+            equilibrium temperature in this scene's star light, NaN where the species is
+            absent (hotter than its sublimation temperature). No masking outside the ring.
+
+        Raises
+        ------
+        ParameterError
+            An equilibrium ring in a scene without a star.
+        """
+        ring = self.rings[k]
+        temps = ring.species_temperatures(r, self.star)
+        if not ring.is_equilibrium:
+            return temps
+        t_sub = ring.sublimation_temperatures()
+        return {name: np.where(t <= t_sub[name], t, np.nan) for name, t in temps.items()}
+
+    def sublimation_radii(self, k):
+        """{species: sublimation radius in au} of ring ``k``'s dust around this scene's star."""
+        return self.rings[k].sublimation_radii(self.star)
+
     # ------------------------------------------------------------------ observables
     # ``bandwidth`` everywhere: full width Δλ in µm of a top-hat channel centred on the
     # wavelength (scalar or broadcast against it); None (default) is monochromatic. What a

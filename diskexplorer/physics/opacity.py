@@ -22,7 +22,14 @@ __all__ = [
     "PowerLawOpacity",
     "as_opacity",
     "register_opacity_resolver",
+    "OpacityPart",
+    "opacity_parts",
+    "DEFAULT_SUBLIMATION_TEMPERATURE",
 ]
+
+#: Sublimation temperature (K) of a species that declares none: 1500 K, the usual
+#: assumption for silicates (``tests/reference/CHECK_VALUES.md`` §10, FROM MEMORY there).
+DEFAULT_SUBLIMATION_TEMPERATURE = 1500.0
 
 
 @runtime_checkable
@@ -108,6 +115,11 @@ class KappaTable:
             y = np.where(hi, self._logkap[-1] + s * (x - self._loglam[-1]), y)
         return np.exp(y)
 
+    @property
+    def wavelength_nodes(self):
+        """The tabulated wavelengths (µm): quadratures over λ include them."""
+        return self.wavelength
+
     def __repr__(self):
         return (f"KappaTable(label={self.label!r}, {self.wavelength.size} rows, "
                 f"{self.wavelength[0]:g}–{self.wavelength[-1]:g} µm)")
@@ -191,3 +203,45 @@ def as_opacity(spec):
         raise DustError(f"dust {spec!r} is neither a known species nor a readable κ table file")
     raise DustError(f"cannot use {type(spec).__name__} {spec!r:.80} as dust: expected None, an opacity, "
                     "a κ table path or (N, 2) array, a species name or a mixture")
+
+
+@dataclass(frozen=True)
+class OpacityPart:
+    """One grain species of a ring's dust: its name, mass fraction and own opacity.
+
+    Attributes
+    ----------
+    name : str
+        Unique within the dust (the species name; with size and shape where a species
+        appears twice).
+    fraction : float
+        Mass fraction in the mixture (the parts sum to 1).
+    opacity : Opacity or None
+        κ_abs of this species alone (cm² g⁻¹); ``None`` for an opaque blackbody ring.
+    sublimation_temperature : float
+        Its declared default sublimation temperature in K.
+    """
+
+    name: str
+    fraction: float
+    opacity: object
+    sublimation_temperature: float = DEFAULT_SUBLIMATION_TEMPERATURE
+
+
+def opacity_parts(opacity):
+    """The species of a ring's dust as a tuple of :class:`OpacityPart`.
+
+    An opacity that knows its species (a dust mixture) lists them through its
+    ``species_parts()``; any other opacity is one species (its ``label``), and ``None``
+    (an opaque ring) is one grey "blackbody" part. Sublimation temperatures come from the
+    part's ``sublimation_temperature`` attribute, else
+    :data:`DEFAULT_SUBLIMATION_TEMPERATURE`.
+    """
+    if opacity is None:
+        return (OpacityPart("blackbody", 1.0, None),)
+    parts = getattr(opacity, "species_parts", None)
+    if parts is not None:
+        return tuple(parts())
+    t_sub = getattr(opacity, "sublimation_temperature", None)
+    return (OpacityPart(str(getattr(opacity, "label", "dust")), 1.0, opacity,
+                        DEFAULT_SUBLIMATION_TEMPERATURE if t_sub is None else float(t_sub)),)
