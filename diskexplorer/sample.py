@@ -50,6 +50,13 @@ INSTRUMENTS = {
     "QT-LM": (np.concatenate([np.linspace(3.0, 4.0, 32), np.linspace(4.5, 5.0, 28)]), 0.04, 0.006, 1.5),
     "QT-N": (np.linspace(8.0, 13.0, 40), 0.05, 0.01, 3.0),
 }
+#: Spectral resolution λ/Δλ of each instrument's channels: EFF_BAND = λ/R (top-hat
+#: channels, as the comparison models them).
+RESOLUTION = {"QT-HK": 35.0, "QT-LM": 30.0, "QT-N": 30.0}
+#: Instruments that also deliver OI_VIS (AMPTYP "correlated flux", PHITYP "differential"
+#: against every channel of the row): name -> (relative and absolute (Jy) correlated-flux
+#: error, differential-phase error in degrees).
+VIS_ERRORS = {"QT-LM": (0.03, 0.02, 0.7), "QT-N": (0.05, 0.05, 2.0)}
 PHOTOMETRY_BANDS = ("B", "V", "R", "I", "J", "H", "Ks", "W1", "W2", "W3", "W4")
 SAMPLE_FILES = {
     "oifits": ("aurelis_QT-HK.fits", "aurelis_QT-LM.fits", "aurelis_QT-N.fits"),
@@ -111,21 +118,32 @@ def _sampling():
     return np.array(base_rows), np.array(tri_rows)
 
 
+def _single(x_um):
+    """Values in µm as the file stores them (EFF_WAVE and EFF_BAND are single precision, m)."""
+    return (np.asarray(x_um, float) * 1e-6).astype(np.float32).astype(float) * 1e6
+
+
 def simulate_observations(scene, rng=None):
-    """Noisy V² and closure phases of ``scene`` for each instrument: dict insname -> ObservationSet."""
+    """Noisy data of ``scene`` for each instrument: dict insname -> ObservationSet.
+
+    V², closure phases and triple amplitudes for every instrument; correlated fluxes and
+    differential phases for those in :data:`VIS_ERRORS`. Every observable is the channel
+    average over EFF_BAND = λ/R (:mod:`diskexplorer.observables.bandpass`).
+    """
     rng = np.random.default_rng(SEED) if rng is None else rng
     base, tri = _sampling()
     out = {}
     for insname, (wl, rel, absolute, cp_err) in INSTRUMENTS.items():
+        wl = _single(wl)
+        bw = _single(wl / RESOLUTION[insname])
         u = base[:, 0][:, None]
         v = base[:, 1][:, None]
-        v2 = scene.vis2(u, v, wl[None, :])
+        v2 = scene.vis2(u, v, wl[None, :], bandwidth=bw[None, :])
         v2_err = rel * v2 + absolute
         v2_obs = v2 + rng.normal(0.0, 1.0, v2.shape) * v2_err
-        cp = scene.closure_phase(tri[:, 0][:, None], tri[:, 1][:, None], tri[:, 2][:, None],
-                                 tri[:, 3][:, None], wl[None, :])
-        t3 = np.abs(scene.triple_product(tri[:, 0][:, None], tri[:, 1][:, None], tri[:, 2][:, None],
-                                         tri[:, 3][:, None], wl[None, :]))
+        tri_uv = (tri[:, 0][:, None], tri[:, 1][:, None], tri[:, 2][:, None], tri[:, 3][:, None])
+        cp = scene.closure_phase(*tri_uv, wl[None, :], bandwidth=bw[None, :])
+        t3 = np.abs(scene.triple_product(*tri_uv, wl[None, :], bandwidth=bw[None, :]))
         t3_err = 0.05 * t3 + 0.005
         # Closure-phase noise grows as the triple amplitude falls (σ_φ ≈ σ_|T3| / |T3| rad),
         # on top of the instrument's floor: near a visibility null the phase is poorly known.
@@ -133,14 +151,31 @@ def simulate_observations(scene, rng=None):
         cp_e = np.minimum(cp_e, 90.0)
         cp_obs = (cp + rng.normal(0.0, 1.0, cp.shape) * cp_e + 180.0) % 360.0 - 180.0
         t3_obs = t3 + rng.normal(0.0, 1.0, t3.shape) * t3_err
+        rows = dict(mjd=base[:, 2], int_time=60.0, sta_index1=base[:, 3].astype(int),
+                    sta_index2=base[:, 4].astype(int))
+        vis = None
+        if insname in VIS_ERRORS:
+            cf_rel, cf_abs, dphi_err = VIS_ERRORS[insname]
+            coherent = scene.sed(wl, bandwidth=bw)[None, :] * scene.visibility(u, v, wl[None, :],
+                                                                                 bandwidth=bw[None, :])
+            # The reference of every channel is the coherent sum of all channels of its row
+            # (VISREFMAP all true), as diskexplorer.fitting.comparison.differential_phase models it.
+            dphi = np.degrees(np.angle(coherent * np.conj(coherent.sum(axis=1, keepdims=True))))
+            cf = np.abs(coherent)
+            cf_err = cf_rel * cf + cf_abs
+            vis = dict(u=base[:, 0], v=base[:, 1], wavelength=wl, bandwidth=bw, **rows,
+                       visamp=cf + rng.normal(0.0, 1.0, cf.shape) * cf_err, visamp_err=cf_err,
+                       visphi=(dphi + rng.normal(0.0, dphi_err, dphi.shape) + 180.0) % 360.0 - 180.0,
+                       visphi_err=np.full(dphi.shape, dphi_err),
+                       amptyp="correlated flux", phityp="differential")
         obs = ObservationSet.from_arrays(
-            vis2=dict(u=base[:, 0], v=base[:, 1], wavelength=wl, vis2=v2_obs, vis2_err=v2_err,
-                      mjd=base[:, 2], int_time=60.0, sta_index1=base[:, 3].astype(int),
-                      sta_index2=base[:, 4].astype(int)),
-            t3=dict(u1=tri[:, 0], v1=tri[:, 1], u2=tri[:, 2], v2=tri[:, 3], wavelength=wl,
+            vis2=dict(u=base[:, 0], v=base[:, 1], wavelength=wl, bandwidth=bw, vis2=v2_obs, vis2_err=v2_err,
+                      **rows),
+            t3=dict(u1=tri[:, 0], v1=tri[:, 1], u2=tri[:, 2], v2=tri[:, 3], wavelength=wl, bandwidth=bw,
                     t3phi=cp_obs, t3phi_err=cp_e, t3amp=t3_obs, t3amp_err=t3_err, mjd=tri[:, 4],
                     int_time=60.0, sta_index1=tri[:, 5].astype(int), sta_index2=tri[:, 6].astype(int),
                     sta_index3=tri[:, 7].astype(int)),
+            vis=vis,
             insname=insname, arrname="QUARTET", target=TARGET,
             stations={k: v for k, v in STATIONS.items()}, diameter=1.8, frame="GEOCENTRIC",
             target_info=dict(raep0=211.7364, decep0=DECLINATION_DEG))
@@ -178,7 +213,9 @@ def write_sample_data(folder, overwrite=False, progress=print):
         write_oifits(path, obs, overwrite=True, origin="diskexplorer sample-data", observer="simulated",
                      insmode=insname, object_name=TARGET, date="2026-12-02T00:00:00")
         written.append(path)
-        progress(f"wrote {path} ({obs.n_points('vis2')} V², {obs.n_points('t3')} closure phases)")
+        extra = (f", {obs.n_points('vis')} correlated fluxes and differential phases"
+                 if obs.n_points("vis") else "")
+        progress(f"wrote {path} ({obs.n_points('vis2')} V², {obs.n_points('t3')} closure phases{extra})")
     # photometry: 3 % errors (mag bands as magnitudes with 0.03 mag)
     lines = ["# Invented photometry of the demo star Aurelis (simulated by diskexplorer).",
              "band,wavelength,value,error,unit"]

@@ -202,3 +202,20 @@ def test_correlated_flux_in_mjy_is_converted(tmp_path):
         assert h["OI_VIS"].columns["VISAMP"].unit == "mJy"
     back = read_oifits(path, check_checksums=False)
     np.testing.assert_allclose(back.vis["visamp"].values, obs.vis["visamp"].values, rtol=1e-12)
+
+
+def test_concatenation_pads_references_of_different_lengths():
+    scene = lopsided_scene()
+    short = differential_set(scene, wl=np.linspace(8.0, 10.0, 3))
+    long = differential_set(scene, wl=np.linspace(10.5, 13.0, 7))
+    absolute = ObservationSet.from_arrays(
+        vis=dict(u=[30.0], v=[5.0], wavelength=np.array([9.0]), visamp=np.ones((1, 1)),
+                 visamp_err=np.ones((1, 1)), visphi=np.zeros((1, 1)), visphi_err=np.ones((1, 1))),
+        insname="ABS", arrname="TEST", stations=STATIONS)
+    both = ObservationSet.concat([short, long, absolute])
+    ref = both.vis["ref_wavelength"].values
+    assert ref.shape == (18 + 42 + 1, 7)
+    assert np.isnan(ref[:18, 3:]).all() and np.isfinite(ref[18:60]).all() and np.isnan(ref[-1]).all()
+    # each part's model is unchanged by the company it keeps
+    r = Comparison(both).compare(scene)
+    assert r.chi2["diffphi"] == pytest.approx(0.0, abs=1e-14)

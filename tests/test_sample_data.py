@@ -13,7 +13,7 @@ def sample():
 
 def test_sample_data_fit_the_true_scene_within_the_noise(sample):
     result = Comparison(sample["observations"], sample["photometry"], sample["spectrum"]).compare(demo_scene())
-    for kind in ("vis2", "t3phi", "photometry", "spectrum"):
+    for kind in ("vis2", "t3phi", "corrflux", "diffphi", "photometry", "spectrum"):
         n = result.npoints[kind]
         # χ²/N of Gaussian noise: 1 ± sqrt(2/N); allow 5σ
         assert abs(result.chi2[kind] / n - 1.0) < 5 * np.sqrt(2.0 / n) + 0.05, (kind, result.chi2[kind] / n)
@@ -26,6 +26,15 @@ def test_sample_data_shape(sample):
     base = np.hypot(obs.vis2["u"], obs.vis2["v"])
     assert 8 < float(base.min()) and float(base.max()) < 135
     assert obs.n_points("vis2") == 7920 and obs.n_points("t3") == 5280
+    # N and L/M carry correlated fluxes and differential phases against all channels of a row
+    vis = obs.vis
+    assert obs.n_points("vis") == 7200
+    assert set(vis["amptyp"].values) == {"correlated flux"} and set(vis["phityp"].values) == {"differential"}
+    assert sorted(set(vis["insname"].values)) == ["QT-LM", "QT-N"]
+    assert np.isfinite(vis["ref_wavelength"].values).sum(axis=1).max() == 60
+    # channels of resolving power 30-35 (EFF_BAND = λ/R)
+    resolution = obs.vis2["wavelength"].values / obs.vis2["bandwidth"].values
+    assert 29.9 < resolution.min() and resolution.max() < 35.1
     n_band = obs.select_instrument("QT-N").vis2["wavelength"]
     assert 7.9 < float(n_band.min()) and float(n_band.max()) < 13.1
 
@@ -38,6 +47,8 @@ def test_regeneration_is_deterministic_and_refuses_to_overwrite(tmp_path, sample
               sample["observations"].vis2["vis2"].values),
              (a["observations"].t3["t3phi"].values, b["observations"].t3["t3phi"].values,
               sample["observations"].t3["t3phi"].values),
+             (a["observations"].vis["visphi"].values, b["observations"].vis["visphi"].values,
+              sample["observations"].vis["visphi"].values),
              (a["spectrum"]["flux"].values, b["spectrum"]["flux"].values, sample["spectrum"]["flux"].values)]
     for first, second, committed in pairs:
         # the same machine regenerates bit for bit ...

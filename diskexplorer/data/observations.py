@@ -529,15 +529,13 @@ def _common_reference(parts):
         if "ref_wavelength" in p and have == m:
             out.append(p)
             continue
-        p = p.copy()
+        grids = {}
         for name in REFERENCE_VARIABLES:
             grid = np.full((p.sizes["point"], m), np.nan)
             if name in p:
                 grid[:, :have] = p[name].values
-                p = p.drop_vars(name)
-            p[name] = (("point", "ref"), grid)
-            p[name].attrs["units"] = "um"
-        out.append(p)
+            grids[name] = (("point", "ref"), grid, {"units": "um"})
+        out.append(p.drop_vars([n for n in REFERENCE_VARIABLES if n in p]).assign(grids))
     return out
 
 

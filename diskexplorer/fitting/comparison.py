@@ -1,9 +1,11 @@
 """Model against data: predictions at the data's sampling, residuals and χ² per data set."""
 from __future__ import annotations
 
+import dataclasses
 from dataclasses import dataclass, field
 
 import numpy as np
+from scipy import sparse
 
 from ..errors import DataError
 from ..observables.observer import Observer
@@ -61,19 +63,26 @@ def differential_phase(vis, vis_ref, flux_ref, ref_index):
         Model visibility of each point.
     vis_ref, flux_ref : ndarray, shape (s,)
         Model visibility and total flux (Jy) of the samples the references are made of.
-    ref_index : ndarray of int, shape (n, m)
-        For each point its reference samples (indices into ``vis_ref``), −1 as padding.
+    ref_index : ndarray of int, shape (n, m), or sparse matrix (n, s)
+        For each point its reference samples (indices into ``vis_ref``), −1 as padding; or
+        the equivalent 0/1 matrix (what :class:`Comparison` keeps: one sparse product).
 
     Returns
     -------
     ndarray, shape (n,)
         Degrees in (−180, 180]; NaN where a point has no reference.
     """
-    ref_index = np.asarray(ref_index)
-    coherent = np.append(np.asarray(flux_ref) * np.asarray(vis_ref), 0.0)   # index −1 → 0
-    ref = coherent[ref_index].sum(axis=1) if ref_index.size else np.zeros(len(vis), complex)
+    coherent = np.asarray(flux_ref) * np.asarray(vis_ref)
+    if sparse.issparse(ref_index):
+        ref = ref_index @ coherent
+        named = np.diff(ref_index.indptr) > 0
+    else:
+        ref_index = np.asarray(ref_index)
+        padded = np.append(coherent, 0.0)   # index −1 → 0
+        ref = padded[ref_index].sum(axis=1) if ref_index.size else np.zeros(len(vis), complex)
+        named = (ref_index >= 0).any(axis=1)
     phase = np.degrees(np.angle(np.asarray(vis) * np.conj(ref)))
-    return np.where((ref_index >= 0).any(axis=1), phase, np.nan)
+    return np.where(named, phase, np.nan)
 
 
 @dataclass
@@ -253,7 +262,10 @@ class Comparison:
         if "vis" in self._slices:
             ref = _reference_samples(vis, self.bandpass, widths[-1])
             if ref is not None:
-                (ru, rv, rwl, rbw), self._ref_index = ref
+                (ru, rv, rwl, rbw), index = ref
+                p, j = np.nonzero(index >= 0)
+                self._ref_index = sparse.csr_matrix((np.ones(p.size), (p, index[p, j])),
+                                                    shape=(index.shape[0], index.shape[0] + ru.size))
                 uv.append((ru, rv, rwl))
                 widths.append(rbw if np.any(rbw > 0) else None)
                 self._slices["visref"] = slice(start, start + ru.size)
@@ -280,6 +292,16 @@ class Comparison:
         # None where no point has a width: those groups keep the monochromatic evaluator.
         vis_bw = _join_widths(widths, [a[2] for a in uv])
         sed_bw = _join_widths(sed_widths, sed_parts)
+        # V² and OI_VIS points of one file usually share (u, v, λ, Δλ), and differential
+        # references are mostly such points: the model is evaluated once per distinct sample.
+        samples = np.stack([u, v, wl, np.zeros(u.size) if vis_bw is None else vis_bw], axis=1)
+        self._vis_samples = None
+        if u.size:
+            distinct, inverse = np.unique(samples, axis=0, return_inverse=True)
+            if distinct.shape[0] < u.size:
+                self._vis_samples = inverse.ravel()
+                u, v, wl = distinct[:, 0], distinct[:, 1], distinct[:, 2]
+                vis_bw = distinct[:, 3] if vis_bw is not None else None
         self.observer = Observer(u, v, wl, *t3_args, sed_wavelength=sed_wl, accuracy=accuracy,
                                  bandwidth=vis_bw, t3_bandwidth=t3_bw, sed_bandwidth=sed_bw)
 
@@ -314,6 +336,9 @@ class Comparison:
     def compare(self, scene) -> ComparisonResult:
         """Predictions, residuals and χ² of ``scene`` against every loaded data set."""
         pred = self.observer.observe(scene)
+        if self._vis_samples is not None:
+            k = self._vis_samples
+            pred = dataclasses.replace(pred, vis=pred.vis[k], vis2=pred.vis2[k], flux_at_vis=pred.flux_at_vis[k])
         model, resid = {}, {}
         obs = self.observations
         kinds = self.kinds
