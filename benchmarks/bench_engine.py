@@ -9,7 +9,12 @@ baselines 10–130 m) and 6 000 closure triangles. Reports, in one run:
   * the floor: the bare matrix product and the Planck evaluation a T_in change cannot avoid,
   * the same ring change with the channel bandpass on (every channel a top-hat of width
     λ/30, as low-resolution near-infrared and N-band channels are; sub-channel quadrature),
-    beside the monochromatic one.
+    beside the monochromatic one;
+  * the equilibrium case: the same rings with temperature_mode="equilibrium" and a
+    three-species mixture (olivine glass, iron, forsterite), the inner one following its
+    sublimation front: slider changes of Σ_in, of a mass fraction, of a sublimation
+    temperature and of the star's luminosity (every ring's species re-solved), beside
+    the power-law ring change.
 Run: .venv/bin/python benchmarks/bench_engine.py
 BLAS runs single-threaded here (as in the app): on 2 shared cores a threaded BLAS makes
 these small products slower and erratic.
@@ -26,7 +31,9 @@ os.environ.setdefault("OMP_NUM_THREADS", "1")
 import numpy as np  # noqa: E402
 from scipy import special  # noqa: E402
 
+import diskexplorer.dust  # noqa: E402,F401  (species names as dust)
 from diskexplorer import PowerLawOpacity, Ring, Scene, Star
+from diskexplorer.dust import DustMix
 from diskexplorer.observables import Observer
 from diskexplorer.observables.quadrature import radial_nodes
 from diskexplorer.physics.constants import ARCSEC_RAD, RAD_PER_MAS
@@ -51,6 +58,16 @@ def standard_case(seed=1):
                               c1=0.3, s1=0.1, name="outer")],
                   inclination=45.0, position_angle=30.0)
     return scene, vis, t3, wl
+
+
+def equilibrium_case(scene):
+    """The standard scene with every ring in equilibrium with a three-species mixture."""
+    mix = DustMix({"olivine_glass": 0.6, "iron": 0.2, "forsterite": 0.2}, grain_size=0.1)
+    rings = [r.__class__(**{**{f: getattr(r, f) for f in ("r_in", "r_out", "sigma_in", "p", "c1", "s1", "name")},
+                            "dust": mix, "temperature_mode": "equilibrium",
+                            "inner_edge": "sublimation" if k == 0 else "fixed"})
+             for k, r in enumerate(scene.rings)]
+    return scene.replace(rings=rings)
 
 
 ROUNDS, REPEAT, WARMUP = 5, 100, 10
@@ -98,6 +115,12 @@ def brute_force(scene, u, v, wl):
     x = math.pi * scene.star.angular_diameter(scene.distance) * RAD_PER_MAS * np.hypot(u, v) / lam
     num += fs * 2 * special.j1(x) / x
     return num / (tot + fs)
+
+
+def direct_eq(scene, sampling):
+    """The engine's reference transform (one Bessel function per point per node)."""
+    from diskexplorer.observables.engine import direct_visibility
+    return direct_visibility(scene, sampling.u, sampling.v, sampling.wavelength, accuracy=1)
 
 
 def main():
@@ -161,6 +184,36 @@ def main():
     t_band = statistics.median(r["band"] for r in band_rounds)
     band_ratios = [r["band"] / r["mono"] for r in band_rounds]
 
+    # Equilibrium rings: the same observer, slider changes of the kinds the app makes.
+    eq_scene = equilibrium_case(scene)
+    t0 = time.perf_counter()
+    obs.observe(eq_scene)
+    cold_eq = time.perf_counter() - t0
+    sigmas = 1e-2 * (1.0 + 1e-4 * np.arange(ROUNDS * (REPEAT + WARMUP) + 1))
+    fracs = 0.6 + 1e-4 * np.arange(ROUNDS * (REPEAT + WARMUP) + 1)
+    t_subs = 1800.0 + 0.01 * np.arange(ROUNDS * (REPEAT + WARMUP) + 1)
+    lums = eq_scene.star.luminosity * (1.0 + 1e-5 * np.arange(ROUNDS * (REPEAT + WARMUP) + 1))
+
+    def eq_sigma(k):
+        obs.observe(eq_scene.with_ring(0, sigma_in=float(sigmas[k])))
+
+    def eq_fraction(k):
+        f = float(fracs[k])
+        obs.observe(eq_scene.with_ring(0, dust=DustMix({"olivine_glass": f, "iron": 0.8 - f, "forsterite": 0.2},
+                                                       grain_size=0.1)))
+
+    def eq_sublimation(k):
+        obs.observe(eq_scene.with_ring(0, sublimation={"iron": float(t_subs[k])}))
+
+    def eq_star(k):
+        obs.observe(eq_scene.replace(star=Star(t_eff=eq_scene.star.t_eff, luminosity=float(lums[k]))))
+
+    eq_rounds = [side_by_side({"power law": ring_change, "Σ_in": eq_sigma, "fraction": eq_fraction,
+                               "T_sub": eq_sublimation, "L★": eq_star}, offset=r * (REPEAT + WARMUP))
+                 for r in range(ROUNDS)]
+    t_eq = {name: statistics.median(r[name] for r in eq_rounds) for name in eq_rounds[0]}
+    eq_err = np.max(np.abs(ev.evaluate(eq_scene).vis - direct_eq(eq_scene, ev.sampling)))
+
     incs = 40.0 + 0.05 * np.arange(REPEAT + WARMUP)
     t_inc = median_ms(lambda k: obs.observe(scene.replace(inclination=float(incs[k]))))
     pas = 20.0 + 0.05 * np.arange(REPEAT + WARMUP)
@@ -196,6 +249,11 @@ def main():
     print(f"ring change, monochromatic / bandpass on:          {t_mono_pair:8.2f} ms / {t_band:8.2f} ms  median"
           f"  -> ratio {statistics.median(band_ratios):.1f}"
           f"  (rounds: {' '.join(f'{x:.1f}' for x in band_ratios)})")
+    front = eq_scene.rings[0].resolved(eq_scene.star).r_in
+    print(f"equilibrium rings (3 species each, inner edge of the rim at its sublimation front {front:.3f} au): "
+          f"cold start {1e3 * cold_eq:8.1f} ms; accuracy against the direct transform {eq_err:.2e}")
+    print("  slider change, all observables (median of rounds): "
+          + ", ".join(f"{name} {t:.2f} ms" for name, t in t_eq.items()))
 
 
 if __name__ == "__main__":
