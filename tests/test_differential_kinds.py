@@ -219,3 +219,35 @@ def test_concatenation_pads_references_of_different_lengths():
     # each part's model is unchanged by the company it keeps
     r = Comparison(both).compare(scene)
     assert r.chi2["diffphi"] == pytest.approx(0.0, abs=1e-14)
+
+
+def test_report_tables_hold_only_their_points_and_figures_follow_the_kinds(tmp_path):
+    from diskexplorer.report import chi2_rows, residual_tables
+    from diskexplorer.report.figures import write_figures
+    from diskexplorer.report.outputs import planned_outputs
+
+    scene = lopsided_scene()
+    u, v = baselines()
+    wl = np.linspace(8.0, 13.0, 20)
+    vis, _ = channel_model(scene, u, v, wl, wl / 30.0)
+    absolute = ObservationSet.from_arrays(
+        vis=dict(u=u, v=v, wavelength=wl, bandwidth=wl / 30.0, visamp=np.abs(vis) + 0.01,
+                 visamp_err=np.full(vis.shape, 0.02), visphi=np.zeros(vis.shape),
+                 visphi_err=np.full(vis.shape, 5.0)),
+        insname="TEST-ABS", arrname="TEST", stations=STATIONS, file="abs.fits")
+    comparison = Comparison(differential_set(scene, noise=1.0) + absolute)
+    result = comparison.compare(scene)
+    tables = residual_tables(comparison, result)
+    assert len(tables["visamp"]["data"]) == 120 and len(tables["corrflux"]["data"]) == 120
+    assert set(tables["diffphi"]["instrument"]) == {"TEST-N"}
+    np.testing.assert_allclose(tables["visamp"]["residual"], 0.5)   # 0.01 / 0.02
+    rows = {(r["kind"], r["subset"]): r for r in chi2_rows(result, tables)}
+    assert rows[("diffphi", "all")]["chi2"] == pytest.approx(result.chi2["diffphi"])
+    assert rows[("visamp", "all")]["chi2"] == pytest.approx(120 * 0.25)
+    plan = planned_outputs(tmp_path, comparison.kinds, ("png",), cube=False)
+    names = ("visibility_amplitude", "correlated_flux", "differential_phase")
+    assert all(n in plan["figures"] for n in names)
+    assert "differential_phase" not in planned_outputs(tmp_path, ["vis2"], ("png",))["figures"]
+    paths = {n: plan["figures"][n] for n in names}
+    written = write_figures(scene, comparison, result, None, paths)
+    assert sorted(p.name for p in written) == sorted(f"{n}.png" for n in names)

@@ -96,7 +96,7 @@ def model_cube(scene, comparison=None, result=None, image_wavelengths=DEFAULT_IM
                 coords[f"{kind}_spatial_frequency"] = (dim, cols["spatial_frequency_Mlambda"], {"units": "Mlambda"})
             if "instrument" in cols:
                 coords[f"{kind}_instrument"] = (dim, np.asarray(cols["instrument"]).astype(str))
-            unit = {"vis2": "", "t3phi": "deg", "t3amp": "", "visamp": ""}.get(kind, "Jy")
+            unit = {"vis2": "", "t3phi": "deg", "t3amp": "", "visamp": "", "diffphi": "deg"}.get(kind, "Jy")
             for name in ("data", "error", "model", "residual"):
                 ds[f"{kind}_{name}"] = xr.DataArray(np.asarray(cols[name], float), dims=(dim,),
                                                     attrs={"units": "" if name == "residual" else unit})

@@ -1,4 +1,5 @@
-"""The report's matplotlib figures: SED, silicate band, V², closure phases, image, profiles.
+"""The report's matplotlib figures: SED, silicate band, V², closure phases, visibility
+amplitudes, correlated fluxes and differential phases (when the data hold them), image, profiles.
 
 matplotlib is imported only when figures are drawn (:func:`write_figures`), with the
 non-interactive Agg backend, so importing this module pulls in neither matplotlib nor
@@ -144,9 +145,28 @@ def _interferometric_figure(plt, name, tables, kind, ylabel, title, scene):
         ax.text(0.5, 0.95, f"no {kind} data", transform=ax.transAxes, ha="center", va="top")
         if kind == "vis2":
             ax.legend(fontsize=8)
-    ax.set_xlabel("spatial frequency B/λ [Mλ]" if kind == "vis2" else "longest baseline of the triangle B$_{max}$/λ [Mλ]")
+    ax.set_xlabel("longest baseline of the triangle B$_{max}$/λ [Mλ]" if kind.startswith("t3")
+                  else "spatial frequency B/λ [Mλ]")
     ax.set_ylabel(ylabel)
     ax.set_title(title)
+    return fig
+
+
+def _figure_differential_phase(plt, tables):
+    """Differential phases against wavelength (they are spectral), coloured by baseline length."""
+    fig, ax = plt.subplots(figsize=FIGURE_SIZES_IN["differential_phase"], layout="constrained")
+    cols = tables["diffphi"]
+    lam = cols["wavelength_um"]
+    baseline = np.hypot(cols["u_m"], cols["v_m"])
+    ax.errorbar(lam, cols["data"], yerr=cols["error"], fmt="none", ecolor="#BBBBBB", elinewidth=0.6, zorder=1)
+    sc = ax.scatter(lam, cols["data"], c=baseline, s=9, cmap="viridis", zorder=2, label="data")
+    ax.scatter(lam, cols["model"], s=4, marker=".", color="#000000", zorder=3, label="model")
+    fig.colorbar(sc, ax=ax, label="projected baseline B [m]")
+    ax.axhline(0.0, color="#999999", lw=0.8)
+    ax.set_xlabel("wavelength λ [µm]")
+    ax.set_ylabel("differential phase [deg]")
+    ax.set_title("differential phases, relative to each row's reference channels (colour: data; black: model)")
+    ax.legend(fontsize=9, loc="best")
     return fig
 
 
@@ -261,6 +281,13 @@ def write_figures(scene, comparison, result, cube, paths, dpi=DEFAULT_DPI, progr
         "closure_phase": lambda: _interferometric_figure(plt, "closure_phase", tables, "t3phi",
                                                          "closure phase [deg]",
                                                          "closure phases (colour: data; black: model)", scene),
+        "visibility_amplitude": lambda: _interferometric_figure(
+            plt, "visibility_amplitude", tables, "visamp", "visibility amplitude |V|",
+            "visibility amplitudes (colour: data; black: model)", scene),
+        "correlated_flux": lambda: _interferometric_figure(
+            plt, "correlated_flux", tables, "corrflux", "correlated flux |V| F$_ν$ [Jy]",
+            "correlated fluxes (colour: data; black: model)", scene),
+        "differential_phase": lambda: _figure_differential_phase(plt, tables),
         "image": lambda: _figure_image(plt, scene, cube),
         "profiles": lambda: _figure_profiles(plt, scene),
     }

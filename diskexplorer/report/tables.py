@@ -21,6 +21,11 @@ def _coord(ds, name, default=""):
     return np.full(ds.sizes.get("point", 0), default, dtype=object)
 
 
+# OI_VIS kinds: data column, the coordinate that selects their points, and its value.
+_VIS_KINDS = {"visamp": ("visamp", "amptyp", "absolute"), "corrflux": ("visamp", "amptyp", "correlated flux"),
+              "diffphi": ("visphi", "phityp", "differential")}
+
+
 def residual_tables(comparison, result):
     """The data, model and residuals of every data kind as column tables.
 
@@ -40,8 +45,10 @@ def residual_tables(comparison, result):
         longest baseline of the triangle), ``u_m``, ``v_m``, ``data``, ``error``,
         ``model``, ``residual`` ((data − model)/error, closure phases by chord length, see diskexplorer.fitting.comparison.phase_residual;
         upper limits contribute only where the model exceeds them). Data are in V²,
-        degrees (``t3phi``), visibility amplitude or Jy (``photometry``, ``spectrum``,
-        ``flux``); the SED kinds add one ``model_<component>`` column per component (Jy).
+        degrees (``t3phi``, ``diffphi``), visibility amplitude (``visamp``) or Jy
+        (``corrflux``, ``photometry``, ``spectrum``, ``flux``); the OI_VIS kinds hold only
+        the points of their AMPTYP / PHITYP, with their station indices; the SED kinds add
+        one ``model_<component>`` column per component (Jy).
     """
     obs = comparison.observations
     tables = {}
@@ -61,12 +68,16 @@ def residual_tables(comparison, result):
             cols.update(instrument=_coord(ds, "insname"), mjd=_coord(ds, "mjd", np.nan), u1_m=u1, v1_m=v1,
                         u2_m=u2, v2_m=v2, wavelength_um=lam, spatial_frequency_Mlambda=longest / lam,
                         data=ds[kind].values, error=ds[f"{kind}_err"].values)
-        elif kind == "visamp":
+        elif kind in _VIS_KINDS:
             ds = obs.vis
-            u, v, lam = ds["u"].values, ds["v"].values, ds["wavelength"].values
-            cols.update(instrument=_coord(ds, "insname"), mjd=_coord(ds, "mjd", np.nan), u_m=u, v_m=v,
-                        wavelength_um=lam, spatial_frequency_Mlambda=_mlambda(u, v, lam),
-                        amptyp=_coord(ds, "amptyp"), data=ds["visamp"].values, error=ds["visamp_err"].values)
+            # Only the points of this kind's AMPTYP / PHITYP (the others are NaN in the result).
+            column, typ, value = _VIS_KINDS[kind]
+            keep = np.asarray(ds[typ].values).astype(str) == value
+            u, v, lam = ds["u"].values[keep], ds["v"].values[keep], ds["wavelength"].values[keep]
+            cols.update(instrument=_coord(ds, "insname")[keep], mjd=_coord(ds, "mjd", np.nan)[keep],
+                        sta_index1=_coord(ds, "sta_index1", -1)[keep], sta_index2=_coord(ds, "sta_index2", -1)[keep],
+                        u_m=u, v_m=v, wavelength_um=lam, spatial_frequency_Mlambda=_mlambda(u, v, lam),
+                        data=ds[column].values[keep], error=ds[f"{column}_err"].values[keep])
         else:
             ds = {"photometry": comparison.photometry, "spectrum": comparison.spectrum,
                   "flux": getattr(obs, "flux", None)}[kind]
@@ -82,8 +93,9 @@ def residual_tables(comparison, result):
             cols.update(wavelength_um=ds["wavelength"].values, data=flux, error=err)
             if kind == "photometry":
                 cols["upper_limit"] = ds["upper_limit"].values.astype(bool)
-        cols["model"] = np.asarray(result.model[kind], float)
-        cols["residual"] = np.asarray(result.residuals[kind], float)
+        keep = slice(None) if kind not in _VIS_KINDS else keep
+        cols["model"] = np.asarray(result.model[kind], float)[keep]
+        cols["residual"] = np.asarray(result.residuals[kind], float)[keep]
         comps = {"photometry": result.sed, "spectrum": result.spectrum}.get(kind) or {}
         for name, values in comps.items():
             if name != "total":
@@ -112,9 +124,10 @@ def chi2_rows(result, tables=None):
         n = result.npoints[kind]
         w = result.weights.get(kind, 1.0)
         rows.append(dict(kind=kind, subset="all", n=n, chi2=chi2, reduced=chi2 / n if n else math.nan, weight=w))
-        inst = (tables or {}).get(kind, {}).get("instrument")
+        table = (tables or {}).get(kind, {})
+        inst = table.get("instrument")
         if inst is not None and len(set(inst)) > 1:
-            r = np.asarray(result.residuals[kind], float)
+            r = np.asarray(table["residual"], float)
             for name in sorted(set(inst)):
                 sel = (inst == name) & np.isfinite(r)
                 c = float(np.sum(r[sel] ** 2))
