@@ -27,6 +27,8 @@ VIEW_SETTINGS = ("curve_position_angle", "image_wavelength", "profile_wavelength
                  "t_sub", "q_r", "gap_aspect_ratio", "gap_alpha")
 
 _RING_FIELDS = ("r_in", "r_out", "t_in", "q", "sigma_in", "p", "c1", "s1", "name", "enabled")
+# Written for equilibrium rings only; absent in older sessions (the power law).
+_TEMPERATURE_FIELDS = ("temperature_mode", "inner_edge", "sublimation")
 
 
 def _dust_to_dict(dust):
@@ -58,15 +60,25 @@ def scene_to_dict(scene):
         "position_angle": scene.position_angle, "extended_fraction": scene.extended_fraction,
         "star": None if star is None else {"t_eff": star.t_eff, "radius": float(star.radius),
                                            "mass": star.mass, "uniform_disk": star.uniform_disk},
-        "rings": [{**{f: getattr(r, f) for f in _RING_FIELDS}, "dust": _dust_to_dict(r.dust)}
+        "rings": [{**{f: getattr(r, f) for f in _RING_FIELDS}, "dust": _dust_to_dict(r.dust),
+                   **_temperature_settings(r)}
                   for r in scene.rings],
     }
+
+
+def _temperature_settings(ring):
+    """An equilibrium ring's mode, inner edge and sublimation overrides (nothing for a power law)."""
+    if not ring.is_equilibrium:
+        return {}
+    return {"temperature_mode": ring.temperature_mode, "inner_edge": ring.inner_edge,
+            "sublimation": dict(ring.sublimation)}
 
 
 def scene_from_dict(d):
     """Rebuild a :class:`Scene` from :func:`scene_to_dict` output."""
     star = d.get("star")
-    rings = tuple(Ring(**{f: r[f] for f in _RING_FIELDS if f in r}, dust=_dust_from_dict(r.get("dust")))
+    rings = tuple(Ring(**{f: r[f] for f in _RING_FIELDS + _TEMPERATURE_FIELDS if f in r},
+                       dust=_dust_from_dict(r.get("dust")))
                   for r in d.get("rings", ()))
     return Scene(distance=d["distance"], inclination=d["inclination"], position_angle=d["position_angle"],
                  extended_fraction=d.get("extended_fraction", 0.0),

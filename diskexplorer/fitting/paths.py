@@ -14,7 +14,14 @@ path                       parameter
 ``extended.fraction``      Scene.extended_fraction (dimensionless)
 ``star.<name>``            Star parameter, e.g. ``star.t_eff`` (K), ``star.radius``
 ``rings.<k>.<name>``       parameter of ring number k (0-based), e.g. ``rings.0.t_in``
+``rings.<k>.sublimation.<species>``  sublimation temperature (K) of a species of an
+                           equilibrium ring, e.g. ``rings.0.sublimation.iron``
 =========================  ===============================================
+
+Sublimation temperatures have paths only in rings with ``temperature_mode="equilibrium"``
+and only for species whose names are identifiers (a species held twice, named with its
+size, has none); the temperature mode and the inner-edge choice are settings, not
+parameters.
 
 On input, a ring may also be addressed by its (unique) name in brackets:
 ``rings[inner].r_in`` means ``rings.0.r_in`` if ring 0 is called ``"inner"``;
@@ -33,11 +40,11 @@ from dataclasses import replace
 from ..errors import SeedError
 from ..observables.scene import Scene
 from ..physics.parameters import parameter_specs
-from ..physics.ring import Ring
+from ..physics.ring import SUBLIMATION_TEMPERATURE_SPEC, Ring
 from ..physics.star import Star
 
 __all__ = ["SCENE_GROUPS", "parameter_paths", "canonical_path", "spec_for", "get_value",
-           "set_values"]
+           "set_values", "sublimation_species"]
 
 #: Scene field → path. Scene fields not listed here get their field name as path.
 SCENE_GROUPS = {
@@ -51,6 +58,16 @@ _SCENE_FIELDS = None
 _RING_NUMBER = re.compile(r"^rings\.(\d+)\.([A-Za-z_]\w*)$")
 _RING_NAME = re.compile(r"^rings\[([^\]]+)\]\.([A-Za-z_]\w*)$")
 _STAR = re.compile(r"^star\.([A-Za-z_]\w*)$")
+_RING_SUB_NUMBER = re.compile(r"^rings\.(\d+)\.sublimation\.([A-Za-z_]\w*)$")
+_RING_SUB_NAME = re.compile(r"^rings\[([^\]]+)\]\.sublimation\.([A-Za-z_]\w*)$")
+_IDENTIFIER = re.compile(r"^[A-Za-z_]\w*$")
+
+
+def sublimation_species(ring):
+    """Species of ``ring`` whose sublimation temperatures are parameters (equilibrium rings only)."""
+    if not ring.is_equilibrium:
+        return []
+    return [p.name for p in ring.species() if _IDENTIFIER.match(p.name)]
 
 
 def _scene_fields():
@@ -75,8 +92,9 @@ def parameter_paths(scene):
     out = list(_scene_fields())
     if scene.star is not None:
         out += [f"star.{name}" for name in parameter_specs(Star)]
-    for k, _ in enumerate(scene.rings):
+    for k, ring in enumerate(scene.rings):
         out += [f"rings.{k}.{name}" for name in parameter_specs(Ring)]
+        out += [f"rings.{k}.sublimation.{name}" for name in sublimation_species(ring)]
     return out
 
 
@@ -112,6 +130,16 @@ def canonical_path(scene, path):
             raise SeedError(f"{path}: unknown star parameter {m.group(1)!r}; known: "
                             f"{', '.join(parameter_specs(Star))}")
         return path
+    m = _RING_SUB_NAME.match(path) or _RING_SUB_NUMBER.match(path)
+    if m:
+        ring_path = canonical_path(scene, path.rsplit(".sublimation.", 1)[0] + ".r_in")
+        k = int(ring_path.split(".")[1])
+        species = sublimation_species(scene.rings[k])
+        if m.group(2) not in species:
+            why = ("its temperature mode is the power law" if not scene.rings[k].is_equilibrium
+                   else f"its species with sublimation parameters: {', '.join(species) or 'none'}")
+            raise SeedError(f"{path}: ring {k} has no sublimation temperature {m.group(2)!r} ({why})")
+        return f"rings.{k}.sublimation.{m.group(2)}"
     m = _RING_NAME.match(path)
     if m:
         name, param = m.group(1), m.group(2)
@@ -144,12 +172,16 @@ def _split(path):
     parts = path.split(".")
     if parts[0] == "star":
         return "star", parts[1]
+    if len(parts) == 4:  # rings.<k>.sublimation.<species>
+        return int(parts[1]), ("sublimation", parts[3])
     return int(parts[1]), parts[2]
 
 
 def spec_for(path):
     """The :class:`~diskexplorer.physics.parameters.ParameterSpec` behind a canonical path."""
     owner, name = _split(path)
+    if isinstance(name, tuple):
+        return SUBLIMATION_TEMPERATURE_SPEC
     cls = Scene if owner == "scene" else Star if owner == "star" else Ring
     return parameter_specs(cls)[name]
 
@@ -158,6 +190,8 @@ def get_value(scene, path):
     """Value of the parameter at canonical ``path`` in its declared unit (float)."""
     owner, name = _split(path)
     obj = scene if owner == "scene" else scene.star if owner == "star" else scene.rings[owner]
+    if isinstance(name, tuple):
+        return float(obj.sublimation_temperatures()[name[1]])
     return float(getattr(obj, name))
 
 
@@ -187,6 +221,9 @@ def set_values(scene, values):
             scene_changes[name] = float(value)
         elif owner == "star":
             star_changes[name] = float(value)
+        elif isinstance(name, tuple):
+            ring = ring_changes.setdefault(owner, {})
+            ring.setdefault("sublimation", dict(scene.rings[owner].sublimation))[name[1]] = float(value)
         else:
             ring_changes.setdefault(owner, {})[name] = float(value)
     if star_changes:

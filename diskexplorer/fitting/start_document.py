@@ -47,7 +47,7 @@ from ..physics.ring import Ring
 from ..physics.star import Star
 from .data_description import describe_data
 from .dust_codec import dust_to_document
-from .paths import canonical_path, get_value, parameter_paths, spec_for
+from .paths import canonical_path, get_value, parameter_paths, spec_for, sublimation_species
 from .priors import as_prior, default_prior
 from .quantities import quantity
 from .start_schema import SCHEMA_ID
@@ -80,6 +80,24 @@ def _entry(scene, path, free, bounds, priors):
     prior.check_bounds(lo, hi, f"{path}: ")
     return {"value": value, "unit": spec.unit, "free": path in free, "bounds": [lo, hi],
             "prior": prior.as_dict()}
+
+
+def _equilibrium_entries(scene, k, entries):
+    """The temperature settings of ring ``k`` (nothing for a power-law ring: documents unchanged).
+
+    An equilibrium ring records its mode, its inner-edge choice, each species'
+    sublimation temperature as a parameter entry (``rings.<k>.sublimation.<species>``) and,
+    when its inner edge follows the front, the front's radius for the reader (derived:
+    not read back).
+    """
+    ring = scene.rings[k]
+    if not ring.is_equilibrium:
+        return {}
+    out = {"temperature_mode": ring.temperature_mode, "inner_edge": ring.inner_edge,
+           "sublimation": {name: entries[f"rings.{k}.sublimation.{name}"] for name in sublimation_species(ring)}}
+    if ring.inner_edge == "sublimation" and scene.star is not None:
+        out["sublimation_front"] = quantity(ring.sublimation_front(scene.star), "au")
+    return out
 
 
 def _photosphere(table):
@@ -177,7 +195,8 @@ def export_start(scene, free=(), bounds=None, priors=None, data=None, comparison
     for k, ring in enumerate(scene.rings):
         rings.append({"name": ring.name, "enabled": bool(ring.enabled),
                       **{n: entries[f"rings.{k}.{n}"] for n in parameter_specs(Ring)},
-                      "dust": dust_to_document(ring.dust, f"rings.{k}.dust")})
+                      "dust": dust_to_document(ring.dust, f"rings.{k}.dust"),
+                      **_equilibrium_entries(scene, k, entries)})
     doc_scene["rings"] = rings
     doc = {"schema": SCHEMA_ID,
            "created": _dt.datetime.now(_dt.timezone.utc).replace(microsecond=0).isoformat().replace("+00:00", "Z"),

@@ -23,11 +23,11 @@ from dataclasses import dataclass, field
 from ..errors import DustError, ParameterError, SeedError
 from ..observables.scene import Scene
 from ..physics.parameters import parameter_specs
-from ..physics.ring import Ring
+from ..physics.ring import SUBLIMATION_TEMPERATURE_SPEC, Ring
 from ..physics.star import PhotosphereTable, Star
 from .data_description import DataDescription
 from .dust_codec import dust_from_document
-from .paths import SCENE_GROUPS
+from .paths import SCENE_GROUPS, sublimation_species
 from .priors import Prior, as_prior, default_prior
 from .probability import make_log_probability
 from .quantities import to_internal, unit_factor
@@ -290,10 +290,21 @@ def _build(doc, base_dir):
             raise SeedError(f"rings.{k}.r_in: {_fmt(rd['r_in']['value'])} {rd['r_in']['unit']} must be "
                             f"smaller than rings.{k}.r_out = {_fmt(rd['r_out']['value'])} {rd['r_out']['unit']}")
         dust = dust_from_document(rd["dust"], f"rings.{k}.dust", base_dir)
+        # Temperature settings of an equilibrium ring; absent: the power law.
+        kw["temperature_mode"] = rd.get("temperature_mode", "power_law")
+        kw["inner_edge"] = rd.get("inner_edge", "fixed")
+        kw["sublimation"] = {name: take(entry, f"rings.{k}.sublimation.{name}", SUBLIMATION_TEMPERATURE_SPEC)
+                             for name, entry in rd.get("sublimation", {}).items()}
         try:
             rings.append(Ring(**kw, dust=dust, name=rd["name"], enabled=rd["enabled"]))
         except (ParameterError, DustError) as exc:
             raise SeedError(f"rings.{k}: {exc}") from None
+        known = sublimation_species(rings[-1])
+        for name in kw["sublimation"]:
+            if name not in known:
+                raise SeedError(f"rings.{k}.sublimation.{name}: the ring's dust has no such species "
+                                f"(species with sublimation temperatures: {', '.join(known) or 'none'}; "
+                                "an entry needs temperature_mode 'equilibrium')")
     try:
         scene = Scene(**scene_kw, star=star, rings=rings)
     except ParameterError as exc:

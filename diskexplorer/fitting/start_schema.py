@@ -14,7 +14,7 @@ from importlib import resources
 
 from ..observables.scene import Scene
 from ..physics.parameters import parameter_specs
-from ..physics.ring import Ring
+from ..physics.ring import INNER_EDGES, TEMPERATURE_MODES, Ring
 from ..physics.star import Star
 from .paths import SCENE_GROUPS
 from .priors import PRIOR_KINDS
@@ -44,6 +44,23 @@ def _object(props, required=None, description=None):
     if description:
         out["description"] = description
     return out
+
+
+def _ring_temperature_settings():
+    """Optional ring keys of equilibrium temperatures (absent: the power law, inner edge fixed)."""
+    return {
+        "temperature_mode": {"enum": list(TEMPERATURE_MODES),
+                             "description": "power_law: T_in (r/r_in)^-q; equilibrium: each species' "
+                                            "optically thin radiative equilibrium in the star's light"},
+        "inner_edge": {"enum": list(INNER_EDGES),
+                       "description": "fixed: r_in; sublimation: the sublimation front of the most "
+                                      "refractory species (equilibrium rings)"},
+        "sublimation": {"type": "object", "additionalProperties": _ref("parameter"),
+                        "description": "sublimation temperature (K) per species, as parameter entries"},
+        "sublimation_front": {**_ref("quantity"),
+                              "description": "derived on export: the inner radius in use when inner_edge "
+                                             "is sublimation (not read back)"},
+    }
 
 
 def _nullable(schema):
@@ -112,7 +129,8 @@ def build_schema():
         "star": _object({**_params(Star), "uniform_disk": {"type": "boolean"},
                          "photosphere": _nullable(_ref("photosphere"))}),
         "ring": _object({"name": {"type": "string"}, "enabled": {"type": "boolean"}, **_params(Ring),
-                         "dust": _ref("dust")}),
+                         "dust": _ref("dust"), **_ring_temperature_settings()},
+                        required=["name", "enabled", *_params(Ring), "dust"]),
         "oifits": _object({"path": {"type": "string", "minLength": 1}, "target": {"type": ["string", "null"]},
                            "bands": _nullable(strings), "wavelength_range": _nullable(range_),
                            "instruments": _nullable(strings),

@@ -127,6 +127,7 @@ def free_parameters(scene, free, bounds=None, priors=None):
         if path in seen:
             raise SeedError(f"{path}: listed twice among the free parameters")
         seen.add(path)
+        _check_used(scene, path)
         spec = spec_for(path)
         value = get_value(scene, path)
         if path in bounds:
@@ -152,6 +153,26 @@ def free_parameters(scene, free, bounds=None, priors=None):
         raise SeedError(f"bounds or priors given for parameter(s) that are not free: "
                         f"{', '.join(sorted(unused))}")
     return out
+
+
+# Parameters an equilibrium ring keeps but does not use: freeing them would give a fit a
+# direction in which χ² is flat. (Its temperature mode and inner-edge choice are settings,
+# never free; its species' sublimation temperatures are parameters.)
+_UNUSED_BY_EQUILIBRIUM = ("t_in", "q")
+
+
+def _check_used(scene, path):
+    parts = path.split(".")
+    if len(parts) != 3 or parts[0] != "rings":
+        return
+    ring = scene.rings[int(parts[1])]
+    if ring.is_equilibrium and parts[2] in _UNUSED_BY_EQUILIBRIUM:
+        raise SeedError(f"{path}: ring {ring.name!r} takes its temperatures from radiative equilibrium, "
+                        f"so {parts[2]} is unused and cannot be free (free its species' sublimation "
+                        "temperatures, rings.<k>.sublimation.<species>, instead)")
+    if ring.inner_edge == "sublimation" and parts[2] == "r_in":
+        raise SeedError(f"{path}: ring {ring.name!r} has its inner edge at the sublimation front, "
+                        "so r_in is unused and cannot be free")
 
 
 def _paths(free):
