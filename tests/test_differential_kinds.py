@@ -251,3 +251,53 @@ def test_report_tables_hold_only_their_points_and_figures_follow_the_kinds(tmp_p
     paths = {n: plan["figures"][n] for n in names}
     written = write_figures(scene, comparison, result, None, paths)
     assert sorted(p.name for p in written) == sorted(f"{n}.png" for n in names)
+
+
+def test_weights_must_name_known_kinds():
+    from diskexplorer.errors import ParameterError
+    from diskexplorer.fitting.data_description import DataDescription
+    from diskexplorer.fitting.start_import import SeedError
+
+    with pytest.raises(ParameterError, match="'visphi'.*known: vis2"):
+        Comparison(differential_set(lopsided_scene()), weights={"visphi": 2.0})
+    with pytest.raises(SeedError, match=r"data\.weights: unknown data kind\(s\) 'diff_phi'"):
+        DataDescription.from_dict({"weights": {"diff_phi": 1.0}})
+    assert DataDescription.from_dict({"weights": {"diffphi": 0.5, "corrflux": 2}}).weights == {
+        "diffphi": 0.5, "corrflux": 2.0}
+
+
+def test_refinement_and_scans_use_the_new_kinds():
+    from diskexplorer.fitting import refine
+    from diskexplorer.fitting.scan import scan_grid
+
+    truth = lopsided_scene()
+    comparison = Comparison(differential_set(truth))
+    # Only the differential phases see the brightness asymmetry here (correlated fluxes too,
+    # weakly): weight the amplitudes out, and refinement must find c1, s1 from the phases.
+    phases_only = Comparison(comparison.observations, weights={"corrflux": 0.0})
+    start = truth.with_ring(0, c1=0.2, s1=0.5)
+    result = refine(start, phases_only, free=["rings.0.c1", "rings.0.s1"])
+    assert result.scene.rings[0].c1 == pytest.approx(0.5, abs=1e-4)
+    assert result.scene.rings[0].s1 == pytest.approx(0.3, abs=1e-4)
+    ds = scan_grid(truth, comparison, {"rings.0.c1": [0.3, 0.5], "rings.0.s1": [0.3, 0.1]})
+    assert {"chi2_corrflux", "chi2_diffphi"} <= set(ds.data_vars)
+    assert float(ds["chi2_diffphi"].values[1, 0]) == pytest.approx(0.0, abs=1e-12)
+    assert float(ds["chi2_diffphi"].values[0, 1]) > 1.0
+
+
+def test_start_document_records_the_new_kinds(tmp_path):
+    from diskexplorer.fitting import export_start, read_start, write_start
+    from diskexplorer.fitting.data_description import DataDescription
+
+    scene = lopsided_scene()
+    path = write_oifits(tmp_path / "n.fits", differential_set(scene, noise=1.0))
+    data = DataDescription.from_dict({"oifits": [{"path": str(path)}], "weights": {"diffphi": 0.5}})
+    judged = data.comparison().compare(scene)
+    doc = export_start(scene, free=["rings.0.c1"], data=data, comparison_result=judged)
+    write_start(tmp_path / "start.json", doc)
+    back = read_start(tmp_path / "start.json")
+    assert set(back.judgement["chi2"]) == {"corrflux", "diffphi"}
+    assert back.judgement["weights"]["diffphi"] == 0.5
+    again = back.comparison().compare(back.scene)
+    assert again.weights["diffphi"] == 0.5
+    assert again.total == pytest.approx(back.judgement["total"], rel=1e-9)

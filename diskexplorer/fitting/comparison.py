@@ -7,7 +7,7 @@ from dataclasses import dataclass, field
 import numpy as np
 from scipy import sparse
 
-from ..errors import DataError
+from ..errors import DataError, ParameterError
 from ..observables.observer import Observer
 
 __all__ = ["Comparison", "ComparisonResult", "DATA_KINDS", "KIND_LABELS", "phase_residual",
@@ -224,7 +224,8 @@ class Comparison:
         From :func:`~diskexplorer.data.spectrum.read_spectrum`; samples without an error
         are compared with a 5 % error (common practice for shape comparisons).
     weights : dict, optional
-        Weight per data kind in the total χ² (default 1; ``t3amp`` defaults to 0).
+        Weight per data kind of :data:`DATA_KINDS` in the total χ² (default 1; ``t3amp``
+        defaults to 0); a key that names no kind is refused.
     accuracy : int
         Engine accuracy factor.
     bandpass : bool or dict
@@ -242,6 +243,10 @@ class Comparison:
         self.bandpass = dict(bandpass) if isinstance(bandpass, dict) else bool(bandpass)
         self.photometry = photometry
         self.spectrum = spectrum
+        unknown = sorted(set(weights or {}) - set(DATA_KINDS))
+        if unknown:
+            raise ParameterError(f"Comparison: weights for unknown data kind(s) {', '.join(map(repr, unknown))}; "
+                                 f"known: {', '.join(DATA_KINDS)}")
         self.weights = {"t3amp": 0.0}
         self.weights.update(weights or {})
         obs = observations

@@ -146,6 +146,12 @@ class DataDescription:
             spec = {"path": spec["path"], "wavelength_range": spec.get("wavelength_range"),
                     "a_v": spec.get("a_v"), "r_v": spec.get("r_v", 3.1)}
         weights = dict(d.get("weights") or {})
+        from .comparison import DATA_KINDS
+
+        unknown = sorted(set(weights) - set(DATA_KINDS))
+        if unknown:
+            raise SeedError(f"{where}.weights: unknown data kind(s) {', '.join(map(repr, unknown))}; "
+                            f"known: {', '.join(DATA_KINDS)}")
         return cls(tuple(entries), phot, spec, {k: float(v) for k, v in weights.items()})
 
     def as_dict(self):
