@@ -62,7 +62,9 @@ def derived_rows(scene, t_sub=1500.0, q_r=1.0, aspect_ratio=0.05, alpha=1e-3):
         (r_in of the innermost enabled ring / R_sub) — or None without a star;
         ``scale``: ``au_per_mas``, ``mas_per_au``; ``rings``: one dict per ring (radii in au
         and mas, periods in yr, ``dust_mass`` in M⊕, ``tau_in``/``tau_out`` at 10 µm along
-        the line of sight); ``gaps``: :class:`~diskexplorer.physics.derived.Gap` list.
+        the line of sight); ``gaps``: :class:`~diskexplorer.physics.derived.Gap` list;
+        ``species``: :func:`~diskexplorer.physics.derived.species_sublimation_radii` (each
+        species' optically thin sublimation radius and Q_R for the current star).
 
     Raises
     ------
@@ -95,6 +97,11 @@ def derived_rows(scene, t_sub=1500.0, q_r=1.0, aspect_ratio=0.05, alpha=1e-3):
         out["rings"].append(row)
     if star is not None:
         out["gaps"] = dq.gaps_of(scene, aspect_ratio=aspect_ratio, alpha=alpha)
+    try:
+        out["species"] = dq.species_sublimation_radii(scene)
+    except DiskExplorerError as exc:  # a species whose κ cannot form a Planck mean: say so
+        out["species"] = []
+        out["species_error"] = str(exc)
     return out
 
 
@@ -173,6 +180,26 @@ class DerivedPanel(w.VBox):
         if self._stale:
             self.refresh()
 
+    def _render_species(self, n):
+        """Table of each species' sublimation radius (optically thin equilibrium)."""
+        head = "<div class='dx-section-title'>sublimation radius per species</div>"
+        if n.get("species_error"):
+            return head + f"<div style='color:{OKABE_ITO['vermillion']};font-size:12px'>{html.escape(n['species_error'])}</div>"
+        if not n.get("species"):
+            return head + f"<div style='color:{MUTED};font-size:12px'>no star, or no enabled ring</div>"
+        d = self.state.scene.distance
+        body = "".join(
+            f"<tr><td style='text-align:left;padding:1px 8px'><span style='color:{ring_colour(r['ring'])}'>■</span> "
+            f"{html.escape(r['ring_name'])}</td><td style='text-align:left;padding:1px 8px'>{html.escape(r['species'])}</td>"
+            f"<td {_TD}>{_g(r['t_sub'], 4)}</td><td {_TD}>{_g(r['q_r'])}</td>"
+            f"<td {_TD}><b>{_g(r['r_sub'], 4)}</b></td><td {_TD}>{_g(dq.physical_to_angular(r['r_sub'], d), 4)}</td></tr>"
+            for r in n["species"])
+        cols = ("ring", "species", "T_sub [K]", "Q_R = κ★/κ_P(T_sub)", "R_sub [au]", "[mas]")
+        return (head + f"<table class='dx-derived-species' style='{_TABLE}'><tr>"
+                + "".join(f"<th {_TH}>{h}</th>" for h in cols) + "</tr>" + body + "</table>"
+                + f"<div style='font-size:11px;color:{MUTED}'>optically thin grains in the star's direct light: "
+                  "σT⁴κ_P(T) = L★κ★/(16πr²); a thick inner rim would shadow grains behind it</div>")
+
     def render(self, n):
         """HTML of :func:`derived_rows` output."""
         st = self.state
@@ -211,6 +238,7 @@ class DerivedPanel(w.VBox):
                      + "".join(f"<th {_TH}>{h}</th>" for h in head) + "</tr>" + "".join(body) + "</table>")
         parts.append(f"<div style='font-size:11px;color:{MUTED}'>τ along the line of sight (vertical τ / cos i, "
                      f"i = {_g(st.scene.inclination, 3)}°); dust masses from the model's Σ(r) whatever its opacity</div>")
+        parts.append(self._render_species(n))
         parts.append("<div class='dx-section-title'>gaps read as planets</div>")
         if not n["gaps"]:
             parts.append(f"<div style='color:{MUTED};font-size:12px'>no gap between enabled rings</div>")

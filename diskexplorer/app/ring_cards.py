@@ -10,12 +10,15 @@ import ipywidgets as w
 from ..physics.parameters import ParameterSpec, parameter_specs
 from ..physics.ring import MODULATION_AMPLITUDE_SPEC as AMPLITUDE_SPEC
 from ..physics.ring import MODULATION_ANGLE_SPEC as ANGLE_SPEC
-from ..physics.ring import Ring
+from ..physics.ring import SUBLIMATION_TEMPERATURE_SPEC, Ring
 from .controls import ParamControl, _guarded
 from .palette import MUTED, ring_colour
 
-__all__ = ["RingDeck", "RingCard", "MixtureEditor", "renormalise", "NORMALISATION_NOTE", "AMPLITUDE_SPEC",
-           "ANGLE_SPEC"]
+__all__ = ["RingDeck", "RingCard", "MixtureEditor", "TemperatureEditor", "renormalise", "NORMALISATION_NOTE",
+           "AMPLITUDE_SPEC", "ANGLE_SPEC", "TEMPERATURE_MODE_OPTIONS"]
+
+#: The ring card's temperature switch: (label, Ring.temperature_mode).
+TEMPERATURE_MODE_OPTIONS = [("power law", "power_law"), ("equilibrium", "equilibrium")]
 
 #: The modulation is declared as (c1, s1); the cards show it as amplitude and angle, whose
 #: ranges follow from that declaration: √(c1² + s1²) ≤ max |c1|, angle a full turn.
@@ -221,6 +224,105 @@ class MixtureEditor(w.VBox):
         self._callback(self.current())
 
 
+class TemperatureEditor(w.VBox):
+    """A ring's temperature mode, its inner edge and its species' sublimation temperatures.
+
+    Parameters
+    ----------
+    on_edit : callable
+        ``on_edit(**changes)`` with Ring fields (``temperature_mode``, ``inner_edge``,
+        ``sublimation``).
+    say : callable, optional
+        Shows a message (why a switch was refused).
+    """
+
+    def __init__(self, on_edit, say=None):
+        self._on_edit = on_edit
+        self._say = say
+        self._star = None
+        self._quiet = False
+        self._species = ()
+        self._sublimation = {}
+        self.mode = w.ToggleButtons(options=TEMPERATURE_MODE_OPTIONS, value="power_law",
+                                    tooltips=["T = T_in (r/r_in)^-q for every grain",
+                                              "each species in radiative equilibrium with the star's light "
+                                              "(optically thin)"],
+                                    style={"button_width": "110px"})
+        self.mode.add_class("dx-ring-temperature-mode")
+        self.mode.observe(self._on_mode, "value")
+        self.follow = w.Checkbox(value=False, description="inner edge at the sublimation front", indent=False)
+        self.follow.add_class("dx-ring-follow-front")
+        self.follow.observe(self._on_follow, "value")
+        self.front = w.HTML()
+        self.sublimation_box = w.VBox()
+        self.controls = {}
+        self.equilibrium_box = w.VBox([w.HBox([self.follow, self.front]), self.sublimation_box])
+        super().__init__([self.mode, self.equilibrium_box])
+
+    def _on_mode(self, change):
+        if self._quiet:
+            return
+        if change["new"] == "power_law":
+            self._on_edit(temperature_mode="power_law", inner_edge="fixed")
+        elif self._star is None:
+            # Equilibrium temperatures come from the star's light: refuse rather than fail later.
+            self._quiet = True
+            self.mode.value = change["old"]
+            self._quiet = False
+            if self._say is not None:
+                self._say("equilibrium temperatures need a star: the scene has none")
+        else:
+            self._on_edit(temperature_mode="equilibrium")
+
+    def _on_follow(self, change):
+        if not self._quiet:
+            self._on_edit(inner_edge="sublimation" if change["new"] else "fixed")
+
+    def _on_sublimation(self, name, value):
+        if not self._quiet:
+            self._on_edit(sublimation={**self._sublimation, name: float(value)})
+
+    def sync(self, ring, star):
+        """Show ``ring`` (its front computed for ``star``, which may be None)."""
+        self._star = star
+        self._quiet = True
+        try:
+            self.mode.value = ring.temperature_mode
+            self.follow.value = ring.inner_edge == "sublimation"
+            self._sublimation = dict(ring.sublimation)
+            equilibrium = ring.is_equilibrium
+            self.equilibrium_box.layout.display = None if equilibrium else "none"
+            if not equilibrium:
+                return
+            t_sub = ring.sublimation_temperatures()
+            names = tuple(t_sub)
+            if names != self._species:
+                self._species = names
+                self.controls = {
+                    name: ParamControl(replace(SUBLIMATION_TEMPERATURE_SPEC, label=f"T_sub {name}",
+                                               description=f"sublimation temperature of {name}"),
+                                       t_sub[name], (lambda n: lambda v: self._on_sublimation(n, v))(name),
+                                       css="dx-ring-sublimation")
+                    for name in names}
+                self.sublimation_box.children = list(self.controls.values())
+            for name, c in self.controls.items():
+                c.set_value(t_sub[name])
+            self.front.value = _front_text(ring, star)
+        finally:
+            self._quiet = False
+
+
+def _front_text(ring, star):
+    if star is None:
+        return f"<span style='color:{MUTED};font-size:11px'>no star: no sublimation front</span>"
+    try:
+        front = ring.sublimation_front(star)
+    except Exception as exc:  # an unusable opacity: say why, keep the card working
+        return f"<span style='color:{MUTED};font-size:11px'>front: {html.escape(str(exc))}</span>"
+    where = "" if front < ring.r_out else " (beyond r_out: the ring is empty)"
+    return f"<span style='color:{MUTED};font-size:11px'>front at {front:.4g} au{where}</span>"
+
+
 class RingCard(w.VBox):
     """Controls of one ring: header (name, enable, duplicate, remove) and its parameters."""
 
@@ -249,7 +351,13 @@ class RingCard(w.VBox):
         self.angle = ParamControl(ANGLE_SPEC, ring.modulation_angle, lambda v: self._modulate(), css="dx-ring-angle")
         self.mixture = MixtureEditor(ring.dust, lambda dust: self._edit(dust=dust), say=state.say)
         dust_box = w.Accordion([self.mixture], titles=("dust mixture",), selected_index=None)
-        super().__init__([header] + list(self.controls.values()) + [self.amplitude, self.angle, dust_box])
+        self.temperature = TemperatureEditor(lambda **changes: self._edit(**changes), say=state.say)
+        # T_in and q sit in a box of their own, hidden for an equilibrium ring (a control's
+        # layout may be shared with others, so it is not the one to hide).
+        c = self.controls
+        self.power_law_box = w.VBox([c["t_in"], c["q"]])
+        super().__init__([header, self.temperature, c["r_in"], c["r_out"], self.power_law_box, c["sigma_in"], c["p"],
+                          self.amplitude, self.angle, dust_box])
         self.add_class("dx-ring-card")
         self.sync(index, ring)
 
@@ -275,6 +383,12 @@ class RingCard(w.VBox):
             self.enabled.value = ring.enabled
         for name, c in self.controls.items():
             c.set_value(getattr(ring, name))
+        # An equilibrium ring takes no T_in or q, and follows its front instead of r_in.
+        self.power_law_box.layout.display = "none" if ring.is_equilibrium else None
+        following = ring.inner_edge == "sublimation"
+        self.controls["r_in"].slider.disabled = following
+        self.controls["r_in"].number.disabled = following
+        self.temperature.sync(ring, self.deck.state.scene.star)
         # Angle is undefined at zero amplitude: keep the one shown.
         if not math.isclose(self.amplitude.value, ring.modulation_amplitude, abs_tol=1e-9):
             self.amplitude.set_value(ring.modulation_amplitude)

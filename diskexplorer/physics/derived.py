@@ -21,7 +21,7 @@ __all__ = [
     "sublimation_radius", "angular_to_physical", "physical_to_angular", "keplerian_period",
     "dust_mass", "optical_depth_at", "gap_width", "gap_mass_ratio", "gap_planet_mass",
     "kanagawa_validity", "gaps_of", "Gap", "GapRelationWarning", "KANAGAWA_COEFFICIENT",
-    "KANAGAWA_RANGE",
+    "KANAGAWA_RANGE", "species_sublimation_radii",
 ]
 
 # Taken from astropy like the hot-path constants (constants.py has no Jupiter mass or year).
@@ -117,6 +117,43 @@ def sublimation_radius(luminosity_lsun, t_sub=1500.0, q_r=1.0, *, epsilon=None, 
 
 
 # ------------------------------------------------------------------------------ scales
+def species_sublimation_radii(scene, enabled_only=True):
+    """Each dust species' optically thin sublimation radius around the scene's star.
+
+    Parameters
+    ----------
+    scene : Scene
+    enabled_only : bool
+        Skip disabled rings.
+
+    Returns
+    -------
+    list of dict
+        One per species of each ring (black rings count as one grey species):
+        ``ring`` (index), ``ring_name``, ``species``, ``t_sub`` (K: the ring's value),
+        ``q_r`` = κ_*/κ_P(T_sub), ``r_sub`` (au) — R_s = √(Q_R L★/(16πσT_sub⁴)), the radius
+        where the species' equilibrium temperature reaches T_sub, whatever the ring's own
+        temperature mode. Empty without a star.
+    """
+    from .equilibrium import planck_mean, stellar_mean
+
+    star = scene.star
+    if star is None:
+        return []
+    out = []
+    for k, ring in enumerate(scene.rings):
+        if enabled_only and not ring.enabled:
+            continue
+        t_sub = ring.sublimation_temperatures()
+        radii = ring.sublimation_radii(star)
+        for part in ring.species():
+            q_r = 1.0 if part.opacity is None else (stellar_mean(part.opacity, star)
+                                                    / float(planck_mean(part.opacity, t_sub[part.name])))
+            out.append({"ring": k, "ring_name": ring.name, "species": part.name, "t_sub": t_sub[part.name],
+                        "q_r": q_r, "r_sub": radii[part.name]})
+    return out
+
+
 def angular_to_physical(theta_mas, distance_pc):
     """Projected size in au of an angle ``theta_mas`` (mas) at ``distance_pc`` (pc).
 

@@ -34,6 +34,12 @@ class ProfilesFigure:
                              f"dx-fig-profile-{key}", height="250px")
             self.parts[key] = {"line": line, "pin_line": pin_line, "figure": fig, "ax": ax}
             figs.append(fig)
+        # Each species of an equilibrium ring at its own temperature (dash-dotted, ring colour).
+        temp = self.parts["temperature"]
+        sx, sy = temp["line"].scales["x"], temp["line"].scales["y"]
+        self.species_lines = bq.Lines(x=EMPTY, y=EMPTY, scales={"x": sx, "y": sy}, stroke_width=1.4,
+                                      line_style="dash_dotted", display_legend=True, visible=False)
+        temp["figure"].marks = [temp["pin_line"], self.species_lines, temp["line"]]
         self.widget = w.HBox(figs, layout={"width": "100%"})
         self._pins = []
         self._wavelength = 10.0
@@ -54,12 +60,33 @@ class ProfilesFigure:
                 continue
             y = np.where(np.isfinite(y) & (y > 0), y, np.nan)
             assign(part["line"], x=r, y=y, colors=colours, labels=labels)
+        self._draw_species(frame.scene, r, labels)
         assign(self.parts["intensity"]["figure"],
                title=f"brightness at {prof['intensity'].attrs.get('wavelength_um', 0):.3g} µm")
         wavelength = float(prof["intensity"].attrs.get("wavelength_um", self._wavelength))
         if wavelength != self._wavelength:
             self._wavelength = wavelength
             self._draw_pins()
+
+    def _draw_species(self, scene, r, labels):
+        """One temperature line per species of each equilibrium ring, NaN where it is absent."""
+        xs, ys, cols, names = [], [], [], []
+        for k, ring in enumerate(scene.rings):
+            if not ring.is_equilibrium or scene.star is None:
+                continue
+            edge = ring.resolved(scene.star)
+            if edge is None:
+                continue
+            inside = (r >= edge.r_in) & (r <= edge.r_out)
+            for species, t in scene.dust_temperature(k, r).items():
+                xs.append(r)
+                ys.append(np.where(inside, t, np.nan))
+                cols.append(ring_colour(k))
+                names.append(f"{labels[k]}: {species}")
+        if xs:
+            assign(self.species_lines, x=np.vstack(xs), y=np.vstack(ys), colors=cols, labels=names, visible=True)
+        else:
+            assign(self.species_lines, x=EMPTY, y=EMPTY, visible=False)
 
     def update_pins(self, pins):
         """Each pin's ring profiles, dashed in the pin's colour (``pins``: (name, colour, frame))."""
@@ -149,7 +176,10 @@ class ImageFigure:
         assign(self.colour, min=-4.0, max=0.0)
         edges = img.attrs.get("ring_edges_mas", [])
         xs, ys, cols = [], [], []
-        enabled = [k for k, r in enumerate(scene.rings) if r.enabled]
+        # The image lists the rings it drew: enabled ones, less any whose sublimation front
+        # lies beyond its outer radius (empty).
+        enabled = [k for k, r in enumerate(scene.rings)
+                   if r.enabled and (r.inner_edge == "fixed" or r.resolved(scene.star) is not None)]
         for k, (lo, hi) in zip(enabled, edges):
             for rad in (lo, hi):
                 ox, oy = ring_outline(rad, scene.inclination, scene.position_angle)
