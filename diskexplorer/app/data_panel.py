@@ -6,6 +6,8 @@ a failed load changes nothing.
 """
 from __future__ import annotations
 
+import dataclasses
+
 import html
 import math
 import tempfile
@@ -88,7 +90,7 @@ def load_into_state(state, kind, paths, add=False):
 class DataSetRow(w.VBox):
     """One loaded data set in the data tab: file, kind, points, warnings and a remove button."""
 
-    def __init__(self, data_set, on_remove):
+    def __init__(self, data_set, on_remove, on_bandpass=None):
         self.data_set = data_set
         d = data_set
         title = html.escape(d.source or "given in memory", quote=True)
@@ -101,7 +103,20 @@ class DataSetRow(w.VBox):
         self.remove_button.on_click(lambda b: on_remove(self.data_set))
         self.warnings = w.HTML("".join(f"<div style='font-size:11px;color:{WARNING_COLOUR}'>⚠ {html.escape(x)}</div>"
                                        for x in d.warnings))
-        super().__init__([w.HBox([self.text, self.remove_button]), self.warnings])
+        line = [self.text, self.remove_button]
+        self.bandpass = None
+        if d.kind == "oifits":
+            # Channels of low spectral resolution smear V², closure and differential phases;
+            # switching it off compares the model at the channel centres (faster, and what
+            # a file without meaningful EFF_BAND needs).
+            self.bandpass = w.Checkbox(value=bool(d.bandpass), description="channel bandpass", indent=False,
+                                       tooltip="average the model over each channel's EFF_BAND",
+                                       layout={"width": "140px"})
+            self.bandpass.add_class("dx-bandpass")
+            if on_bandpass is not None:
+                self.bandpass.observe(lambda ch: on_bandpass(self.data_set, bool(ch["new"])), "value")
+            line.insert(1, self.bandpass)
+        super().__init__([w.HBox(line), self.warnings])
         self.add_class("dx-data-set")
 
 
@@ -231,6 +246,22 @@ class DataPanel(w.VBox):
         self.state.say(f"removed {gone.kind_label}: {gone.label}" + ("" if left else "; no data loaded: no χ²"))
         return True
 
+    def set_bandpass(self, data_set, on):
+        """Average the model of ``data_set`` (held, or its index) over its channels, or not."""
+        held = list(self.state.data_sets)
+        index = data_set if isinstance(data_set, int) else next(
+            (k for k, d in enumerate(held) if d is data_set), None)
+        if index is None or not 0 <= index < len(held) or held[index].kind != "oifits":
+            return False
+        old = held[index]
+        if old.bandpass == bool(on):
+            return False
+        held[index] = dataclasses.replace(old, bandpass=bool(on))
+        self.state.set_data_sets(held)
+        self.state.say(f"{old.label}: model " + ("averaged over each channel's EFF_BAND" if on
+                                                 else "at the channel centres (bandpass off)"))
+        return True
+
     def remove_all(self):
         """Remove every data set."""
         if not self.state.data_sets:
@@ -258,7 +289,7 @@ class DataPanel(w.VBox):
         """List the data sets; offer the bands, instruments and baseline range present in the data."""
         st = self.state
         if tuple(getattr(r, "data_set", None) for r in self.rows.children) != tuple(st.data_sets):
-            self.rows.children = [DataSetRow(d, self.remove) for d in st.data_sets] or [
+            self.rows.children = [DataSetRow(d, self.remove, self.set_bandpass) for d in st.data_sets] or [
                 w.HTML(f"<div style='font-size:12px;color:{MUTED}'>none: load files or a folder above</div>")]
         self.clear_button.disabled = not st.data_sets
         obs = st.observations

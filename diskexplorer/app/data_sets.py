@@ -18,7 +18,7 @@ from ..errors import DataError, DiskExplorerError
 from .workdir import resolve_user_path
 
 __all__ = ["DataSet", "read_data_set", "read_data_sets", "data_sets_from", "combine_data_sets",
-           "DATA_SET_KINDS", "SINGLE_KINDS"]
+           "bandpass_choice", "DATA_SET_KINDS", "SINGLE_KINDS"]
 
 #: The kinds of data set, in the order they are listed.
 DATA_SET_KINDS = ("oifits", "photometry", "spectrum")
@@ -46,6 +46,10 @@ class DataSet:
     warnings : tuple of str
         What the reader warned about (e.g. wavelengths in reversed order), one line each,
         without the file name the reader puts first.
+    bandpass : bool
+        OIFITS only: whether the model of its points is averaged over each channel's
+        EFF_BAND (True, the default) or taken at the channel centre (False); see
+        :func:`bandpass_choice`.
 
     Notes
     -----
@@ -57,6 +61,7 @@ class DataSet:
     source: str = ""
     label: str = ""
     warnings: tuple = ()
+    bandpass: bool = True
 
     def __post_init__(self):
         if self.kind not in DATA_SET_KINDS:
@@ -348,3 +353,16 @@ def combine_data_sets(data_sets):
                 sources[d.kind] = d.source
     out["data_sources"] = sources
     return out
+
+
+def bandpass_choice(data_sets):
+    """The channel-bandpass choice of ``data_sets`` as :class:`~diskexplorer.fitting.Comparison` takes it.
+
+    Returns
+    -------
+    True or dict
+        True when every OIFITS data set averages over its channels; otherwise
+        ``{file: False}`` for the files (the points' ``file`` coordinate) of those that do not.
+    """
+    off = {f: False for d in data_sets if d.kind == "oifits" and not d.bandpass for f in d.data.files}
+    return off or True

@@ -56,6 +56,11 @@ class DataView:
     t3 : dict or None
         ``freq`` (largest spatial frequency of the triangle, Mλ), ``wavelength``, ``value``,
         ``error`` (degrees).
+    visamp, corrflux, diffphi : dict or None
+        OI_VIS points of AMPTYP "absolute" (|V|), "correlated flux" (Jy) and PHITYP
+        "differential" (degrees): as ``vis2`` plus ``index``, their positions among the
+        OI_VIS points (the alignment of the comparison's arrays). ``diffphi`` has
+        ``freq`` = wavelength (µm): differential phases are read along the spectrum.
     baselines : list of dict
         Up to :data:`MAX_BASELINES` baselines for correlated-flux spectra: ``index`` (V²
         points of that baseline, sorted by wavelength), ``length`` (m), ``label``.
@@ -66,13 +71,14 @@ class DataView:
     """
 
     def __init__(self, observations=None, photometry=None, spectrum=None, *, bands=(), instruments=(),
-                 baseline_range=(0.0, math.inf)):
+                 baseline_range=(0.0, math.inf), bandpass=True):
         obs = filter_observations(observations, bands, instruments, baseline_range)
         self.observations = obs
         self.photometry = photometry
         self.spectrum = spectrum
-        self.comparison = Comparison(obs, photometry, spectrum)
+        self.comparison = Comparison(obs, photometry, spectrum, bandpass=bandpass)
         self.vis2 = self.t3 = None
+        self.visamp = self.corrflux = self.diffphi = None
         self.baselines = []
         self.curve_wavelengths = np.array([2.2, 10.0])
         self.freq_max = 60.0
@@ -96,10 +102,24 @@ class DataView:
                        "error": ds["t3phi_err"].values}
             self.freq_max = max(self.freq_max if self.vis2 is not None else 0.0, float(np.max(longest / wl)))
 
+        if obs is not None and _has(obs.vis):
+            ds = obs.vis
+            wl = ds["wavelength"].values
+            freq = np.hypot(ds["u"].values, ds["v"].values) / wl
+            for name, typ, value, column in (("visamp", "amptyp", "absolute", "visamp"),
+                                             ("corrflux", "amptyp", "correlated flux", "visamp"),
+                                             ("diffphi", "phityp", "differential", "visphi")):
+                index = np.flatnonzero(np.asarray(ds[typ].values).astype(str) == value)
+                if index.size:
+                    setattr(self, name, {"freq": (wl if name == "diffphi" else freq)[index], "wavelength": wl[index],
+                                         "value": ds[column].values[index], "error": ds[f"{column}_err"].values[index],
+                                         "index": index})
+
     @property
     def wavelength_range(self):
         """(min, max) wavelength of the interferometric data, µm."""
-        parts = [d["wavelength"] for d in (self.vis2, self.t3) if d is not None]
+        parts = [d["wavelength"] for d in (self.vis2, self.t3, self.visamp, self.corrflux, self.diffphi)
+                 if d is not None]
         if not parts:
             return (1.5, 13.0)
         w = np.concatenate(parts)

@@ -11,13 +11,13 @@ import numpy as np
 from ..physics.parameters import ParameterSpec
 from .controls import ExtendedPanel, GeometryPanel, ParamControl, StarPanel
 from .data_panel import DataPanel
-from .data_sets import data_sets_from
+from .data_sets import bandpass_choice, data_sets_from
 from .data_view import DataView
 from .debounce import Debouncer
 from .derived_panel import DerivedPanel
 from .export_panel import ExportPanel
-from .figures import (Chi2Table, ClosureFigure, CorrelatedFluxFigure, ImageFigure, ProfilesFigure,
-                      SedFigure, SpectrumFigure, Vis2Figure)
+from .figures import (Chi2Table, ClosureFigure, CorrelatedFluxFigure, CorrFluxPointsFigure, DiffPhaseFigure,
+                      ImageFigure, ProfilesFigure, SedFigure, SpectrumFigure, VisAmpFigure, Vis2Figure)
 from .model_views import image, profiles, sed_curves, vis2_curve
 from .palette import ACCENT, INK, MUTED, PAPER
 from .pins import PinBoard, pin_colour
@@ -132,7 +132,8 @@ class Explorer(w.VBox):
 
         # figures
         self.figures = {"sed": SedFigure(), "spectrum": SpectrumFigure(), "vis2": Vis2Figure(),
-                        "t3": ClosureFigure(), "corrflux": CorrelatedFluxFigure(),
+                        "t3": ClosureFigure(), "visamp": VisAmpFigure(), "corrflux_data": CorrFluxPointsFigure(),
+                        "diffphi": DiffPhaseFigure(), "corrflux": CorrelatedFluxFigure(),
                         "profiles": ProfilesFigure(), "image": ImageFigure()}
         self.chi2 = Chi2Table()
 
@@ -186,8 +187,9 @@ class Explorer(w.VBox):
                          titles=("model", "data", "pins & session"))
         controls.layout = {"width": "400px", "min_width": "400px"}
         controls.add_class("dx-controls")
+        # |V|, correlated-flux and differential-phase figures show only when the data hold them.
         inter = w.VBox([w.HBox([self.curve_pa, self.toggles["log_vis2"]]), f["vis2"].widget, f["t3"].widget,
-                        f["corrflux"].widget])
+                        f["visamp"].widget, f["corrflux_data"].widget, f["diffphi"].widget, f["corrflux"].widget])
         spectra = w.VBox([w.HBox([self.toggles["log_sed_x"], self.toggles["log_sed_y"]]), f["sed"].widget,
                           f["spectrum"].widget])
         structure = w.VBox([w.HBox([w.HTML("<b>image</b>", layout={"width": "50px"}), self.image_wl]),
@@ -258,7 +260,8 @@ class Explorer(w.VBox):
         f = self.figures
         if "data" in tiers:
             self.view = DataView(st.observations, st.photometry, st.spectrum, bands=st.band_filter,
-                                 instruments=st.instrument_filter, baseline_range=st.baseline_range)
+                                 instruments=st.instrument_filter, baseline_range=st.baseline_range,
+                                 bandpass=bandpass_choice(st.data_sets))
             self._data_generation += 1
             self._pin_cache.clear()
             for fig in f.values():

@@ -90,7 +90,7 @@ def describe_state_data(state, weights=None):
     state : ExplorerState
         Its ``data_sources`` name the files; ``band_filter``, ``instrument_filter`` and
         ``baseline_range`` become each OIFITS entry's ``bands``, ``instruments`` and
-        ``baseline_range``.
+        ``baseline_range``, and each data set's channel-bandpass switch its ``bandpass``.
     weights : dict, optional
         Weight per data kind.
 
@@ -104,8 +104,11 @@ def describe_state_data(state, weights=None):
     notes = []
     lo, hi = state.baseline_range
     baselines = [lo, hi if math.isfinite(hi) else None] if (lo > 0 or math.isfinite(hi)) else None
+    # The channel-bandpass switch of each file's row in the data tab.
+    bandpass = {d.source: bool(d.bandpass) for d in getattr(state, "data_sets", ()) if d.kind == "oifits"}
     oifits = [{"path": str(p), "bands": list(state.band_filter) or None,
-               "instruments": list(state.instrument_filter) or None, "baseline_range": baselines}
+               "instruments": list(state.instrument_filter) or None, "baseline_range": baselines,
+               "bandpass": bandpass.get(str(p), True)}
               for p in src.get("oifits", []) or []]
     d = {"oifits": oifits, "photometry": src.get("photometry"), "spectrum": src.get("spectrum"),
          "weights": dict(weights or {})}

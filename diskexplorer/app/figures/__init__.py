@@ -1,8 +1,9 @@
 """bqplot figures of the explorer; each has update_data / update_model / update_pins / apply_style."""
 from .chi2 import Chi2Table
-from .interferometry import ClosureFigure, CorrelatedFluxFigure, Vis2Figure
+from .interferometry import (ClosureFigure, CorrelatedFluxFigure, CorrFluxPointsFigure, DiffPhaseFigure,
+                             VisAmpFigure, Vis2Figure)
 from .sed import SedFigure, SpectrumFigure
 from .structure import ImageFigure, ProfilesFigure
 
-__all__ = ["SedFigure", "SpectrumFigure", "Vis2Figure", "ClosureFigure", "CorrelatedFluxFigure",
-           "ProfilesFigure", "ImageFigure", "Chi2Table"]
+__all__ = ["SedFigure", "SpectrumFigure", "Vis2Figure", "ClosureFigure", "VisAmpFigure", "CorrFluxPointsFigure",
+           "DiffPhaseFigure", "CorrelatedFluxFigure", "ProfilesFigure", "ImageFigure", "Chi2Table"]

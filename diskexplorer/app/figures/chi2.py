@@ -11,6 +11,7 @@ from ..palette import INK, MUTED
 __all__ = ["Chi2Table", "chi2_rows"]
 
 _NAMES = {"vis2": "V²", "t3phi": "closure phase", "t3amp": "triple amplitude", "visamp": "|V|",
+          "corrflux": "correlated flux", "diffphi": "differential phase",
           "photometry": "photometry", "spectrum": "spectrum", "flux": "OI_FLUX"}
 
 
@@ -30,7 +31,7 @@ def _fmt(x):
 
 
 class Chi2Table:
-    """An HTML table: data set, N, χ²/N of the live model, χ²/N of each pin."""
+    """An HTML table: data set, N, χ², χ²/N and weight of the live model, χ²/N of each pin."""
 
     def __init__(self):
         self.widget = w.HTML(layout={"width": "100%"})
@@ -46,13 +47,20 @@ class Chi2Table:
         rows = chi2_rows(self.live)
         pin_rows = [(name, colour, {r[0]: r for r in chi2_rows(res)}) for name, colour, res in self.pins]
         head = "".join(f"<th style='color:{c}'>{html.escape(n)}<br>χ²/N</th>" for n, c, _ in pin_rows)
-        body = []
+        body, left_out = [], []
         for label, n, c, red, weight in rows:
             bold = "font-weight:600;border-top:1px solid #ccc" if label == "total" else ""
-            note = " <span style='color:#999'>(weight 0)</span>" if weight == 0 else ""
+            # A weight-0 kind is listed greyed, its weight cell says so, and a note under
+            # the table names it: its χ² is not in the total.
+            faded = f";color:{MUTED}" if weight == 0 else ""
+            if weight == 0:
+                left_out.append(label)
+            w_cell = "" if weight is None else ("0 (not in total)" if weight == 0 else f"{weight:g}")
             pins = "".join(f"<td>{_fmt(pr.get(label, (0, 0, 0, np.nan))[3])}</td>" for _, _, pr in pin_rows)
-            body.append(f"<tr style='{bold}'><td>{label}{note}</td><td>{n:,}</td><td>{_fmt(c)}</td>"
-                        f"<td>{_fmt(red)}</td>{pins}</tr>")
+            body.append(f"<tr style='{bold}{faded}'><td>{label}</td><td>{n:,}</td><td>{_fmt(c)}</td>"
+                        f"<td>{_fmt(red)}</td><td>{w_cell}</td>{pins}</tr>")
+        note = (f"<div style='color:{MUTED};font-size:11px'>weight 0, left out of the total: "
+                f"{html.escape(', '.join(left_out))}</div>" if left_out else "")
         # Numbers right-aligned with room between columns: a large χ² must never run
         # into its neighbours.
         self.widget.value = (
@@ -60,8 +68,8 @@ class Chi2Table:
             " .dx-chi2-table td:first-child, .dx-chi2-table th:first-child {padding-left: 0; text-align: left}"
             "</style>"
             f"<table class='dx-chi2-table' style='border-collapse:collapse;font-size:12px;color:{INK}'>"
-            f"<tr><th style='text-align:left'>data</th><th>N</th><th>χ²</th><th>χ²/N</th>{head}</tr>"
-            + "".join(body) + "</table>")
+            f"<tr><th style='text-align:left'>data</th><th>N</th><th>χ²</th><th>χ²/N</th><th>weight</th>{head}</tr>"
+            + "".join(body) + "</table>" + note)
 
     def update_model(self, result):
         """Show the live ComparisonResult (or None)."""

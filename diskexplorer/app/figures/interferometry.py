@@ -1,4 +1,5 @@
-"""Interferometric figures: V² and closure phases with residuals, correlated-flux spectra."""
+"""Interferometric figures: V², closure phases, |V|, correlated fluxes and differential phases
+with residuals, and model correlated-flux spectra."""
 from __future__ import annotations
 
 import bqplot as bq
@@ -8,7 +9,8 @@ import numpy as np
 from ..palette import INK, MUTED, OKABE_ITO, RING_COLOURS, WAVELENGTH_SCHEME
 from .base import EMPTY, assign, axis, error_segments, grouped_ticks, new_figure, swap_scale, tick_segments
 
-__all__ = ["Vis2Figure", "ClosureFigure", "CorrelatedFluxFigure", "wavelength_colours", "wavelength_position"]
+__all__ = ["Vis2Figure", "ClosureFigure", "VisAmpFigure", "CorrFluxPointsFigure", "DiffPhaseFigure",
+           "CorrelatedFluxFigure", "wavelength_colours", "wavelength_position"]
 
 
 def wavelength_position(wavelength, lo, hi):
@@ -37,6 +39,7 @@ class _PointsFigure:
 
     title = ""
     ylabel = ""
+    xlabel = "spatial frequency B/λ [Mλ]"
     css = ""
     kind = ""
 
@@ -59,7 +62,7 @@ class _PointsFigure:
         self.pin_marks = bq.Lines(x=EMPTY, y=EMPTY, scales={"x": self.sx, "y": self.sy},
                                   colors=[OKABE_ITO["reddish_purple"]], stroke_width=2.4, visible=False,
                                   opacities=[0.45])
-        self.ax = axis(self.sx, "spatial frequency B/λ [Mλ]")
+        self.ax = axis(self.sx, self.xlabel)
         self.ay = axis(self.sy, self.ylabel, "vertical")
         # The wavelength key is written into the title: bqplot 0.13 draws a colour axis in
         # this layout as a few pixels wide, unreadable.
@@ -74,25 +77,35 @@ class _PointsFigure:
                                   colors=wavelength_colours(np.linspace(0, 1, RESIDUAL_BINS), 0, 1))
         self.zero = bq.Lines(x=[0.0, 1.0], y=[0.0, 0.0], scales={"x": self.rx, "y": self.ry}, colors=[MUTED],
                              line_style="dashed")
-        self.rax = axis(self.rx, "spatial frequency B/λ [Mλ]")
+        self.rax = axis(self.rx, self.xlabel)
         self.residual_figure = new_figure(f"{self.title} residuals", [self.zero, self.residuals],
                                           [self.rax, axis(self.ry, "(data − model)/σ", "vertical")],
                                           self.css + "-residuals", height="200px")
         self.widget = w.VBox([self.figure, self.residual_figure], layout={"width": "100%"})
         self._points = None
         self._shown = slice(None)
+        self._rows = slice(None)   # the drawn points' positions in the comparison's arrays
 
     def _build_extra(self, scales):
         pass
 
+    #: Hide the figure (and its residuals) while the data hold no point of its kind.
+    hide_without_data = False
+
     def update_data(self, view):
         """Draw this kind's points of ``view`` (a DataView)."""
         pts = getattr(view, self.kind)
+        if self.hide_without_data:
+            display = "none" if pts is None else ""
+            if self.widget.layout.display != display:
+                self.widget.layout.display = display
         if pts is not None:
             n = pts["freq"].size
             # An even stride keeps every baseline and wavelength represented.
             self._shown = np.arange(0, n, int(np.ceil(n / MAX_DRAWN))) if n > MAX_DRAWN else slice(None)
             pts = {k: v[self._shown] for k, v in pts.items()}
+            # OI_VIS kinds are a subset of the OI_VIS points; the others are the whole kind.
+            self._rows = pts["index"] if "index" in pts else self._shown
             title = self.title if n <= MAX_DRAWN else f"{self.title} (drawn: {pts['freq'].size:,} of {n:,} points)"
             lo, hi = view.wavelength_range
             assign(self.figure, title=f"{title} — colour: λ from {lo:.3g} µm (purple) to {hi:.3g} µm (red)")
@@ -111,11 +124,15 @@ class _PointsFigure:
         ex, ey = error_segments(pts["freq"], pts["value"], pts["error"])
         assign(self.errors, x=ex, y=ey)
         assign(self.data, x=pts["freq"], y=pts["value"], color=f)
-        fmax = float(np.max(pts["freq"])) * 1.05
-        self._tick = 0.004 * fmax
-        assign(self.sx, min=0.0, max=fmax)
-        assign(self.rx, min=0.0, max=fmax)
-        assign(self.zero, x=np.array([0.0, fmax]))
+        fmin, fmax = self._x_range(pts["freq"])
+        self._tick = 0.004 * (fmax - fmin)
+        assign(self.sx, min=fmin, max=fmax)
+        assign(self.rx, min=fmin, max=fmax)
+        assign(self.zero, x=np.array([fmin, fmax]))
+
+    def _x_range(self, x):
+        """The x axis range for points at ``x``: from 0 (spatial frequencies)."""
+        return 0.0, float(np.max(x)) * 1.05
 
     def update_model(self, frame):
         """Draw the model at the data points and the residuals."""
@@ -125,9 +142,9 @@ class _PointsFigure:
             assign(self.residuals, x=EMPTY, y=EMPTY)
             return
         pts = self._points
-        mx, my = tick_segments(pts["freq"], np.asarray(result.model[self.model_key])[self._shown], self._tick)
+        mx, my = tick_segments(pts["freq"], np.asarray(result.model[self.model_key])[self._rows], self._tick)
         assign(self.model, x=mx, y=my)
-        r = np.asarray(result.residuals[self.model_key])[self._shown]
+        r = np.asarray(result.residuals[self.model_key])[self._rows]
         rx, ry = grouped_ticks(pts["freq"], r, self._bin, RESIDUAL_BINS, self._tick)
         assign(self.residuals, x=rx, y=ry)
 
@@ -137,7 +154,10 @@ class _PointsFigure:
             assign(self.pin_marks, visible=False)
             return
         name, colour, f = pins[0]
-        px, py = tick_segments(self._points["freq"], np.asarray(f.result.model[self.model_key])[self._shown],
+        if self.model_key not in f.result.model:
+            assign(self.pin_marks, visible=False)
+            return
+        px, py = tick_segments(self._points["freq"], np.asarray(f.result.model[self.model_key])[self._rows],
                                self._tick)
         assign(self.pin_marks, x=px, y=py, colors=[colour], visible=True)
 
@@ -205,6 +225,58 @@ class ClosureFigure(_PointsFigure):
 
     def apply_style(self, state):
         """Closure phases are always on a linear axis."""
+
+
+class VisAmpFigure(_PointsFigure):
+    """Normalised visibility amplitudes |V| (OI_VIS, AMPTYP "absolute") against spatial frequency."""
+
+    title = "visibility amplitude"
+    ylabel = "|V|"
+    css = "dx-fig-visamp"
+    kind = "visamp"
+    model_key = "visamp"
+    hide_without_data = True
+
+    def apply_style(self, state):
+        """Linear axes."""
+
+
+class CorrFluxPointsFigure(_PointsFigure):
+    """Correlated fluxes |V| F_ν (OI_VIS, AMPTYP "correlated flux", Jy) against spatial frequency."""
+
+    title = "correlated flux"
+    ylabel = "|V| F_ν [Jy]"
+    css = "dx-fig-corrflux-data"
+    kind = "corrflux"
+    model_key = "corrflux"
+    hide_without_data = True
+
+    def apply_style(self, state):
+        """Linear axes."""
+
+
+class DiffPhaseFigure(_PointsFigure):
+    """Differential phases (OI_VIS, PHITYP "differential") against wavelength.
+
+    Each channel's phase relative to the reference channels its file's VISREFMAP names
+    (see :func:`diskexplorer.fitting.comparison.differential_phase`).
+    """
+
+    title = "differential phase"
+    ylabel = "differential phase [°]"
+    xlabel = "λ [µm]"
+    css = "dx-fig-diffphi"
+    kind = "diffphi"
+    model_key = "diffphi"
+    hide_without_data = True
+
+    def _x_range(self, x):
+        lo, hi = float(np.min(x)), float(np.max(x))
+        pad = 0.03 * max(hi - lo, 0.1)
+        return lo - pad, hi + pad
+
+    def apply_style(self, state):
+        """Phases are always on a linear axis."""
 
 
 class CorrelatedFluxFigure:
