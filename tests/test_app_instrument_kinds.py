@@ -75,3 +75,14 @@ def test_data_without_the_new_kinds_hide_their_figures():
     a.data_panel.load_paths()
     a.flush()
     assert a.figures["diffphi"].widget.layout.display == ""
+
+
+def test_start_page_weighs_the_new_kinds_and_exports_them(app):
+    panel = app.export_panel
+    assert {"corrflux", "diffphi", "visamp"} <= set(panel.weights)
+    panel.weights["diffphi"].value = 0.25
+    doc = panel.build_document()
+    assert doc["data"]["weights"]["diffphi"] == 0.25
+    assert set(doc["judgement"]["chi2"]) >= {"corrflux", "diffphi"}
+    assert [e["bandpass"] for e in doc["data"]["oifits"]] == [True, True, True]
+    panel.weights["diffphi"].value = 1.0

@@ -31,8 +31,8 @@ from .workdir import resolve_user_path, state_folder, writable_user_path
 __all__ = ["ExportPanel", "clean_fit_setup", "describe_state_data", "doc_free", "WEIGHT_KINDS"]
 
 #: Data kinds whose weight the panel sets, with the words shown for them.
-WEIGHT_KINDS = (("vis2", "V²"), ("t3phi", "closure phase"), ("photometry", "photometry"),
-                ("spectrum", "spectrum"))
+WEIGHT_KINDS = (("vis2", "V²"), ("t3phi", "closure phase"), ("visamp", "|V|"), ("corrflux", "correlated flux"),
+                ("diffphi", "differential phase"), ("photometry", "photometry"), ("spectrum", "spectrum"))
 
 _PRE = (f"margin:0;padding:6px 8px;font-size:11px;line-height:1.35;background:#f4f2ec;color:{INK};"
         "border:1px solid #e6e4de;max-height:560px;overflow:auto;white-space:pre")
@@ -209,7 +209,7 @@ class ExportPanel(w.VBox):
 
         # refinement
         self.weights = {k: w.BoundedFloatText(value=1.0, min=0.0, max=1e6, description=label,
-                                              style={"description_width": "initial"}, layout={"width": "150px"})
+                                              style={"description_width": "initial"}, layout={"width": "170px"})
                         for k, label in WEIGHT_KINDS}
         for box in self.weights.values():
             box.observe(lambda ch: self._on_weight(), "value")
@@ -249,7 +249,7 @@ class ExportPanel(w.VBox):
         left = w.VBox([w.HTML("<div class='dx-section-title'>parameters of the starting point</div>"),
                        head, self.table, self.fix_all_button,
                        w.HTML("<div class='dx-section-title'>quick local refinement</div>"),
-                       w.HBox(list(self.weights.values())[:2]), w.HBox(list(self.weights.values())[2:]),
+                       w.HBox(list(self.weights.values())[:4]), w.HBox(list(self.weights.values())[4:]),
                        w.HBox([self.refine_button, self.cancel_button, self.progress],
                               layout={"align_items": "center"}),
                        self.result_html, self.result_actions],
