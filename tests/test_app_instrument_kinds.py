@@ -86,3 +86,21 @@ def test_start_page_weighs_the_new_kinds_and_exports_them(app):
     assert set(doc["judgement"]["chi2"]) >= {"corrflux", "diffphi"}
     assert [e["bandpass"] for e in doc["data"]["oifits"]] == [True, True, True]
     panel.weights["diffphi"].value = 1.0
+
+
+def test_a_session_keeps_the_bandpass_switch(tmp_path):
+    from diskexplorer.app.session import read_session, session_to_dict, write_session
+    from diskexplorer.app.session_panel import restore_session
+
+    a = explore(scheduler=ManualScheduler(), workdir=tmp_path)
+    a.flush()
+    a.data_panel.set_bandpass(1, False)
+    a.flush()
+    off = a.judgement().total
+    write_session(tmp_path / "s.json", session_to_dict(a.state))
+    b = explore(scheduler=ManualScheduler(), workdir=tmp_path)
+    b.flush()
+    restore_session(b.state, read_session(tmp_path / "s.json"))
+    b.flush()
+    assert [d.bandpass for d in b.state.data_sets if d.kind == "oifits"] == [True, False, True]
+    assert b.judgement().total == pytest.approx(off, rel=1e-12)

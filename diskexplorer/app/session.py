@@ -97,6 +97,8 @@ def session_to_dict(state):
         "schema": SESSION_SCHEMA,
         "scene": scene_to_dict(state.scene),
         "data": dict(state.data_sources),
+        # OIFITS files whose channel-bandpass switch is off (the default is on).
+        "bandpass_off": [d.source for d in state.data_sets if d.kind == "oifits" and d.source and not d.bandpass],
         "filters": {"bands": list(state.band_filter), "instruments": list(state.instrument_filter),
                     "baseline_range_m": [_finite(b) for b in state.baseline_range]},
         "view": {k: getattr(state, k) for k in VIEW_SETTINGS},

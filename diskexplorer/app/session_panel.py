@@ -1,6 +1,8 @@
 """Save and restore a session file, asking before an existing file is overwritten."""
 from __future__ import annotations
 
+import dataclasses
+
 import math
 
 import ipywidgets as w
@@ -33,6 +35,10 @@ def restore_session(state, document):
         for kind in ("photometry", "spectrum"):
             if data.get(kind):
                 load_into_state(state, kind, [data[kind]])
+        off = set(document.get("bandpass_off") or ())
+        if off:
+            state.set_data_sets([dataclasses.replace(d, bandpass=False) if d.source in off else d
+                                 for d in state.data_sets])
         f = document.get("filters", {})
         state.band_filter = tuple(f.get("bands", ()))
         state.instrument_filter = tuple(f.get("instruments", ()))
