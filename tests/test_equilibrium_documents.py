@@ -98,6 +98,29 @@ def test_refine_moves_a_sublimation_temperature():
     assert get_value(result.scene, "rings.0.sublimation.olivine_glass") == pytest.approx(1300.0, rel=2e-3)
 
 
+def _photometry_of(scene, lam):
+    import xarray as xr
+
+    flux = scene.sed(lam)
+    return xr.Dataset({"flux": ("point", flux), "flux_err": ("point", 0.01 * flux),
+                       "upper_limit": ("point", np.zeros(lam.size, bool))},
+                      coords={"wavelength": ("point", lam), "band": ("point", [f"b{k}" for k in range(lam.size)])})
+
+
+def test_scan_over_a_sublimation_temperature_finds_the_truth():
+    from diskexplorer.fitting.scan import scan_grid
+
+    truth = _scene(inner_edge="fixed").with_ring(0, sublimation={"iron": 1850.0, "olivine_glass": 1300.0})
+    phot = _photometry_of(truth, np.geomspace(1.5, 13.0, 30))
+    grid = scan_grid(truth.with_ring(0, sublimation={"iron": 1850.0}), {"photometry": phot},
+                     [("rings.0.sublimation.olivine_glass", [1200.0, 1300.0, 1400.0, 1500.0]),
+                      ("rings.0.sigma_in", [5e-4, 1e-3, 2e-3])], scheduler="serial")
+    chi2 = np.asarray(grid["chi2"].values)
+    best = np.unravel_index(np.nanargmin(chi2), chi2.shape)
+    assert best == (1, 1)
+    assert np.nanmin(chi2) < 1e-6
+
+
 def test_session_round_trip_keeps_temperature_settings():
     scene = _scene()
     restored = scene_from_dict(json.loads(json.dumps(scene_to_dict(scene))))
