@@ -42,7 +42,7 @@ def phase_residual(data_deg, model_deg, error_deg):
     return np.degrees(2.0 * np.sin(0.5 * delta)) / np.asarray(error_deg, float)
 
 
-def differential_phase(vis, vis_ref, flux_ref, ref_index):
+def differential_phase(vis, vis_ref, flux_ref, ref_index, ref_of_point=None):
     """Model differential phase: each channel's phase relative to its reference channels, degrees.
 
     OIFITS v2 (Duvert, Young & Hummel 2017, A&A 597, A8, the OI_VIS table) defines a
@@ -66,6 +66,8 @@ def differential_phase(vis, vis_ref, flux_ref, ref_index):
     ref_index : ndarray of int, shape (n, m), or sparse matrix (n, s)
         For each point its reference samples (indices into ``vis_ref``), −1 as padding; or
         the equivalent 0/1 matrix (what :class:`Comparison` keeps: one sparse product).
+    ref_of_point : ndarray of int, shape (n,), optional
+        With a matrix of distinct references (one row each): the row of each point.
 
     Returns
     -------
@@ -76,6 +78,8 @@ def differential_phase(vis, vis_ref, flux_ref, ref_index):
     if sparse.issparse(ref_index):
         ref = ref_index @ coherent
         named = np.diff(ref_index.indptr) > 0
+        if ref_of_point is not None:
+            ref, named = ref[ref_of_point], named[ref_of_point]
     else:
         ref_index = np.asarray(ref_index)
         padded = np.append(coherent, 0.0)   # index −1 → 0
@@ -264,13 +268,18 @@ class Comparison:
                 self._slices[name] = slice(start, start + n)
                 start += n
         self._ref_index = None
+        self._kinds = self._types = None
         if "vis" in self._slices:
             ref = _reference_samples(vis, self.bandpass, widths[-1])
             if ref is not None:
                 (ru, rv, rwl, rbw), index = ref
-                p, j = np.nonzero(index >= 0)
-                self._ref_index = sparse.csr_matrix((np.ones(p.size), (p, index[p, j])),
-                                                    shape=(index.shape[0], index.shape[0] + ru.size))
+                # Points of one row mostly share one reference (VISREFMAP "all channels"): sum
+                # each distinct reference once, then hand its value to its points.
+                distinct, self._ref_of_point = np.unique(np.sort(index, axis=1), axis=0, return_inverse=True)
+                self._ref_of_point = self._ref_of_point.ravel()
+                p, j = np.nonzero(distinct >= 0)
+                self._ref_index = sparse.csr_matrix((np.ones(p.size), (p, distinct[p, j])),
+                                                    shape=(distinct.shape[0], index.shape[0] + ru.size))
                 uv.append((ru, rv, rwl))
                 widths.append(rbw if np.any(rbw > 0) else None)
                 self._slices["visref"] = slice(start, start + ru.size)
@@ -320,7 +329,20 @@ class Comparison:
 
     @property
     def kinds(self):
-        """Data kinds present."""
+        """Data kinds present (a new list each time; the data are fixed, so it is found once)."""
+        if self._kinds is None:
+            self._kinds = self._find_kinds()
+        return list(self._kinds)
+
+    def _vis_types(self):
+        """AMPTYP and PHITYP of the OI_VIS points as str arrays (converted once: 7 000 object
+        strings take about a millisecond each time)."""
+        if self._types is None:
+            vis = self.observations.vis
+            self._types = tuple(np.asarray(vis[k].values).astype(str) for k in ("amptyp", "phityp"))
+        return self._types
+
+    def _find_kinds(self):
         out = []
         obs = self.observations
         if "vis2" in self._slices:
@@ -328,7 +350,7 @@ class Comparison:
         if obs is not None and obs.t3 is not None and obs.t3.sizes.get("point", 0):
             out += ["t3phi", "t3amp"]
         if "vis" in self._slices:
-            amptyp = set(np.unique(obs.vis["amptyp"].values.astype(str)))
+            amptyp = set(obs.vis["amptyp"].values.tolist())
             if "absolute" in amptyp:
                 out.append("visamp")
             if "correlated flux" in amptyp:
@@ -364,7 +386,7 @@ class Comparison:
         if "vis" in self._slices:
             ds = obs.vis
             sl = self._slices["vis"]
-            amptyp = np.asarray(ds["amptyp"].values).astype(str)
+            amptyp = self._vis_types()[0]
             absolute = np.abs(pred.vis[sl])
             # Every kind is aligned with all vis points; points of other types are NaN
             # (no residual), so figures and tables can index one array per kind.
@@ -379,8 +401,8 @@ class Comparison:
                 rs = self._slices["visref"]
                 samples = np.concatenate([pred.vis[sl], pred.vis[rs]])
                 sample_flux = np.concatenate([pred.flux_at_vis[sl], pred.flux_at_vis[rs]])
-                m = differential_phase(pred.vis[sl], samples, sample_flux, self._ref_index)
-                differential = np.asarray(ds["phityp"].values).astype(str) == "differential"
+                m = differential_phase(pred.vis[sl], samples, sample_flux, self._ref_index, self._ref_of_point)
+                differential = self._vis_types()[1] == "differential"
                 m = np.where(differential, m, np.nan)
                 model["diffphi"] = m
                 with np.errstate(invalid="ignore"):
