@@ -89,6 +89,9 @@ class _PointsFigure:
     def _build_extra(self, scales):
         pass
 
+    def apply_style(self, state):
+        """Linear axes; a figure with axis toggles overrides this."""
+
     #: Hide the figure (and its residuals) while the data hold no point of its kind.
     hide_without_data = False
 
@@ -237,9 +240,6 @@ class VisAmpFigure(_PointsFigure):
     model_key = "visamp"
     hide_without_data = True
 
-    def apply_style(self, state):
-        """Linear axes."""
-
 
 class CorrFluxPointsFigure(_PointsFigure):
     """Correlated fluxes |V| F_ν (OI_VIS, AMPTYP "correlated flux", Jy) against spatial frequency."""
@@ -250,9 +250,6 @@ class CorrFluxPointsFigure(_PointsFigure):
     kind = "corrflux"
     model_key = "corrflux"
     hide_without_data = True
-
-    def apply_style(self, state):
-        """Linear axes."""
 
 
 class DiffPhaseFigure(_PointsFigure):
@@ -274,9 +271,6 @@ class DiffPhaseFigure(_PointsFigure):
         lo, hi = float(np.min(x)), float(np.max(x))
         pad = 0.03 * max(hi - lo, 0.1)
         return lo - pad, hi + pad
-
-    def apply_style(self, state):
-        """Phases are always on a linear axis."""
 
 
 class CorrelatedFluxFigure:
