@@ -1,18 +1,47 @@
-"""The debouncer and its schedulers, driven by hand."""
+"""The debouncer and its schedulers, driven by hand: the first change of a burst at once,
+later ones merged into one call per window."""
 from diskexplorer.app.debounce import Debouncer, ImmediateScheduler, ManualScheduler
 from diskexplorer.app.state import tiers_for
 
 
-def test_burst_coalesces_into_one_call_with_all_names():
+def test_changes_of_one_turn_make_one_immediate_call():
     sched = ManualScheduler()
     seen = []
     d = Debouncer(seen.append, delay=0.05, scheduler=sched)
-    for k in range(10):
+    for k in range(10):   # one message's changes: no time passes between them
         d.trigger("scene" if k % 2 else "pins")
-        sched.advance(0.001)
-    assert seen == [] and d.pending
-    sched.advance(0.05)
+    assert seen == [] and d.pending       # not inside the message's own handler...
+    sched.advance(0.0)                    # ...but at the loop's next turn, without waiting
     assert seen == [{"scene", "pins"}] and d.calls == 1 and not d.pending
+
+
+def test_first_change_after_quiet_is_not_delayed():
+    sched = ManualScheduler()
+    seen = []
+    d = Debouncer(seen.append, delay=0.04, scheduler=sched)
+    d.trigger("scene")
+    sched.advance(0.0)
+    sched.advance(1.0)                    # quiet for longer than the window
+    d.trigger("scene")
+    sched.advance(0.0)
+    assert d.calls == 2 and not d.pending
+
+
+def test_changes_within_the_window_merge_into_one_call_at_its_end():
+    sched = ManualScheduler()
+    seen = []
+    d = Debouncer(seen.append, delay=0.05, scheduler=sched)
+    d.trigger("scene")
+    sched.advance(0.0)
+    assert seen == [{"scene"}]
+    for name in ("pins", "scene", "log_vis2"):   # 10, 20, 30 ms after the call
+        sched.advance(0.01)
+        d.trigger(name)
+    assert d.calls == 1 and d.pending
+    sched.advance(0.0199)                 # 49.9 ms after the call: still waiting
+    assert d.calls == 1
+    sched.advance(0.0002)
+    assert seen == [{"scene"}, {"pins", "scene", "log_vis2"}] and not d.pending
 
 
 def test_long_drag_redraws_once_per_window():
@@ -22,7 +51,23 @@ def test_long_drag_redraws_once_per_window():
         d.trigger("scene")
         sched.advance(0.004)
     sched.flush()
-    assert 9 <= d.calls <= 11
+    assert 9 <= d.calls <= 12
+
+
+def test_window_counts_from_the_end_of_a_slow_call():
+    sched = ManualScheduler()
+
+    def slow(names):
+        sched.time += 0.1    # the recompute itself took 100 ms
+
+    d = Debouncer(slow, delay=0.04, scheduler=sched)
+    d.trigger("scene")
+    sched.advance(0.0)
+    d.trigger("scene")       # arrived while the slow call ran
+    sched.advance(0.039)
+    assert d.calls == 1 and d.pending
+    sched.advance(0.002)
+    assert d.calls == 2
 
 
 def test_flush_and_immediate():
@@ -34,6 +79,8 @@ def test_flush_and_immediate():
     d2 = Debouncer(seen.append, scheduler=ImmediateScheduler())
     d2.trigger("b")
     assert seen[-1] == {"b"} and d2.calls == 1
+    d2.trigger("c")
+    assert seen[-1] == {"c"} and d2.calls == 2
 
 
 def test_tiers():

@@ -1,14 +1,18 @@
-"""Coalescing bursts of state changes into one recomputation.
+"""Coalescing bursts of state changes into few recomputations, the first one at once.
 
-A :class:`Debouncer` gathers the names of changed state traits; the first change of a
-burst asks its *scheduler* for one call after ``delay`` seconds, and every change that
-arrives before that call is merged into it. The scheduler is injected: the live app uses
-the kernel's asyncio loop (:class:`LoopScheduler`), tests drive a
-:class:`ManualScheduler` by hand, scripts use :class:`ImmediateScheduler`.
+A :class:`Debouncer` gathers the names of changed state traits. The first change after a
+quiet spell is computed at once — at the end of the current turn of the event loop, so
+that every change made by the same message (a slider step, a loaded file) joins it — and
+changes that arrive within ``delay`` seconds of a call are merged into one call ``delay``
+after it: a key press redraws without waiting, a drag redraws about every ``delay``
+seconds. The scheduler is injected: the live app uses the kernel's asyncio loop
+(:class:`LoopScheduler`), tests drive a :class:`ManualScheduler` by hand, scripts use
+:class:`ImmediateScheduler`.
 """
 from __future__ import annotations
 
 import asyncio
+import time
 
 __all__ = ["Debouncer", "LoopScheduler", "ManualScheduler", "ImmediateScheduler"]
 
@@ -25,6 +29,10 @@ class _Handle:
 class ImmediateScheduler:
     """Runs the call at once (no coalescing): for scripts and benchmarks."""
 
+    def now(self):
+        """The clock, s (monotonic)."""
+        return time.monotonic()
+
     def call_later(self, delay, fn):
         """Call ``fn()`` now; ``delay`` (s) is ignored."""
         fn()
@@ -40,6 +48,13 @@ class LoopScheduler:
     (a ``threading.Timer`` would update widgets from a foreign thread).
     Outside a running loop (a plain script) the call runs at once.
     """
+
+    def now(self):
+        """The running loop's clock, s (monotonic outside a loop)."""
+        try:
+            return asyncio.get_running_loop().time()
+        except RuntimeError:
+            return time.monotonic()
 
     def call_later(self, delay, fn):
         """Call ``fn()`` after ``delay`` seconds on the running loop; returns a cancellable handle."""
@@ -64,8 +79,12 @@ class ManualScheduler:
         self.time = 0.0
         self._queue = []
 
+    def now(self):
+        """The scheduler's clock, s."""
+        return self.time
+
     def call_later(self, delay, fn):
-        """Queue ``fn`` to run when the clock passes ``time + delay`` (s)."""
+        """Queue ``fn`` to run when the clock passes ``time + delay`` (s); ``advance(0)`` runs a zero delay."""
         h = _Handle(fn)
         self._queue.append((self.time + float(delay), h))
         return h
@@ -91,17 +110,20 @@ class ManualScheduler:
 
 
 class Debouncer:
-    """Merge a burst of triggers into one call of ``callback(names)``.
+    """Merge triggers into calls of ``callback(names)``: the first at once, then one per window.
 
     Parameters
     ----------
     callback : callable
-        Called with the set of names gathered during the burst.
+        Called with the set of names gathered since the last call.
     delay : float
-        Seconds between the first trigger of a burst and the call. Triggers during the
-        wait join the pending call instead of restarting the clock, so a long slider
-        drag still redraws about every ``delay`` seconds.
-    scheduler : object with ``call_later(delay, fn)``
+        Window, s. A trigger when no call ran for ``delay`` seconds is called at the
+        scheduler's next turn (``call_later(0, ...)``, after the current message has made
+        all its changes); later triggers wait until ``delay`` seconds after the end of the
+        last call and are merged into that one call, so a long slider drag redraws about
+        every ``delay`` seconds and a slow recompute is never followed back to back by
+        another.
+    scheduler : object with ``call_later(delay, fn)`` and ``now()``
         Where the wait happens (see the module docstring).
 
     Attributes
@@ -117,6 +139,7 @@ class Debouncer:
         self.calls = 0
         self._names = set()
         self._handle = None
+        self._last = None   # scheduler time at the end of the last call
 
     @property
     def pending(self) -> bool:
@@ -127,8 +150,11 @@ class Debouncer:
         """Note ``names`` as changed and make sure one call is scheduled."""
         self._names.update(names)
         if self._handle is None:
+            wait = 0.0
+            if self._last is not None:
+                wait = max(0.0, self._last + self.delay - self.scheduler.now())
             self._handle = True  # mark before scheduling: an immediate scheduler runs at once
-            handle = self.scheduler.call_later(self.delay, self._fire)
+            handle = self.scheduler.call_later(wait, self._fire)
             if self._handle is True:
                 self._handle = handle
 
@@ -143,4 +169,7 @@ class Debouncer:
         names, self._names, self._handle = self._names, set(), None
         if names:
             self.calls += 1
-            self.callback(names)
+            try:
+                self.callback(names)
+            finally:
+                self._last = self.scheduler.now()
