@@ -5,6 +5,9 @@ port is checked before anything starts, the address is printed once the server a
 and on SIGTERM or Ctrl-C voila is asked to stop (it shuts its kernels down), after which
 any process of the demo still alive (voila, its kernels) is killed. Kernels of browser pages
 that were closed are culled by voila's kernel manager after ``idle_timeout`` seconds.
+voila keeps one kernel *preheated*: it has run the app notebook before anyone asks for the
+page (imports, the sample data, the first evaluation, the widgets), so a page opens without
+waiting for them; the next one is started a few seconds after a page takes it.
 
 Everything here is plain subprocess and socket work; no widget library is imported.
 """
@@ -20,8 +23,8 @@ from pathlib import Path
 
 from .errors import DiskExplorerError
 
-__all__ = ["DemoServer", "check_port", "APP_NOTEBOOK", "DEFAULT_IDLE_TIMEOUT_S", "WORKDIR_VARIABLE",
-           "DATA_VARIABLE"]
+__all__ = ["DemoServer", "check_port", "voila_options", "APP_NOTEBOOK", "DEFAULT_IDLE_TIMEOUT_S",
+           "WORKDIR_VARIABLE", "DATA_VARIABLE", "POOL_SIZE", "POOL_FILL_DELAY_S", "KERNEL_ENVIRONMENT"]
 
 #: The app notebook voila serves (package data).
 APP_NOTEBOOK = Path(__file__).resolve().parent / "app" / "explorer.ipynb"
@@ -31,6 +34,42 @@ DEFAULT_IDLE_TIMEOUT_S = 30
 #: and data (read by :func:`diskexplorer.app.explore_served`).
 WORKDIR_VARIABLE = "DISKEXPLORER_WORKDIR"
 DATA_VARIABLE = "DISKEXPLORER_DATA"
+#: Preheated kernels voila keeps ready (each has run the app notebook; about 250 MB each).
+POOL_SIZE = 1
+#: Seconds after a page takes a preheated kernel before voila starts the next one: the
+#: page's own drawing then has the machine to itself (the kernel's start-up takes a core
+#: for about 3 s).
+POOL_FILL_DELAY_S = 5.0
+
+
+#: Settings of the app's kernels (defaults in voila's environment, which its kernels inherit):
+#: one BLAS thread per kernel, since the live loop's products are small and several kernels
+#: may share the machine; no echo of every value the page sends (ipywidgets 8 echoes each
+#: slider step back to the page, for several pages sharing one kernel, which a served page
+#: never does): one message fewer per step.
+KERNEL_ENVIRONMENT = {"OPENBLAS_NUM_THREADS": "1", "JUPYTER_WIDGETS_ECHO": "0"}
+
+
+def voila_options(pool_size=POOL_SIZE, fill_delay=POOL_FILL_DELAY_S):
+    """voila command-line options of the served app that do not depend on the port.
+
+    Parameters
+    ----------
+    pool_size : int
+        Preheated kernels (0: none; every page then starts its own kernel on request).
+    fill_delay : float
+        Seconds between a page taking a preheated kernel and the start of the next one.
+
+    Notes
+    -----
+    A preheated kernel is started by voila with voila's own environment, so it reads the
+    folder and data handed over in :data:`WORKDIR_VARIABLE` and :data:`DATA_VARIABLE` like
+    a kernel started for a request. voila never culls a kernel waiting in the pool.
+    """
+    if pool_size <= 0:
+        return []
+    return ["--preheat_kernel=True", f"--pool_size={int(pool_size)}",
+            f"--VoilaKernelManager.fill_delay={float(fill_delay):g}"]
 
 
 def check_port(port, host="127.0.0.1"):
@@ -84,6 +123,8 @@ class DemoServer:
         Seconds of inactivity after which the kernel of a closed page is shut down.
     log_level : str
         voila's log level (``WARN`` keeps the terminal quiet).
+    pool_size : int
+        Preheated kernels kept ready (:func:`voila_options`; 0 switches preheating off).
 
     Notes
     -----
@@ -92,7 +133,7 @@ class DemoServer:
     """
 
     def __init__(self, port=8866, workdir=None, data=None, idle_timeout=DEFAULT_IDLE_TIMEOUT_S,
-                 log_level="WARN"):
+                 log_level="WARN", pool_size=POOL_SIZE):
         check_port(port)
         if not APP_NOTEBOOK.exists():
             raise DiskExplorerError(f"the app notebook {APP_NOTEBOOK} is missing from the installation")
@@ -108,6 +149,7 @@ class DemoServer:
             raise DiskExplorerError(f"--data {missing[0]}: no such file or folder")
         self.idle_timeout = idle_timeout
         self.log_level = log_level
+        self.pool_size = pool_size
         self.process = None
 
     @property
@@ -125,7 +167,7 @@ class DemoServer:
                 f"--Voila.log_level={self.log_level}",
                 f"--MappingKernelManager.cull_idle_timeout={self.idle_timeout}",
                 f"--MappingKernelManager.cull_interval={interval}",
-                "--MappingKernelManager.cull_connected=False"]
+                "--MappingKernelManager.cull_connected=False"] + voila_options(self.pool_size)
 
     def environment(self):
         """The environment of voila and its kernels."""
@@ -135,9 +177,8 @@ class DemoServer:
             env[DATA_VARIABLE] = os.pathsep.join(self.data)
         else:
             env.pop(DATA_VARIABLE, None)
-        # One BLAS thread per kernel: the live loop's products are small and several
-        # kernels may share the machine.
-        env.setdefault("OPENBLAS_NUM_THREADS", "1")
+        for key, value in KERNEL_ENVIRONMENT.items():
+            env.setdefault(key, value)
         return env
 
     def start(self, timeout=60.0):

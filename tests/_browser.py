@@ -14,7 +14,8 @@ from pathlib import Path
 import pytest
 from _processes import free_port
 
-__all__ = ["CHROMIUM", "ROOT", "NOTEBOOK", "OUT", "ARGS", "require_browser", "served_app", "open_app"]
+__all__ = ["CHROMIUM", "ROOT", "NOTEBOOK", "OUT", "ARGS", "PAGES", "CURVES_JS", "require_browser", "served_app", "open_app",
+           "drawn_control_count", "first_page_timeline", "press_timings"]
 
 CHROMIUM = "/usr/bin/chromium"
 ROOT = Path(__file__).resolve().parents[1]
@@ -52,17 +53,22 @@ def _wait_port(port, proc, timeout=60.0):
 
 
 @contextlib.contextmanager
-def served_app(notebook=NOTEBOOK, env=None, log=None):
+def served_app(notebook=NOTEBOOK, env=None, log=None, preheat=True):
     """Serve ``notebook`` with voila on a free loopback port; yields its URL.
 
     ``env`` adds environment variables (e.g. the ones ``diskexplorer demo`` hands to the
-    app); ``log`` is a file voila's output goes to (default: discarded).
+    app); ``log`` is a file voila's output goes to (default: discarded). As ``diskexplorer
+    demo`` does, the kernels get :data:`diskexplorer.serve.KERNEL_ENVIRONMENT` and, with
+    ``preheat``, one is kept preheated (:func:`diskexplorer.serve.voila_options`).
     """
+    from diskexplorer.serve import KERNEL_ENVIRONMENT, voila_options
+
     port = free_port()
     out = open(log, "wb") if log is not None else subprocess.DEVNULL
     proc = subprocess.Popen([sys.executable, "-m", "voila", str(notebook), "--no-browser", f"--port={port}",
-                             "--Voila.ip=127.0.0.1"], stdout=out, stderr=subprocess.STDOUT, cwd=str(ROOT),
-                            env=dict(os.environ, **(env or {})))
+                             "--Voila.ip=127.0.0.1"] + (voila_options() if preheat else []),
+                            stdout=out, stderr=subprocess.STDOUT, cwd=str(ROOT),
+                            env={**KERNEL_ENVIRONMENT, **os.environ, **(env or {})})
     try:
         _wait_port(port, proc)
         yield f"http://127.0.0.1:{port}/"
@@ -92,3 +98,146 @@ def open_app(url, viewport=(1500, 1100)):
             yield page
         finally:
             browser.close()
+
+
+#: Figures (by CSS class) of each page of the figure tabs; each must draw at least one SVG
+#: path (or image). The first page is the one a new page opens on.
+PAGES = {
+    "interferometry": ("dx-fig-vis2", "dx-fig-vis2-residuals", "dx-fig-t3", "dx-fig-t3-residuals", "dx-fig-corrflux"),
+    "SED & spectrum": ("dx-fig-sed", "dx-fig-spectrum", "dx-fig-silicate"),
+    "disk structure": ("dx-fig-image", "dx-fig-profile-temperature", "dx-fig-profile-tau",
+                       "dx-fig-profile-intensity"),
+}
+
+#: The V² figure's line paths joined: changes when the model curve is redrawn.
+CURVES_JS = ("() => Array.from(document.querySelectorAll('.dx-fig-vis2 svg path.line'))"
+             ".map(p => p.getAttribute('d') || '').join('|')")
+
+
+def drawn_control_count(app):
+    """How many slider controls of ``app`` a new browser page draws (shown or not).
+
+    Walks the widget tree as the page builds it: every child of a Box, Tab or Accordion
+    (collapsed or hidden ones too), so the pages the explorer builds on first opening
+    count only once built.
+    """
+    import ipywidgets as w
+
+    from diskexplorer.app.controls import ParamControl
+
+    def walk(widget):
+        if isinstance(widget, ParamControl):
+            return 1
+        children = getattr(widget, "children", ()) or ()
+        return sum(walk(c) for c in children if isinstance(c, w.Widget))
+
+    return walk(app)
+
+
+# Installed before the page's own scripts: watches every animation frame and notes when
+# each milestone of the first page is first reached (ms since navigation started).
+_TIMELINE_JS = """
+(() => {
+  const want = %(controls)d, figures = %(figures)s;
+  const marks = window.__dxMarks = {};
+  // Cheap checks only: reading layout (offsetParent...) every frame slowed the page down.
+  const drawn = (css) => { const f = document.querySelector('.' + css);
+    return !!(f && Array.from(f.querySelectorAll('svg path, svg image'))
+      .some(e => (e.getAttribute('d') || e.getAttribute('href') || 'x').length > 1)); };
+  const tick = () => {
+    const now = performance.now();
+    if (!marks.first_widget && document.querySelector('.dx-root')) marks.first_widget = now;
+    if (!marks.first_curve && Array.from(document.querySelectorAll('.dx-fig-vis2 svg path.line'))
+          .some(p => (p.getAttribute('d') || '').length > 200)) marks.first_curve = now;
+    const controls = document.querySelectorAll('.dx-param .noUi-handle').length;
+    if (!marks.controls && controls >= want) marks.controls = now;
+    if (!marks.figures && figures.every(drawn)) marks.figures = now;
+    if (marks.controls && marks.figures && marks.first_curve) {
+      marks.page_ready = Math.max(marks.controls, marks.figures, marks.first_curve); return; }
+    requestAnimationFrame(tick);
+  };
+  requestAnimationFrame(tick);
+})();
+"""
+
+
+def first_page_timeline(page, url, controls=None, figures=PAGES["interferometry"], timeout=120_000):
+    """Open ``url`` in ``page`` and time the first page's milestones.
+
+    Parameters
+    ----------
+    controls : int, optional
+        Slider controls the first page draws when complete (default: counted on a
+        headless build of the sample app, :func:`drawn_control_count`).
+    figures : sequence of str
+        CSS classes of the figures that must be drawn.
+
+    Returns
+    -------
+    dict of str to float
+        Seconds since navigation started: ``html`` (the page's HTML received),
+        ``first_widget``, ``first_curve`` (the first V² curve), ``controls`` (every slider
+        control drawn, the collapsed dust mixtures' too), ``figures`` (every figure drawn), ``page_ready`` (both).
+    """
+    import json
+
+    if controls is None:
+        controls = _sample_control_count()
+    page.add_init_script(_TIMELINE_JS % {"controls": controls, "figures": json.dumps(list(figures))})
+    page.goto(url, timeout=timeout)
+    page.wait_for_function("() => window.__dxMarks && window.__dxMarks.page_ready", timeout=timeout)
+    marks = page.evaluate("() => window.__dxMarks")
+    marks["html"] = page.evaluate("() => performance.getEntriesByType('navigation')[0].responseEnd")
+    order = ("html", "first_widget", "first_curve", "controls", "figures", "page_ready")
+    return {k: marks[k] / 1e3 for k in order}
+
+
+_COUNT = {}
+
+
+def _sample_control_count():
+    if "sample" not in _COUNT:
+        from diskexplorer.app import explore
+        from diskexplorer.app.debounce import ManualScheduler
+
+        _COUNT["sample"] = drawn_control_count(explore(scheduler=ManualScheduler(), jobs="sync"))
+    return _COUNT["sample"]
+
+
+# A keydown listener (capture phase, before the slider's own) notes the time; an observer
+# of the V² figure notes when its line paths differ from the ones before the press. The
+# promise travels inside an object so that arming does not wait for it.
+_PRESS_JS = """
+(before) => ({done: new Promise((resolve) => {
+  const fig = document.querySelector('.dx-fig-vis2');
+  const curves = () => Array.from(fig.querySelectorAll('svg path.line')).map(p => p.getAttribute('d') || '').join('|');
+  let t0 = null;
+  const obs = new MutationObserver(() => {
+    if (t0 !== null && curves() !== before) {
+      const t = performance.now() - t0; obs.disconnect(); resolve(t); }
+  });
+  obs.observe(fig, {subtree: true, attributes: true, attributeFilter: ['d'], childList: true});
+  window.addEventListener('keydown', () => { t0 = performance.now(); }, {capture: true, once: true});
+  window.__dxPressArmed = true;
+})})
+"""
+
+
+def press_timings(page, css, n, pause_ms=300):
+    """Press ArrowRight and ArrowLeft alternately on a slider handle; ms from keydown to the curve's change.
+
+    Each press is its own burst (``pause_ms`` apart): the figure is the first recompute of a
+    burst, as a user stepping a slider sees it.
+    """
+    handle = page.locator(f".{css} .noUi-handle").first
+    handle.focus()
+    times = []
+    for k in range(n):
+        before = page.evaluate(CURVES_JS)
+        page.evaluate("() => { window.__dxPressArmed = false; }")
+        pending = page.evaluate_handle(_PRESS_JS, before)
+        page.wait_for_function("() => window.__dxPressArmed")
+        page.keyboard.press("ArrowRight" if k % 2 == 0 else "ArrowLeft")
+        times.append(float(page.evaluate("(p) => p.done", pending)))
+        page.wait_for_timeout(pause_ms)
+    return times

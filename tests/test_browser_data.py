@@ -128,7 +128,7 @@ def _remove(page, name):
 def test_point_colours_follow_loads_and_removals(served, files):
     from playwright.sync_api import sync_playwright
 
-    _, first, second = files
+    folder, first, second = files
     OUT.mkdir(exist_ok=True)
     with sync_playwright() as p:
         browser = p.chromium.launch(executable_path=CHROMIUM, headless=True, args=ARGS)
@@ -137,6 +137,9 @@ def test_point_colours_follow_loads_and_removals(served, files):
             page.goto(served, timeout=120_000)
             page.wait_for_selector(".dx-fig-vis2 .object_grp path.dot", timeout=120_000)
             _check_colours(page, [first], "opened on the first file")
+            # The page got the kernel voila preheated before the request, and that kernel
+            # read the data handed over in DISKEXPLORER_DATA (the colours above are theirs).
+            assert "Using pre-heated kernel" in (folder / "voila.log").read_text(errors="replace")
             # the data given on the command line, nothing of the sample
             chi2 = page.inner_text(".dx-chi2")
             assert "photometry" not in chi2 and "spectrum" not in chi2

@@ -16,7 +16,7 @@ import pytest
 from _processes import alive, free_port, port_open, stop_tree
 
 from diskexplorer.cli import main
-from diskexplorer.serve import DemoServer, check_port
+from diskexplorer.serve import DATA_VARIABLE, POOL_SIZE, WORKDIR_VARIABLE, DemoServer, check_port
 from diskexplorer.errors import DiskExplorerError
 
 pytestmark = pytest.mark.slow
@@ -72,23 +72,42 @@ def test_check_port_accepts_a_free_port():
         check_port("8866")
 
 
+def test_command_preheats_one_kernel_and_environment_reaches_it(tmp_path):
+    server = DemoServer(port=free_port(), workdir=tmp_path, data=[str(tmp_path)])
+    cmd = server.command()
+    assert "--preheat_kernel=True" in cmd and f"--pool_size={POOL_SIZE}" in cmd
+    assert not any("preheat" in a or "pool_size" in a for a in DemoServer(port=free_port(), pool_size=0).command())
+    env = server.environment()
+    # voila starts preheated kernels with its own environment: the folder and data travel there.
+    assert env[WORKDIR_VARIABLE] == str(tmp_path) and env[DATA_VARIABLE] == str(tmp_path)
+    assert env["JUPYTER_WIDGETS_ECHO"] == "0" and env["OPENBLAS_NUM_THREADS"]
+
+
 def test_server_binds_loopback_only_and_culls_kernels_of_closed_pages(tmp_path):
     port = free_port()
     server = DemoServer(port=port, workdir=tmp_path, idle_timeout=3)
     assert "--Voila.ip=127.0.0.1" in server.command()
     server.start()
     try:
-        conns = [c for c in psutil.Process(server.process.pid).net_connections(kind="inet")
+        pid = server.process.pid
+        conns = [c for c in psutil.Process(pid).net_connections(kind="inet")
                  if c.status == psutil.CONN_LISTEN]
         assert conns and {c.laddr.ip for c in conns} == {"127.0.0.1"}
-        # A page request starts a kernel that runs the app; the client goes away at once.
+        # voila preheats one kernel (it runs the app) before any page asks for it.
+        assert _wait(lambda: len(_kernels(pid)) == 1, timeout=60)
+        preheated = _kernels(pid)
+        # A page request takes that kernel; the client goes away at once.
         with urllib.request.urlopen(server.url, timeout=120) as response:
             body = response.read().decode("utf-8", "replace")
         assert response.status == 200 and "Traceback" not in body
-        kernels = _kernels(server.process.pid)
-        assert len(kernels) == 1
+        assert alive(preheated)
         # Culled once idle with no page attached (3 s here; the default is 30 s).
-        assert _wait(lambda: not alive(kernels), timeout=30), "the abandoned kernel was not shut down"
+        assert _wait(lambda: not alive(preheated), timeout=30), "the abandoned kernel was not shut down"
+        # The pool was refilled, and a kernel waiting in the pool is never culled.
+        assert _wait(lambda: len(_kernels(pid)) == 1, timeout=60)
+        waiting = _kernels(pid)
+        time.sleep(3 + 5)
+        assert alive(waiting) == waiting
         assert port_open(port)  # the server itself keeps serving
     finally:
         server.stop()

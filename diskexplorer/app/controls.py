@@ -5,13 +5,15 @@ import html
 import math
 
 import ipywidgets as w
+from ipywidgets.widgets.widget_description import DescriptionStyle
+from ipywidgets.widgets.widget_string import HTMLStyle
 
 from ..errors import DiskExplorerError
 from ..observables.scene import Scene
 from ..physics.parameters import ParameterSpec, parameter_specs
 from ..physics.star import LUMINOSITY_SPEC, Star
 from .palette import MUTED
-from .slider_aria import SliderAria
+from .slider_title import SliderCompanion
 
 __all__ = ["ParamControl", "StarPanel", "GeometryPanel", "ExtendedPanel", "unit_text", "nice_step",
            "LUMINOSITY_SPEC"]
@@ -44,6 +46,22 @@ _ON_GRID = 1e-6
 #: Units as words for assistive technology (symbols such as R☉ are read out badly).
 _SPOKEN_UNITS = {"solRad": "solar radii", "solMass": "solar masses", "solLum": "solar luminosities",
                  "deg": "degrees", "um": "µm", "g / cm2": "g/cm²"}
+
+
+_SHARED = {}
+
+
+def _shared(key, make):
+    """One Layout or Style shared by every control, for the parts no caller changes.
+
+    Every widget brings a Layout (and most a Style), each a widget of its own that a new
+    browser page receives and builds: sharing them removes five widgets per control.
+    A shared one that was closed (``Widget.close_all``) is replaced.
+    """
+    obj = _SHARED.get(key)
+    if obj is None or getattr(obj, "comm", None) is None:
+        obj = _SHARED[key] = make()
+    return obj
 
 
 def nice_step(span, steps):
@@ -178,7 +196,7 @@ class ParamControl(w.HBox):
         unit = unit_text(spec.unit)
         self._label_text = (f"{_label_html(spec.label)}"
                             + (f" <span style='color:{MUTED}'>[{html.escape(unit)}]</span>" if unit else ""))
-        self.label = w.HTML(layout={"width": "92px"})
+        self.label = w.HTML(layout={"width": "92px"}, style=_shared("html-style", HTMLStyle))
         value = float(value)
         lo, hi = spec.bounds
         if spec.scale == "log":
@@ -189,22 +207,31 @@ class ParamControl(w.HBox):
         self._value = value
         self._grid = _Grid(spec, value, self._step)
         g = self._grid
+        # Widths stay per control (the mixture editor narrows its own); styles are shared.
+        slider_style = _shared("slider-style", w.SliderStyle)
         if spec.scale == "log":
             self.slider = w.FloatLogSlider(value=value, base=10, min=g.min, max=g.max, step=self._step,
-                                           readout=False, continuous_update=True, layout={"width": "170px"})
+                                           readout=False, continuous_update=True, layout={"width": "170px"},
+                                           style=slider_style)
         else:
             self.slider = w.FloatSlider(value=value, min=g.min, max=g.max, step=self._step,
-                                        readout=False, continuous_update=True, layout={"width": "170px"})
-        self.number = w.FloatText(value=spec.rounded(value), layout={"width": "82px"})
+                                        readout=False, continuous_update=True, layout={"width": "170px"},
+                                        style=slider_style)
+        self.number = w.FloatText(value=spec.rounded(value), layout={"width": "82px"},
+                                  style=_shared("text-style", DescriptionStyle))
         self._unit = unit
         spoken = _SPOKEN_UNITS.get(spec.unit, spec.unit)
-        self.aria = SliderAria(label=f"{spec.label}" + (f" [{spoken}]" if spoken else "") + f": {spec.description}",
-                               unit=spoken, log=spec.scale == "log", digits=spec.digits)
+        self.aria = SliderCompanion(label=f"{spec.label}" + (f" [{spoken}]" if spoken else "") + f": {spec.description}",
+                                    unit=spoken, log=spec.scale == "log", digits=spec.digits,
+                                    title_name=spec.label, title_unit=unit, title_description=spec.description,
+                                    layout=_shared("hidden", lambda: w.Layout(display="none")))
         self._show_grid()
         self.slider.observe(self._on_slider_change, "value")
         self.number.observe(self._on_number_change, "value")
-        super().__init__([self.label, self.slider, self.number, self.aria], layout={"align_items": "center"})
+        super().__init__([self.label, self.slider, self.number, self.aria],
+                         layout=_shared("row", lambda: w.Layout(align_items="center")))
         self._show_number()
+        self._show_title()
         self.add_class("dx-param")
         if css:
             self.add_class(css)
@@ -220,6 +247,10 @@ class ParamControl(w.HBox):
         return self._step
 
     def _show_grid(self):
+        # A new grid means the value left the old one (typed, set from code): the kernel
+        # writes the label's title then; on the grid the page writes it (SliderCompanion).
+        if getattr(self, "_title_anchor", None) not in (None, self._grid.anchor):
+            self._show_title()
         g = self._grid
         with self.slider.hold_sync(), self.slider.hold_trait_notifications():
             self.slider.min = g.min
@@ -233,13 +264,17 @@ class ParamControl(w.HBox):
             self.aria.min_value, self.aria.max_value = g.end_lo, g.end_hi
 
     def _show_number(self):
-        # The box shows spec.digits significant digits; the control's tooltip the exact
-        # value (and what the parameter means).
+        # The box shows spec.digits significant digits; the label's title the exact value.
         shown = self.spec.rounded(self._value)
         if self.number.value != shown:
             self.number.value = shown
-        # (A title on the label's text: ipywidgets puts a widget's own tooltip on its
-        # hidden description label, and a Box's tooltip breaks its view.)
+
+    def _show_title(self):
+        # The control's tooltip: the exact value and what the parameter means. (A title on
+        # the label's text: ipywidgets puts a widget's own tooltip on its hidden
+        # description label, and a Box's tooltip breaks its view.) Written when the grid
+        # is anchored anew; slider steps leave it to the page.
+        self._title_anchor = self._grid.anchor
         exact = (f"{self.spec.label} = {self._value!r}" + (f" {self._unit}" if self._unit else "")
                  + f" — {self.spec.description}")
         text = f"<span class='dx-param-label' title='{html.escape(exact, quote=True)}'>{self._label_text}</span>"

@@ -78,6 +78,46 @@ class Frame:
     wavelength_vis2: np.ndarray = None
 
 
+class _LazyPage(w.VBox):
+    """A tab's page whose content is built the first time it is needed.
+
+    Parameters
+    ----------
+    build : callable
+        Returns ``(widget, parts)``: the page's content and a dict of the objects the
+        explorer exposes as attributes (its panels).
+
+    Notes
+    -----
+    Every widget created in a kernel is sent to a browser page that opens, drawn or not
+    (about 0.5 ms each in Chromium, plus the drawing): the hidden pages held about half of
+    the app's ~1300 widgets.
+    """
+
+    def __init__(self, build):
+        super().__init__()
+        self._build = build
+        self._parts = None
+
+    @property
+    def built(self):
+        """Whether the content exists."""
+        return self._parts is not None
+
+    def build(self):
+        """Build the content now (once); returns the parts."""
+        if self._parts is None:
+            self._parts = {}   # set first: a builder that reads its own parts must not recurse
+            widget, parts = self._build()
+            self._parts.update(parts)
+            self.children = [widget]
+        return self._parts
+
+    def part(self, name):
+        """One of the parts, building the page first if needed."""
+        return self.build()[name]
+
+
 class Explorer(w.VBox):
     """The application widget.
 
@@ -109,8 +149,12 @@ class Explorer(w.VBox):
         The starting-point, χ² grid and derived-quantities pages.
     """
 
+    #: The figure tabs' pages in order, and their titles.
+    PAGE_ORDER = ("interferometry", "spectra", "structure", "start", "scan", "derived")
+    PAGE_TITLES = {"interferometry": "interferometry", "spectra": "SED & spectrum", "structure": "disk structure",
+                   "start": "starting point", "scan": "χ² grid", "derived": "derived quantities"}
     #: Figure-tab index of each page (the structure page is also used by ``structure_visible``).
-    PAGES = {"interferometry": 0, "spectra": 1, "structure": 2, "start": 3, "scan": 4, "derived": 5}
+    PAGES = {name: k for k, name in enumerate(PAGE_ORDER)}
 
     def __init__(self, scene, data=None, scheduler=None, delay=0.04, jobs="thread", workdir=None):
         folder = working_folder(workdir)
@@ -143,16 +187,16 @@ class Explorer(w.VBox):
         self.geometry_panel = GeometryPanel(st)
         self.extended_panel = ExtendedPanel(st)
         self.ring_deck = RingDeck(st)
-        self.data_panel = DataPanel(st, on_species_added=self._on_species_added)
-        self.pin_board = PinBoard(st)
-        self.session_panel = SessionPanel(st)
         # Long jobs (refinement, scans) run in background threads unless ``jobs="sync"``.
-        self.export_panel = ExportPanel(st, comparison=lambda: self.view.comparison if self.view else None,
-                                        result=lambda: self.frame.result if self.frame else None,
-                                        visible=lambda: self._page_visible("start"), runner=jobs)
-        self.scan_panel = ScanPanel(st, comparison=lambda: self.view.comparison if self.view else None,
-                                    runner=jobs)
-        self.derived_panel = DerivedPanel(st, visible=lambda: self._page_visible("derived"))
+        self._jobs = jobs
+        # Pages other than the first of each tab bar are built when first opened or first
+        # used from code (see _LazyPage): a new browser page then receives and draws
+        # only the widgets it shows.
+        self._lazy = {"data": _LazyPage(self._build_data_page), "pins": _LazyPage(self._build_pins_page),
+                      "spectra": _LazyPage(self._build_spectra_page),
+                      "structure": _LazyPage(self._build_structure_page),
+                      "start": _LazyPage(self._build_start_page), "scan": _LazyPage(self._build_scan_page),
+                      "derived": _LazyPage(self._build_derived_page)}
         self.message = w.HTML()
         self.message.add_class("dx-message")
         st.observe(self._on_notice, "notice")
@@ -181,25 +225,14 @@ class Explorer(w.VBox):
 
     # ------------------------------------------------------------------ layout
     def _layout(self):
-        f = self.figures
+        f, lazy = self.figures, self._lazy
         model_page = w.VBox([self.star_panel, self.geometry_panel, self.extended_panel, self.ring_deck])
-        controls = w.Tab([model_page, self.data_panel, w.VBox([self.pin_board, self.session_panel])],
-                         titles=("model", "data", "pins & session"))
-        controls.layout = {"width": "400px", "min_width": "400px"}
-        controls.add_class("dx-controls")
-        # |V|, correlated-flux and differential-phase figures show only when the data hold them.
-        inter = w.VBox([w.HBox([self.curve_pa, self.toggles["log_vis2"]]), f["vis2"].widget, f["t3"].widget,
-                        f["visamp"].widget, f["corrflux_data"].widget, f["diffphi"].widget, f["corrflux"].widget])
-        spectra = w.VBox([w.HBox([self.toggles["log_sed_x"], self.toggles["log_sed_y"]]), f["sed"].widget,
-                          f["spectrum"].widget])
-        structure = w.VBox([w.HBox([w.HTML("<b>image</b>", layout={"width": "50px"}), self.image_wl]),
-                            f["image"].widget,
-                            w.HBox([w.HTML("<b>profiles</b>", layout={"width": "60px"}), self.profile_wl,
-                                    self.toggles["log_profiles"]]),
-                            f["profiles"].widget])
-        self.figure_tabs = w.Tab([inter, spectra, structure, self.export_panel, self.scan_panel, self.derived_panel],
-                                 titles=("interferometry", "SED & spectrum", "disk structure", "starting point",
-                                         "χ² grid", "derived quantities"))
+        self.control_tabs = w.Tab([model_page, lazy["data"], lazy["pins"]], titles=("model", "data", "pins & session"))
+        self.control_tabs.layout = {"width": "400px", "min_width": "400px"}
+        self.control_tabs.add_class("dx-controls")
+        self.control_tabs.observe(self._on_control_tab_change, "selected_index")
+        self.figure_tabs = w.Tab([self._build_interferometry_page()] + [lazy[name] for name in self.PAGE_ORDER[1:]],
+                                 titles=tuple(self.PAGE_TITLES[name] for name in self.PAGE_ORDER))
         self.figure_tabs.layout = {"flex": "1 1 auto", "min_width": "560px"}
         self.figure_tabs.observe(self._on_tab_change, "selected_index")
         header = w.HBox([w.HTML(f"{_CSS}<span style='font-size:18px;font-weight:700'>diskexplorer</span>"
@@ -209,8 +242,82 @@ class Explorer(w.VBox):
         header.add_class("dx-header")
         right = w.VBox([w.HBox([self.chi2.widget], layout={"padding": "4px 0"}), self.figure_tabs],
                        layout={"flex": "1 1 auto"})
-        super().__init__([header, self.message, w.HBox([controls, right], layout={"width": "100%"})])
+        super().__init__([header, self.message, w.HBox([self.control_tabs, right], layout={"width": "100%"})])
         self.add_class("dx-root")
+
+    # ------------------------------------------------------------------ pages
+    # Each builder returns (page widget, {attribute: object}); the objects become the
+    # attributes of the same names (``app.export_panel``...). A page added to the figure
+    # tabs needs an entry in PAGE_ORDER / PAGE_TITLES and, unless it is the first, a
+    # _LazyPage in __init__.
+    def _build_interferometry_page(self):
+        f = self.figures
+        # |V|, correlated-flux and differential-phase figures show only when the data hold them.
+        return w.VBox([w.HBox([self.curve_pa, self.toggles["log_vis2"]]), f["vis2"].widget, f["t3"].widget,
+                       f["visamp"].widget, f["corrflux_data"].widget, f["diffphi"].widget, f["corrflux"].widget])
+
+    def _build_spectra_page(self):
+        f = self.figures
+        page = w.VBox([w.HBox([self.toggles["log_sed_x"], self.toggles["log_sed_y"]]), f["sed"].widget,
+                       f["spectrum"].widget])
+        return page, {}
+
+    def _build_structure_page(self):
+        f = self.figures
+        page = w.VBox([w.HBox([w.HTML("<b>image</b>", layout={"width": "50px"}), self.image_wl]),
+                       f["image"].widget,
+                       w.HBox([w.HTML("<b>profiles</b>", layout={"width": "60px"}), self.profile_wl,
+                               self.toggles["log_profiles"]]),
+                       f["profiles"].widget])
+        return page, {}
+
+    def _build_data_page(self):
+        panel = DataPanel(self.state, on_species_added=self._on_species_added)
+        return panel, {"data_panel": panel}
+
+    def _build_pins_page(self):
+        board, session = PinBoard(self.state), SessionPanel(self.state)
+        return w.VBox([board, session]), {"pin_board": board, "session_panel": session}
+
+    def _comparison(self):
+        return self.view.comparison if self.view else None
+
+    def _build_start_page(self):
+        panel = ExportPanel(self.state, comparison=self._comparison,
+                            result=lambda: self.frame.result if self.frame else None,
+                            visible=lambda: self._page_visible("start"), runner=self._jobs)
+        return panel, {"export_panel": panel}
+
+    def _build_scan_page(self):
+        panel = ScanPanel(self.state, comparison=self._comparison, runner=self._jobs)
+        return panel, {"scan_panel": panel}
+
+    def _build_derived_page(self):
+        panel = DerivedPanel(self.state, visible=lambda: self._page_visible("derived"))
+        return panel, {"derived_panel": panel}
+
+    def _part(self, page, name):
+        return self._lazy[page].part(name)
+
+    data_panel = property(lambda self: self._part("data", "data_panel"), doc="The data page (DataPanel).")
+    pin_board = property(lambda self: self._part("pins", "pin_board"), doc="The pins (PinBoard).")
+    session_panel = property(lambda self: self._part("pins", "session_panel"), doc="Sessions (SessionPanel).")
+    export_panel = property(lambda self: self._part("start", "export_panel"),
+                            doc="The starting-point page (ExportPanel).")
+    scan_panel = property(lambda self: self._part("scan", "scan_panel"), doc="The χ² grid page (ScanPanel).")
+    derived_panel = property(lambda self: self._part("derived", "derived_panel"),
+                             doc="The derived-quantities page (DerivedPanel).")
+
+    def _built(self, page):
+        return self._lazy[page].built
+
+    def _on_control_tab_change(self, change):
+        tabs = self.control_tabs
+        page = tabs.children[tabs.selected_index] if tabs.selected_index is not None else None
+        if isinstance(page, _LazyPage) and not page.built:
+            page.build()
+            if page is self._lazy["pins"] and self.frame is not None:
+                self._update_pins()
 
     # ------------------------------------------------------------------ the loop
     def _on_species_added(self, name):
@@ -288,11 +395,11 @@ class Explorer(w.VBox):
                 self._update_structure(picked)
         if "pins" in tiers:
             self._update_pins()
-        if "model" in tiers:
+        if "model" in tiers and self._built("scan"):
             self.scan_panel.sync_paths()
-        if tiers & {"model", "export"}:
+        if tiers & {"model", "export"} and self._built("start"):
             self.export_panel.refresh()
-        if tiers & {"model", "derived"}:
+        if tiers & {"model", "derived"} and self._built("derived"):
             self.derived_panel.refresh()
         self.timings.append(time.perf_counter() - t0)
         self.recompute_log.append(sorted(tiers))
@@ -346,6 +453,14 @@ class Explorer(w.VBox):
         self._structure_stale.difference_update(which)
 
     def _on_tab_change(self, change):
+        page = self.figure_tabs.children[change["new"]] if change["new"] is not None else None
+        if isinstance(page, _LazyPage) and not page.built:
+            page.build()
+            # A panel built now catches up with the state (deferred updates arrive on_shown).
+            if page is self._lazy["start"] and self.frame is not None:
+                self.export_panel.refresh()
+            if page is self._lazy["derived"] and self.frame is not None:
+                self.derived_panel.refresh()
         if self.structure_visible and self._structure_stale and self.frame is not None:
             self._update_structure(tuple(self._structure_stale))
         if self.frame is not None:
@@ -366,6 +481,8 @@ class Explorer(w.VBox):
         for fig in self.figures.values():
             fig.update_pins(pins)
         self.chi2.update_pins([(n, c, fr.result) for n, c, fr in pins])
+        if not self._built("pins"):
+            return  # the board shows the totals when its page is first opened
         self.pin_board.show_totals([fr.result.total / fr.result.n_total if fr.result is not None and fr.result.n_total
                                     else None for _, _, fr in pins])
 
