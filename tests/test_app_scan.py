@@ -12,9 +12,12 @@ from diskexplorer.fitting import Comparison
 SCAN_PAGE = 4
 
 
-def _app(material, jobs="sync"):
+def _app(material, jobs="sync", warm=False):
     scene, data = material
     app = explore(data=dict(data), scene=scene, scheduler=ManualScheduler(), jobs=jobs)
+    # The live app (jobs="thread") warms the local cluster when the page opens: only the
+    # tests of that warming do.
+    app.scan_panel.warm = warm
     app.figure_tabs.selected_index = SCAN_PAGE
     return app
 
@@ -157,3 +160,66 @@ def test_local_scans_share_one_warm_cluster(material):
     finally:
         close_local_cluster()
     assert local_client(start=False) is None
+
+
+@pytest.mark.slow
+def test_opening_the_page_warms_the_cluster_every_scan_reuses(material):
+    from diskexplorer.fitting.scan import close_local_cluster, local_client
+
+    close_local_cluster()
+    try:
+        app = _app(material, warm=True)          # the page is opened here
+        panel = app.scan_panel
+        assert panel._warmer is not None and panel._warmer.wait(120)
+        warm = local_client(start=False)
+        assert warm is not None and panel.progress.value.startswith("local dask cluster ready")
+        assert not panel.on_shown()               # once only
+        _set_axes(panel)
+        panel.scheduler.value = "local"
+        assert panel.scan_now() and "complete: 9 of 9" in panel.progress.value
+        assert local_client(start=False) is warm
+    finally:
+        close_local_cluster()
+
+
+_KERNEL_CODE = """
+import os, time
+from diskexplorer.app import explore
+from diskexplorer.fitting.scan import local_client
+app = explore()
+app.figure_tabs.selected_index = app.PAGES["scan"]
+t0 = time.time()
+while local_client(start=False) is None and time.time() - t0 < 120:
+    time.sleep(0.2)
+print("WORKERS", sorted(local_client(start=False).run(os.getpid).values()))
+"""
+
+
+@pytest.mark.slow
+@pytest.mark.parametrize("how", ["shutdown", "kill"])
+def test_the_warm_cluster_ends_with_the_kernel(how):
+    # A real kernel opens the scan page (the live app's threads warm the cluster), then is
+    # shut down as voila does when a page closes, or killed: no worker process outlives it.
+    import psutil
+    from _processes import alive
+    from jupyter_client.manager import start_new_kernel
+
+    km, kc = start_new_kernel(kernel_name="python3")
+    try:
+        out = []
+        reply = kc.execute_interactive(_KERNEL_CODE, timeout=240,
+                                       output_hook=lambda m: out.append(m["content"].get("text", "")))
+        assert reply["content"]["status"] == "ok", reply["content"]
+        line = next(x for x in "".join(out).splitlines() if x.startswith("WORKERS"))
+        workers = [psutil.Process(int(p)) for p in line.split("[")[1].rstrip("]").split(",")]
+        assert len(workers) >= 1 and alive(workers) == workers
+    finally:
+        kc.stop_channels()
+        if how == "shutdown":
+            km.shutdown_kernel(now=False)
+        else:
+            km.shutdown_kernel(now=True)   # killed: no shutdown request, no atexit hooks
+    end = time.time() + 30
+    while alive(workers) and time.time() < end:
+        time.sleep(0.25)
+    assert not alive(workers), [p.pid for p in alive(workers)]

@@ -468,6 +468,8 @@ class Explorer(w.VBox):
                 self.export_panel.on_shown()
             if self._page_visible("derived"):
                 self.derived_panel.on_shown()
+        if self._page_visible("scan") and self._built("scan"):
+            self.scan_panel.on_shown()
 
     def _update_pins(self):
         pins = []

@@ -114,6 +114,10 @@ class ScanPanel(w.VBox):
         Returns the :class:`~diskexplorer.fitting.Comparison` of the loaded (filtered) data.
     runner : {"thread", "sync"}
         Background thread (the app) or at once (tests).
+    warm : bool, optional
+        Start the process's shared local dask cluster in the background when the page is
+        first shown (:meth:`on_shown`), so that the first scan does not wait for it.
+        Default: with the ``"thread"`` runner (the live app), not in tests.
 
     Attributes
     ----------
@@ -129,10 +133,12 @@ class ScanPanel(w.VBox):
         Chunks drawn during the last scan.
     """
 
-    def __init__(self, state, comparison=None, runner="thread"):
+    def __init__(self, state, comparison=None, runner="thread", warm=None):
         self.state = state
         self._comparison = comparison or (lambda: None)
         self.runner = JobRunner(runner)
+        self.warm = (runner == "thread") if warm is None else bool(warm)
+        self._warmer = None
         self.chi2 = None
         self.axes = None
         self.datasets = []
@@ -219,6 +225,48 @@ class ScanPanel(w.VBox):
         box.lo.value, box.hi.value, box.log.value = lo, hi, log
 
     # ------------------------------------------------------------------ running
+    def on_shown(self):
+        """The page came on screen: start the shared local cluster in the background (once).
+
+        Only with ``warm`` and "local" chosen; the cluster is the process's
+        (:func:`~diskexplorer.fitting.scan.local_client`): every scan reuses it and it
+        closes when the kernel's process ends. A scan started meanwhile waits for the same
+        cluster instead of starting another.
+
+        Returns
+        -------
+        bool
+            Whether a start was begun now.
+        """
+        if not self.warm or (self.scheduler.value or "").strip() != "local":
+            return False
+        if self._warmer is not None or self._local_running():
+            return False
+        self._warmer = JobRunner("thread")
+        if not self.runner.busy:
+            self.progress.value = "starting a local dask cluster in the background …"
+
+        def job():
+            from ..fitting.scan import local_client
+
+            try:
+                client = local_client()
+                n = len(client.scheduler_info().get("workers", {}))
+                text, error = f"local dask cluster ready ({n} workers)", None
+            except Exception as exc:  # noqa: BLE001 - shown; a scan would try again
+                text, error = "", exc
+            self._warmer.post(lambda: self._warmed(text, error))
+
+        self._warmer.start(job, name="diskexplorer-cluster-start")
+        return True
+
+    def _warmed(self, text, error):
+        if error is not None:
+            self._warmer = None   # a later showing (or the scan itself) tries again
+            self.state.say(f"local dask cluster did not start: {error}")
+        if not self.runner.busy and self.progress.value.startswith("starting a local dask cluster in"):
+            self.progress.value = text
+
     def _client(self, where):
         """A dask client for ``where`` ("local" or an address), kept for later scans."""
         if where == "local":
