@@ -175,9 +175,11 @@ class Explorer(w.VBox):
         self.frame = None
 
         # figures
-        self.figures = {"sed": SedFigure(), "spectrum": SpectrumFigure(), "vis2": Vis2Figure(),
-                        "t3": ClosureFigure(), "visamp": VisAmpFigure(), "corrflux_data": CorrFluxPointsFigure(),
-                        "diffphi": DiffPhaseFigure(), "corrflux": CorrelatedFluxFigure(),
+        # In the order a recompute sends their updates: the first page's figures first, so
+        # the page draws what is on screen before the hidden pages' updates arrive.
+        self.figures = {"vis2": Vis2Figure(), "t3": ClosureFigure(), "visamp": VisAmpFigure(),
+                        "corrflux_data": CorrFluxPointsFigure(), "diffphi": DiffPhaseFigure(),
+                        "corrflux": CorrelatedFluxFigure(), "sed": SedFigure(), "spectrum": SpectrumFigure(),
                         "profiles": ProfilesFigure(), "image": ImageFigure()}
         self.chi2 = Chi2Table()
 
@@ -379,10 +381,11 @@ class Explorer(w.VBox):
                 fig.apply_style(st)
         if "model" in tiers:
             self.frame = self._frame(st.scene, full=True)
+            # The V² curve first: the line the eye follows while a slider moves.
+            f["vis2"].update_curve(self.frame)
             for name, fig in f.items():
                 if name not in ("image", "profiles"):
                     fig.update_model(self.frame)
-            f["vis2"].update_curve(self.frame)
             self._update_structure()
             self.chi2.update_model(self.frame.result)
         else:
