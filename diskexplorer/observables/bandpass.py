@@ -45,10 +45,14 @@ Implementation: sub-channel quadrature. Each channel is replaced by the n Gauss�
 nodes of its interval, every point (u, v, λ, Δλ) by n points (u, v, λ_k); one ordinary
 :class:`~diskexplorer.observables.engine.Evaluator` is bound to that sub-sampling (all its
 caches apply unchanged) and a fixed sparse matrix of quadrature weights sums the sub-points
-back into channels. The number of nodes is chosen from Δλ/λ (:func:`channel_node_count`)
-so that the quadrature error stays below 2e-5 in V for fringes of up to
-:data:`MAX_FRINGES` cycles across the source; a channel of zero width is one node at λ
-(exactly the monochromatic value).
+back into channels. The number of nodes is chosen per channel from Δλ/λ and the largest
+number of fringe cycles any part of the scene can show in it (:func:`channel_node_count`):
+all emission lies within the angular radius θ of the outermost ring edge (or the star),
+so a point of baseline B shows at most B θ/λ cycles across the source, and the quadrature
+error stays below :data:`QUADRATURE_TOLERANCE` in V for it. :class:`ChannelEvaluator`
+keeps one sub-sampling per size class of θ (steps of √2), made when a scene first needs
+it; a scene that grows past its class gets the next one. A channel of zero width is one
+node at λ (exactly the monochromatic value).
 """
 from __future__ import annotations
 
@@ -61,13 +65,22 @@ from scipy import sparse
 from ..errors import ParameterError
 from .engine import Evaluation, Evaluator, Sampling, _Cache
 
-__all__ = ["ChannelSampling", "ChannelEvaluator", "channel_node_count", "channel_nodes",
-           "check_bandwidth", "MAX_FRINGES", "QUADRATURE_TOLERANCE"]
+__all__ = ["ChannelSampling", "ChannelEvaluator", "channel_node_count", "channel_nodes", "source_extent",
+           "check_bandwidth", "MAX_FRINGES", "SPECTRAL_FRINGES", "QUADRATURE_TOLERANCE"]
 
-#: Largest B·s/λ (fringe cycles across the source, |B| in m, s in rad) for which the
-#: quadrature is guaranteed to :data:`QUADRATURE_TOLERANCE`; beyond it the channel
-#: average of a thin ring's V is already ≲ 0.05 in amplitude.
+#: Fringe cycles assumed across the source when a channel's node count is asked for
+#: without a scene (:func:`channel_nodes`); evaluators use the scene's own bound instead.
 MAX_FRINGES = 40.0
+#: Fewest fringe cycles a channel's rule is built for, whatever the baseline: it also
+#: integrates the spectrum's own change across the channel (F_ν of a 1000 K Wien tail at
+#: 1.6 µm varies like e^(−9 λ/λ'), well within a rule exact for 10 cycles), and a zero
+#: baseline (photometry, OI_FLUX) needs nothing else.
+SPECTRAL_FRINGES = 10.0
+#: Size classes of the scene's angular radius θ: θ is rounded up to 2^(k/2) mas, so a new
+#: sub-sampling is made only when the scene grows by more than √2.
+_EXTENT_STEPS_PER_OCTAVE = 2
+#: Sub-samplings kept per evaluator (the current size class and recent ones).
+_EXTENT_CLASSES_KEPT = 3
 #: Largest quadrature error in V for the phase ramp of :data:`MAX_FRINGES` cycles.
 QUADRATURE_TOLERANCE = 2e-5
 _MIN_NODES, _MAX_NODES = 3, 24
@@ -81,33 +94,44 @@ def _gauss_legendre(n):
     return x, w
 
 
-@functools.lru_cache(maxsize=4096)
-def channel_node_count(relative_width):
+def channel_node_count(relative_width, fringes=MAX_FRINGES):
     """Gauss–Legendre nodes for a channel of relative width Δλ/λ.
 
     Parameters
     ----------
     relative_width : float
         Δλ/λ (dimensionless; 1/R for a resolving power R).
+    fringes : float
+        The most fringe cycles B·s/λ across the source in this channel (|B| in m, s the
+        angular offset of the farthest emission in rad); default :data:`MAX_FRINGES`.
 
     Returns
     -------
     int
         1 for a channel of zero width; otherwise the smallest n ≥ 3 whose quadrature of a
         fringe exp(i a x), x ∈ [−1, 1], is exact to :data:`QUADRATURE_TOLERANCE` for the
-        half-span a = π · MAX_FRINGES · Δλ/λ (the phase excursion of MAX_FRINGES cycles
+        half-span a = π · fringes · Δλ/λ (the phase excursion of ``fringes`` cycles
         across the channel's half-width), at most 24.
 
     Notes
     -----
     The exact average is sin(a)/a; the n-point rule's value is Σ w_k cos(a x_k)/2. The
     phase of V across the channel is 2π B·s/λ' ≈ 2π (B·s/λ)(1 − (λ' − λ)/λ), so its
-    half-span is π (B·s/λ) Δλ/λ. For R = 20 this gives 8 nodes, for R = 30 and 40 six, for R = 100 four.
+    half-span is π (B·s/λ) Δλ/λ. With 40 fringes: for R = 20 8 nodes, for R = 30 and 40
+    six, for R = 100 four. Three nodes at least also follow the smooth change of F_ν and
+    of the brightness profile across the channel.
     """
     rel = float(relative_width)
     if rel <= 0.0:
         return 1
-    a = math.pi * MAX_FRINGES * rel
+    # Half-spans rounded up to 1/64 rad share one cached answer.
+    return _node_count_for_half_span(math.ceil(math.pi * float(fringes) * rel * 64.0) / 64.0)
+
+
+@functools.lru_cache(maxsize=4096)
+def _node_count_for_half_span(a):
+    if a <= 0.0:
+        return _MIN_NODES
     exact = math.sin(a) / a
     for n in range(_MIN_NODES, _MAX_NODES + 1):
         x, w = _gauss_legendre(n)
@@ -136,13 +160,16 @@ def check_bandwidth(wavelength, bandwidth, where="bandwidth"):
     return bw
 
 
-def channel_nodes(wavelength, bandwidth):
+def channel_nodes(wavelength, bandwidth, fringes=MAX_FRINGES):
     """Quadrature nodes and weights of one top-hat channel.
 
     Parameters
     ----------
     wavelength, bandwidth : float
         Centre and full width of the channel in µm.
+    fringes : float
+        The most fringe cycles across the source in this channel (see
+        :func:`channel_node_count`).
 
     Returns
     -------
@@ -151,7 +178,7 @@ def channel_nodes(wavelength, bandwidth):
     weights : ndarray
         Weights summing to 1: Σ w_k f(λ_k) approximates the channel mean ∫ f dλ / Δλ.
     """
-    n = channel_node_count(bandwidth / wavelength)
+    n = channel_node_count(bandwidth / wavelength, fringes)
     if n == 1:
         return np.array([float(wavelength)]), np.array([1.0])
     x, w = _gauss_legendre(n)
@@ -179,32 +206,36 @@ class ChannelSampling(Sampling):
         self.bandwidths = channels[:, 1].copy()
 
 
-class ChannelEvaluator:
-    """Evaluates scenes on a sampling of finite-width channels (see the module notes).
+def source_extent(scene):
+    """Angular radius (rad) within which all of ``scene``'s emission lies.
 
-    Parameters
-    ----------
-    u, v : array_like
-        Baselines in m.
-    wavelength, bandwidth : array_like
-        Channel centres and full widths in µm (all four broadcast together); a width of 0
-        is a monochromatic point.
-    accuracy : int
-        Passed to the inner :class:`~diskexplorer.observables.engine.Evaluator`.
-
-    Attributes
-    ----------
-    sampling : ChannelSampling
-        The channels.
-    inner : Evaluator
-        The evaluator on the sub-wavelength sampling (n nodes per point).
+    The outer edge of the farthest enabled ring, or the star's radius if larger; the
+    fully resolved component has V = 0 and no extent. Inclination only shortens the
+    projected offsets, so this bounds every point's B·s/λ.
     """
+    from ..physics.constants import ARCSEC_RAD, AU_M, R_SUN_M
 
-    def __init__(self, u=None, v=None, wavelength=None, bandwidth=None, *, sampling=None, accuracy=1):
-        s = sampling if sampling is not None else ChannelSampling(u, v, wavelength, bandwidth)
-        self.sampling = s
-        self.accuracy = int(accuracy)
-        pairs = [channel_nodes(lam, bw) for lam, bw in zip(s.wavelengths, s.bandwidths)]
+    outer = max((r.r_out for r in scene.rings if r.enabled), default=0.0)
+    if scene.star is not None:
+        outer = max(outer, scene.star.radius * R_SUN_M / AU_M)
+    # 1 au at 1 pc subtends 1 arcsec.
+    return outer / scene.distance * ARCSEC_RAD
+
+
+def _extent_class(extent):
+    """The size class (an int) of an angular radius in rad, and its upper bound in rad."""
+    from ..physics.constants import RAD_PER_MAS
+
+    mas = max(float(extent) / RAD_PER_MAS, 1e-3)
+    k = math.ceil(_EXTENT_STEPS_PER_OCTAVE * math.log2(mas) - 1e-9)
+    return k, 2.0 ** (k / _EXTENT_STEPS_PER_OCTAVE) * RAD_PER_MAS
+
+
+class _ChannelQuadrature:
+    """One sub-sampling of a ChannelSampling: nodes per channel, inner evaluator, sum matrices."""
+
+    def __init__(self, s, counts_of, accuracy):
+        pairs = [channel_nodes(lam, bw, f) for lam, bw, f in zip(s.wavelengths, s.bandwidths, counts_of)]
         counts = np.array([p[0].size for p in pairs], dtype=int)
         node_wl = np.concatenate([p[0] for p in pairs]) if pairs else np.zeros(0)
         node_w = np.concatenate([p[1] for p in pairs]) if pairs else np.zeros(0)
@@ -217,27 +248,89 @@ class ChannelEvaluator:
         self.inner = Evaluator(sampling=Sampling(s.u[point_of_sub], s.v[point_of_sub], node_wl[node_of_sub]),
                                accuracy=accuracy)
         # Sums the sub-points of every point with the quadrature weights: (points × sub-points).
-        self._points_matrix = sparse.csr_matrix((node_w[node_of_sub], np.arange(n_sub), offsets),
-                                                shape=(s.size, n_sub))
+        self.points_matrix = sparse.csr_matrix((node_w[node_of_sub], np.arange(n_sub), offsets),
+                                               shape=(s.size, n_sub))
         # Sums the inner sampling's distinct wavelengths into channels: (channels × inner wavelengths).
         inner_s = self.inner.sampling
         column = np.searchsorted(inner_s.wavelengths, node_wl)
         channel_of_node = np.repeat(np.arange(counts.size), counts)
-        self._channel_matrix = sparse.csr_matrix((node_w, (channel_of_node, column)),
-                                                 shape=(counts.size, inner_s.wavelengths.size))
-        self._averaged = _Cache(8)
+        self.channel_matrix = sparse.csr_matrix((node_w, (channel_of_node, column)),
+                                                shape=(counts.size, inner_s.wavelengths.size))
+        self.averaged = _Cache(8)
+
+
+class ChannelEvaluator:
+    """Evaluates scenes on a sampling of finite-width channels (see the module notes).
+
+    Parameters
+    ----------
+    u, v : array_like
+        Baselines in m.
+    wavelength, bandwidth : array_like
+        Channel centres and full widths in µm (all four broadcast together); a width of 0
+        is a monochromatic point.
+    accuracy : int
+        Passed to the inner :class:`~diskexplorer.observables.engine.Evaluator`.
+    fringes : float, optional
+        A fixed bound on the fringe cycles across the source for every channel (e.g.
+        :data:`MAX_FRINGES`); default: from each scene's extent (:func:`source_extent`)
+        and each channel's longest baseline, per size class of the extent.
+
+    Attributes
+    ----------
+    sampling : ChannelSampling
+        The channels.
+    inner : Evaluator
+        The evaluator on the sub-wavelength sampling of the size class used last.
+    """
+
+    def __init__(self, u=None, v=None, wavelength=None, bandwidth=None, *, sampling=None, accuracy=1,
+                 fringes=None):
+        s = sampling if sampling is not None else ChannelSampling(u, v, wavelength, bandwidth)
+        self.sampling = s
+        self.accuracy = int(accuracy)
+        self.fringes = None if fringes is None else float(fringes)
+        # Longest spatial frequency (rad⁻¹) of each distinct channel: B/λ of its points.
+        rho = np.hypot(s.u, s.v) / (s.wavelength * 1e-6) if s.size else np.zeros(0)
+        self._rho_max = np.zeros(s.wavelengths.size)
+        if s.size:
+            np.maximum.at(self._rho_max, s.wave_index, rho)
+        self._quadratures = {}
+        self._current = None
+
+    def _quadrature(self, scene):
+        """The sub-sampling for ``scene``'s size class (made on first use)."""
+        if self.fringes is not None:
+            key, fringes = "fixed", np.full(self._rho_max.size, self.fringes)
+        elif not np.any(self._rho_max > 0):
+            key, fringes = "zero baseline", np.full(self._rho_max.size, SPECTRAL_FRINGES)
+        else:
+            key, bound = _extent_class(source_extent(scene))
+            fringes = np.maximum(self._rho_max * bound, SPECTRAL_FRINGES)
+        q = self._quadratures.pop(key, None)
+        if q is None:
+            q = _ChannelQuadrature(self.sampling, fringes, self.accuracy)
+        self._quadratures[key] = q          # most recently used last
+        while len(self._quadratures) > _EXTENT_CLASSES_KEPT:
+            self._quadratures.pop(next(iter(self._quadratures)))
+        self._current = q
+        return q
+
+    @property
+    def inner(self):
+        """The inner evaluator of the size class used last (of the first scene's if none yet)."""
+        return (self._current or self._quadrature_without_scene()).inner
+
+    def _quadrature_without_scene(self):
+        q = _ChannelQuadrature(self.sampling, np.full(self._rho_max.size, self.fringes or MAX_FRINGES),
+                               self.accuracy)
+        self._current = q
+        return q
 
     @property
     def node_count(self):
-        """Sub-points of the inner sampling per point, on average."""
+        """Sub-points of the inner sampling per point, on average (size class used last)."""
         return self.inner.sampling.size / max(self.sampling.size, 1)
-
-    def _average_points(self, values):
-        if values is None:
-            return None
-        out = self._points_matrix @ values
-        out.flags.writeable = False
-        return out
 
     def evaluate(self, scene, fluxes_only=False) -> Evaluation:
         """Channel-averaged visibilities and channel-mean fluxes of ``scene``.
@@ -247,19 +340,28 @@ class ChannelEvaluator:
         channel means Σ_k w_k F_ν(λ_k) (Jy) per channel, so that ``vis`` is the coherent
         channel average.
         """
-        inner = self.inner.evaluate(scene, fluxes_only=fluxes_only)
+        q = self._quadrature(scene)
+        inner = q.inner.evaluate(scene, fluxes_only=fluxes_only)
         if fluxes_only:
             re = im = None
         else:
             # The inner sums are shared read-only arrays reused while the scene's components
             # are unchanged; the averaged pair is kept for them (the key holds them alive).
             key = (id(inner.numerator_real), id(inner.numerator_imag))
-            re, im = self._averaged.get(key, lambda: (
-                self._average_points(inner.numerator_real), self._average_points(inner.numerator_imag),
+            re, im = q.averaged.get(key, lambda: (
+                _average(q.points_matrix, inner.numerator_real), _average(q.points_matrix, inner.numerator_imag),
                 inner.numerator_real, inner.numerator_imag))[:2]
-        c = self._channel_matrix
+        c = q.channel_matrix
         s = self.sampling
         return Evaluation(numerator_real=re, numerator_imag=im, wave_index=s.wave_index, shape=s.shape,
                           wavelengths=s.wavelengths, flux_star=c @ inner.flux_star,
                           flux_rings=[c @ f for f in inner.flux_rings],
                           flux_extended=c @ inner.flux_extended)
+
+
+def _average(matrix, values):
+    if values is None:
+        return None
+    out = matrix @ values
+    out.flags.writeable = False
+    return out
