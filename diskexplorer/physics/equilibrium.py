@@ -237,7 +237,7 @@ def grey_temperature(star, r):
     return (heating(star, r) / SIGMA_SB) ** 0.25
 
 
-def equilibrium_temperature(opacity, star, r, iterations=3):
+def equilibrium_temperature(opacity, star, r, iterations=2):
     """Optically thin equilibrium temperature T_s(r) in K of grains of ``opacity``.
 
     Parameters
