@@ -109,9 +109,10 @@ class DataSetRow(w.VBox):
             # Channels of low spectral resolution smear V², closure and differential phases;
             # switching it off compares the model at the channel centres (faster, and what
             # a file without meaningful EFF_BAND needs).
-            self.bandpass = w.Checkbox(value=bool(d.bandpass), description="channel bandpass", indent=False,
-                                       tooltip="average the model over each channel's EFF_BAND",
-                                       layout={"width": "140px"})
+            self.bandpass = w.Checkbox(value=bool(d.bandpass), description="bandpass", indent=False,
+                                       tooltip="channel bandpass: average the model over each channel's EFF_BAND",
+                                       layout={"width": "86px"})
+            self.text.layout.width = "214px"
             self.bandpass.add_class("dx-bandpass")
             if on_bandpass is not None:
                 self.bandpass.observe(lambda ch: on_bandpass(self.data_set, bool(ch["new"])), "value")
