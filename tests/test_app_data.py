@@ -21,6 +21,7 @@ from diskexplorer.errors import DataError
 from diskexplorer.fitting.comparison import Comparison
 from diskexplorer.sample import demo_scene, load_sample_data
 from diskexplorer.testing import make_oifits
+from diskexplorer.app.figures.base import drawn_dots
 
 # An invented K-band instrument with 8 channels at 2.0–2.35 µm and an L-band one with 6, on
 # an array of its own (the sample has neither these wavelengths nor this array).
@@ -198,7 +199,7 @@ def test_rows_list_file_kind_points_and_remove_updates_everything(files):
     settle(app)
     assert app.debouncer.calls == calls + 1 and "data" in app.recompute_log[-1]
     assert app.judgement().npoints["vis2"] == 600 < n_vis2
-    assert np.asarray(app.figures["vis2"].data.x).size == 600
+    assert drawn_dots(app.figures["vis2"].data)[0].size == 600
     assert list(app.data_panel.bands.options) == ["K"]
     assert app.state.data_sources["oifits"] == [str(files / "night_k.fits")]
 
@@ -210,7 +211,7 @@ def test_rows_list_file_kind_points_and_remove_updates_everything(files):
     app.data_panel.remove_all()
     settle(app)
     assert app.judgement() is None and "no data loaded" in app.chi2.widget.value
-    assert np.asarray(app.figures["vis2"].data.x).size == 0
+    assert drawn_dots(app.figures["vis2"].data)[0].size == 0
     assert app.data_panel.bands.options == () and app.data_panel.clear_button.disabled
 
 
@@ -337,9 +338,13 @@ def _check_colours(app):
     for name in ("vis2", "t3"):
         fig = app.figures[name]
         wl = np.asarray(getattr(app.view, name)["wavelength"])[fig._shown]
-        np.testing.assert_allclose(np.asarray(fig.data.color), wavelength_position(wl, lo, hi))
-        assert (fig.colour.min, fig.colour.max) == (0.0, 1.0)
-        assert np.asarray(fig.data.x).size == wl.size == np.asarray(fig.data.color).size
+        pts = {k: np.asarray(v)[fig._shown] for k, v in getattr(app.view, name).items()}
+        # every drawn dot is a point at its place in the colour of its wavelength on the key
+        x, y, colours = drawn_dots(fig.data)
+        assert x.size == wl.size
+        assert sorted(zip(x, y, colours)) == sorted(zip(pts["freq"], pts["value"], wavelength_colours(wl, lo, hi)))
+        assert 0.0 <= wavelength_position(wl, lo, hi).min() and wavelength_position(wl, lo, hi).max() <= 1.0
+        assert fig.residuals.colors == fig.data.colors
         assert len(set(wavelength_colours(np.unique(wl), lo, hi))) == np.unique(wl).size
         assert f"{lo:.3g} µm" in fig.figure.title and f"{hi:.3g} µm" in fig.figure.title
 
@@ -362,7 +367,7 @@ def test_point_colours_after_loads_and_removals(files, other):
     _row(app, "array3_kl.fits").remove_button.click()
     settle(app)
     _check_colours(app)
-    assert np.unique(np.asarray(app.figures["vis2"].data.color)).size == K_WAVES.size
+    assert len(set(drawn_dots(app.figures["vis2"].data)[2])) == K_WAVES.size
 
 
 def test_data_set_describes_itself(files):

@@ -18,6 +18,7 @@ from .derived_panel import DerivedPanel
 from .export_panel import ExportPanel
 from .figures import (Chi2Table, ClosureFigure, CorrelatedFluxFigure, CorrFluxPointsFigure, DiffPhaseFigure,
                       ImageFigure, ProfilesFigure, SedFigure, SpectrumFigure, VisAmpFigure, Vis2Figure)
+from .figures.base import DOTS_CSS
 from .model_views import image, profiles, sed_curves, vis2_curve
 from .palette import ACCENT, INK, MUTED, PAPER
 from .pins import PinBoard, pin_colour
@@ -44,6 +45,7 @@ _CSS = f"""
 .dx-ring-card {{ border-left: 3px solid #d8d4ca; padding-left: 6px; margin: 6px 0; }}
 .dx-controls {{ border-right: 1px solid #e6e4de; padding-right: 6px; }}
 .dx-message {{ font-size: 12px; color: {INK}; }}
+{DOTS_CSS}
 </style>"""
 
 

@@ -6,7 +6,7 @@ import numpy as np
 
 from ..palette import INK, MUTED
 
-__all__ = ["tick_segments", "grouped_ticks", "assign", "same", "new_figure", "error_segments", "swap_scale", "EMPTY"]
+__all__ = ["tick_segments", "grouped_ticks", "dot_segments", "grouped_dots", "drawn_dots", "DOTS_CSS", "assign", "same", "new_figure", "error_segments", "swap_scale", "EMPTY"]
 
 #: An empty float array (marks start empty and are filled by the first update).
 EMPTY = np.zeros(0)
@@ -57,14 +57,19 @@ def _equal_values(a, b):
         return False
 
 
-def new_figure(title, marks, axes, css_class, height="290px", legend=False):
-    """A bqplot Figure in the explorer's look, tagged with ``css_class`` for tests."""
+def new_figure(title, marks, axes, css_class, height="290px", legend=False, dots=False):
+    """A bqplot Figure in the explorer's look, tagged with ``css_class`` for tests.
+
+    ``dots``: the figure draws points as :func:`dot_segments` (tagged ``dx-dots``, round caps).
+    """
     fig = bq.Figure(marks=marks, axes=axes, title=title, animation_duration=0,
                     fig_margin={"top": 34, "bottom": 48, "left": 62, "right": 18},
                     legend_location="top-right", legend_text={"font-size": "11px"},
                     title_style={"font-size": "13px", "fill": INK, "font-weight": "600"},
                     layout={"width": "100%", "height": height, "min_width": "300px"})
     fig.add_class(css_class)
+    if dots:
+        fig.add_class("dx-dots")
     return fig
 
 
@@ -116,10 +121,61 @@ def tick_segments(x, y, half_width):
     return xs, ys
 
 
-def grouped_ticks(x, y, group, n_groups, half_width):
-    """Tick polylines, one row per group (rows padded with NaN), for marks coloured by group."""
+def dot_segments(x, y):
+    """One polyline of dots at (x, y): zero-length segments split by NaN.
+
+    A zero-length segment is stroked as a dot of the line's width when the line caps are
+    round (SVG 1.1, 11.4 'stroke-linecap'; the explorer's figures set them, :data:`DOTS_CSS`).
+    Thousands of points are then one SVG path instead of one element each: a circle per
+    point costs Chromium seconds to draw and restyle (bqplot runs a transition per element).
+    """
+    x, y = np.asarray(x, float), np.asarray(y, float)
+    n = x.size
+    xs = np.empty(3 * n)
+    ys = np.empty(3 * n)
+    xs[0::3] = xs[1::3] = x
+    xs[2::3] = np.nan
+    ys[0::3] = ys[1::3] = y
+    ys[2::3] = np.nan
+    return xs, ys
+
+
+def drawn_dots(mark):
+    """The points a mark of :func:`dot_segments` rows draws, in row order.
+
+    Returns
+    -------
+    x, y : ndarray
+        The dots' positions (data units); padding and NaN breaks left out.
+    colours : list of str
+        Each dot's colour (its row's, cycling through the mark's colours as bqplot does).
+    """
+    x = np.atleast_2d(np.asarray(mark.x, float))
+    y = np.atleast_2d(np.asarray(mark.y, float))
+    if x.size == 0:
+        return np.zeros(0), np.zeros(0), []
+    if x.shape[0] != y.shape[0]:
+        x = np.broadcast_to(x, y.shape)
+    xs, ys, cs = [], [], []
+    for k in range(y.shape[0]):
+        px, py = x[k, 0::3], y[k, 0::3]
+        keep = np.isfinite(px) & np.isfinite(py)
+        xs.append(px[keep])
+        ys.append(py[keep])
+        cs += [mark.colors[k % len(mark.colors)]] * int(keep.sum())
+    return np.concatenate(xs), np.concatenate(ys), cs
+
+
+#: Round line caps on every line of the figures tagged ``dx-dots``: their data points are
+#: zero-length segments (:func:`dot_segments`); ticks and curves gain half a stroke width
+#: at each end.
+DOTS_CSS = ".dx-dots svg path.line { stroke-linecap: round; }"
+
+
+def _grouped(segments, x, y, group, n_groups, *args):
+    """Polylines of ``segments(x, y, *args)``, one row per group (rows padded with NaN)."""
     x, y, group = np.asarray(x, float), np.asarray(y, float), np.asarray(group)
-    rows = [tick_segments(x[group == g], y[group == g], half_width) for g in range(n_groups)]
+    rows = [segments(x[group == g], y[group == g], *args) for g in range(n_groups)]
     width = max((r[0].size for r in rows), default=0) or 1
     xs = np.full((n_groups, width), np.nan)
     ys = np.full((n_groups, width), np.nan)
@@ -127,6 +183,16 @@ def grouped_ticks(x, y, group, n_groups, half_width):
         xs[g, :rx.size] = rx
         ys[g, :ry.size] = ry
     return xs, ys
+
+
+def grouped_ticks(x, y, group, n_groups, half_width):
+    """Tick polylines, one row per group (rows padded with NaN), for marks coloured by group."""
+    return _grouped(tick_segments, x, y, group, n_groups, half_width)
+
+
+def grouped_dots(x, y, group, n_groups):
+    """Dot polylines (:func:`dot_segments`), one row per group, for marks coloured by group."""
+    return _grouped(dot_segments, x, y, group, n_groups)
 
 
 def swap_scale(figure, axis_obj, key, log, **scale_kw):

@@ -7,10 +7,11 @@ import ipywidgets as w
 import numpy as np
 
 from ..palette import INK, MUTED, OKABE_ITO, RING_COLOURS, WAVELENGTH_SCHEME
-from .base import EMPTY, assign, axis, error_segments, grouped_ticks, new_figure, swap_scale, tick_segments
+from .base import (EMPTY, assign, axis, dot_segments, error_segments, grouped_dots, grouped_ticks, new_figure,
+                   swap_scale, tick_segments)
 
 __all__ = ["Vis2Figure", "ClosureFigure", "VisAmpFigure", "CorrFluxPointsFigure", "DiffPhaseFigure",
-           "CorrelatedFluxFigure", "wavelength_colours", "wavelength_position"]
+           "CorrelatedFluxFigure", "wavelength_colours", "wavelength_position", "wavelength_groups"]
 
 
 def wavelength_position(wavelength, lo, hi):
@@ -27,11 +28,35 @@ def wavelength_colours(wavelength, lo, hi):
     return ["#%02x%02x%02x" % tuple(int(round(c)) for c in row) for row in np.atleast_2d(rgb)]
 
 
-#: At most this many points per scatter are sent to the browser: SVG scatters of ~10⁴
-#: circles take seconds to redraw in Chromium. χ² always uses every point.
+def wavelength_groups(wavelength, lo, hi, most=None):
+    """Group points by their colour on the wavelength key spanning ``lo``–``hi`` (µm).
+
+    Each distinct wavelength is a group while there are at most ``most`` (default
+    :data:`MOST_COLOURS`); beyond, the groups are equal bins of the key (the occupied ones).
+
+    Returns
+    -------
+    group : ndarray of int
+        The group of each point, 0 … n_groups − 1.
+    colours : list of str
+        Hex colour of each group.
+    """
+    most = MOST_COLOURS if most is None else most
+    wl = np.asarray(wavelength, float).ravel()
+    waves, group = np.unique(wl, return_inverse=True)
+    if waves.size <= most:
+        return group.ravel(), (wavelength_colours(waves, lo, hi) if waves.size else [])
+    b = np.clip((wavelength_position(wl, lo, hi) * most).astype(int), 0, most - 1)
+    used, group = np.unique(b, return_inverse=True)
+    return group.ravel(), wavelength_colours(lo + (used + 0.5) / most * (hi - lo), lo, hi)
+
+
+#: At most this many points per figure are sent to the browser. χ² always uses every point.
 MAX_DRAWN = 2500
-#: Wavelength bins (colours) of the residual ticks.
-RESIDUAL_BINS = 12
+#: At most this many colours (one SVG path each) for a figure's points and residuals.
+MOST_COLOURS = 64
+#: Diameter of a data point, px (the width of its zero-length stroke).
+DOT_SIZE = 4.2
 
 
 class _PointsFigure:
@@ -45,42 +70,35 @@ class _PointsFigure:
 
     def __init__(self):
         self.sx, self.sy = bq.LinearScale(), bq.LinearScale()
-        # The colour scale never changes: points carry their position on the key (0–1), so
-        # a new wavelength range travels in the same message as the points. Setting the
-        # scale's min/max apart from the colour array let the page recolour the old points
-        # with the new range when the scale's message came first, and bqplot's zero-length
-        # transition then painted those stale colours over the new ones.
-        self.colour = bq.ColorScale(colors=list(WAVELENGTH_SCHEME), min=0.0, max=1.0)
-        sc = {"x": self.sx, "y": self.sy, "color": self.colour}
-        self.errors = bq.Lines(x=EMPTY, y=EMPTY, scales={"x": self.sx, "y": self.sy}, colors=["#c9c6bd"],
-                               stroke_width=1)
-        self.data = bq.Scatter(x=EMPTY, y=EMPTY, color=EMPTY, scales=sc, default_size=14, stroke=None,
-                               opacities=[0.85])
+        xy = {"x": self.sx, "y": self.sy}
+        self.errors = bq.Lines(x=EMPTY, y=EMPTY, scales=xy, colors=["#c9c6bd"], stroke_width=1)
+        # Points are dots in one path per wavelength (wavelength_groups): each path's colour
+        # travels with its rows, so a new wavelength range recolours in the same message.
+        self.data = bq.Lines(x=EMPTY, y=EMPTY, scales=xy, stroke_width=DOT_SIZE, opacities=[0.85],
+                             colors=[MUTED])
         # Model and pin values at the data points are ticks in one path each (see tick_segments).
-        self.model = bq.Lines(x=EMPTY, y=EMPTY, scales={"x": self.sx, "y": self.sy}, colors=[INK],
-                              stroke_width=2.4, opacities=[0.9])
-        self.pin_marks = bq.Lines(x=EMPTY, y=EMPTY, scales={"x": self.sx, "y": self.sy},
-                                  colors=[OKABE_ITO["reddish_purple"]], stroke_width=2.4, visible=False,
-                                  opacities=[0.45])
+        self.model = bq.Lines(x=EMPTY, y=EMPTY, scales=xy, colors=[INK], stroke_width=2.4, opacities=[0.9])
+        self.pin_marks = bq.Lines(x=EMPTY, y=EMPTY, scales=xy, colors=[OKABE_ITO["reddish_purple"]],
+                                  stroke_width=2.4, visible=False, opacities=[0.45])
         self.ax = axis(self.sx, self.xlabel)
         self.ay = axis(self.sy, self.ylabel, "vertical")
         # The wavelength key is written into the title: bqplot 0.13 draws a colour axis in
         # this layout as a few pixels wide, unreadable.
         self.extra_marks = []
-        self._build_extra(sc)
+        self._build_extra(xy)
         self.figure = new_figure(self.title, [self.errors, self.data, self.pin_marks] + self.extra_marks
-                                 + [self.model], [self.ax, self.ay], self.css)
+                                 + [self.model], [self.ax, self.ay], self.css, dots=True)
         self.figure.fig_margin = {"top": 34, "bottom": 48, "left": 62, "right": 24}
         self.rx, self.ry = bq.LinearScale(), bq.LinearScale()
-        # Residuals: ticks grouped into wavelength bins, one coloured path per bin.
+        # Residuals: ticks in the points' colour groups, one coloured path per group.
         self.residuals = bq.Lines(x=EMPTY, y=EMPTY, scales={"x": self.rx, "y": self.ry}, stroke_width=2.4,
-                                  colors=wavelength_colours(np.linspace(0, 1, RESIDUAL_BINS), 0, 1))
+                                  colors=[MUTED])
         self.zero = bq.Lines(x=[0.0, 1.0], y=[0.0, 0.0], scales={"x": self.rx, "y": self.ry}, colors=[MUTED],
                              line_style="dashed")
         self.rax = axis(self.rx, self.xlabel)
         self.residual_figure = new_figure(f"{self.title} residuals", [self.zero, self.residuals],
                                           [self.rax, axis(self.ry, "(data − model)/σ", "vertical")],
-                                          self.css + "-residuals", height="200px")
+                                          self.css + "-residuals", height="200px", dots=True)
         self.widget = w.VBox([self.figure, self.residual_figure], layout={"width": "100%"})
         self._points = None
         self._shown = slice(None)
@@ -115,18 +133,17 @@ class _PointsFigure:
         self._points = pts
         if pts is None:
             assign(self.figure, title=f"{self.title} — no data")
-            assign(self.data, x=EMPTY, y=EMPTY, color=EMPTY)
-            for m in (self.errors, self.model, self.residuals):
+            for m in (self.errors, self.data, self.model, self.residuals):
                 assign(m, x=EMPTY, y=EMPTY)
             return
         lo, hi = view.wavelength_range
-        f = wavelength_position(pts["wavelength"], lo, hi)
-        self._bin = np.clip((f * RESIDUAL_BINS).astype(int), 0, RESIDUAL_BINS - 1)
-        assign(self.residuals, colors=wavelength_colours(lo + (np.arange(RESIDUAL_BINS) + 0.5) / RESIDUAL_BINS
-                                                         * (hi - lo), lo, hi))
+        self._group, colours = wavelength_groups(pts["wavelength"], lo, hi)
+        self._n_groups = len(colours)
         ex, ey = error_segments(pts["freq"], pts["value"], pts["error"])
         assign(self.errors, x=ex, y=ey)
-        assign(self.data, x=pts["freq"], y=pts["value"], color=f)
+        dx, dy = grouped_dots(pts["freq"], pts["value"], self._group, self._n_groups)
+        assign(self.data, x=dx, y=dy, colors=colours)
+        assign(self.residuals, colors=colours)
         fmin, fmax = self._x_range(pts["freq"])
         self._tick = 0.004 * (fmax - fmin)
         assign(self.sx, min=fmin, max=fmax)
@@ -148,7 +165,7 @@ class _PointsFigure:
         mx, my = tick_segments(pts["freq"], np.asarray(result.model[self.model_key])[self._rows], self._tick)
         assign(self.model, x=mx, y=my)
         r = np.asarray(result.residuals[self.model_key])[self._rows]
-        rx, ry = grouped_ticks(pts["freq"], r, self._bin, RESIDUAL_BINS, self._tick)
+        rx, ry = grouped_ticks(pts["freq"], r, self._group, self._n_groups, self._tick)
         assign(self.residuals, x=rx, y=ry)
 
     def update_pins(self, pins):
@@ -279,15 +296,17 @@ class CorrelatedFluxFigure:
     def __init__(self):
         self.sx, self.sy = bq.LogScale(), bq.LinearScale()
         sc = {"x": self.sx, "y": self.sy}
-        self.lines = bq.Lines(x=EMPTY, y=EMPTY, scales=sc, stroke_width=1.6, display_legend=True,
-                              marker="circle", marker_size=10)
+        self.lines = bq.Lines(x=EMPTY, y=EMPTY, scales=sc, stroke_width=1.6, display_legend=True)
+        # The model's channels as dots on each line (dot_segments: one path per baseline).
+        self.markers = bq.Lines(x=EMPTY, y=EMPTY, scales=sc, stroke_width=4.0)
         self.pin_lines = bq.Lines(x=EMPTY, y=EMPTY, scales=sc, stroke_width=1.2, line_style="dashed",
                                   visible=False)
-        self.data = bq.Scatter(x=EMPTY, y=EMPTY, scales=sc, colors=[OKABE_ITO["vermillion"]], default_size=10,
-                               visible=False)
-        self.figure = new_figure("correlated flux per baseline (model)", [self.pin_lines, self.lines, self.data],
+        self.data = bq.Lines(x=EMPTY, y=EMPTY, scales=sc, colors=[OKABE_ITO["vermillion"]], stroke_width=3.0,
+                             opacities=[0.8], visible=False)
+        self.figure = new_figure("correlated flux per baseline (model)",
+                                 [self.pin_lines, self.lines, self.markers, self.data],
                                  [axis(self.sx, "λ [µm]"), axis(self.sy, "|V| F_total [Jy]", "vertical")],
-                                 "dx-fig-corrflux", height="300px")
+                                 "dx-fig-corrflux", height="300px", dots=True)
         self.widget = self.figure
         self._groups = []
 
@@ -298,7 +317,8 @@ class CorrelatedFluxFigure:
         if vis is not None and vis.sizes.get("point", 0):
             amptyp = np.asarray(vis["amptyp"].values).astype(str)
             sel = amptyp == "correlated flux"
-            assign(self.data, x=vis["wavelength"].values[sel], y=vis["visamp"].values[sel], visible=bool(sel.any()))
+            dx, dy = dot_segments(vis["wavelength"].values[sel], vis["visamp"].values[sel])
+            assign(self.data, x=dx, y=dy, visible=bool(sel.any()))
         else:
             assign(self.data, visible=False)
 
@@ -306,10 +326,14 @@ class CorrelatedFluxFigure:
         """Draw |V| F_total at the V² points of each chosen baseline."""
         if not self._groups or frame.result is None:
             assign(self.lines, x=EMPTY, y=EMPTY)
+            assign(self.markers, x=EMPTY, y=EMPTY)
             return
         xs, ys = self._rows(frame)
         colours = [RING_COLOURS[k % len(RING_COLOURS)] for k in range(len(self._groups))]
         assign(self.lines, x=xs, y=ys, colors=colours, labels=[g["label"] for g in self._groups])
+        rows = np.repeat(np.arange(xs.shape[0]), xs.shape[1])
+        mx, my = grouped_dots(xs.ravel(), ys.ravel(), rows, xs.shape[0])
+        assign(self.markers, x=mx, y=my, colors=colours)
 
     def _rows(self, frame):
         """(λ, |V| F_total) per chosen baseline, NaN-padded rows."""

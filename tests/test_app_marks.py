@@ -1,0 +1,74 @@
+"""The figures' cheap marks: error bars, ticks and dots as NaN-split polylines, and the
+grouping of points into one coloured path per wavelength."""
+import numpy as np
+import pytest
+
+from diskexplorer.app.figures.base import (DOTS_CSS, dot_segments, drawn_dots, error_segments, grouped_dots,
+                                           grouped_ticks, tick_segments)
+from diskexplorer.app.figures.interferometry import (MOST_COLOURS, wavelength_colours, wavelength_groups,
+                                                     wavelength_position)
+
+
+class _Mark:
+    def __init__(self, x, y, colors):
+        self.x, self.y, self.colors = x, y, colors
+
+
+def test_dot_segments_are_zero_length_subpaths():
+    xs, ys = dot_segments([1.0, 2.0], [3.0, 4.0])
+    np.testing.assert_array_equal(xs[[0, 1, 3, 4]], [1.0, 1.0, 2.0, 2.0])
+    np.testing.assert_array_equal(ys[[0, 1, 3, 4]], [3.0, 3.0, 4.0, 4.0])
+    assert np.isnan(xs[2::3]).all() and np.isnan(ys[2::3]).all()
+    # Zero-length subpaths are stroked only with round (or square) caps: SVG 1.1, 11.4.
+    assert "stroke-linecap: round" in DOTS_CSS
+
+
+def test_error_bars_and_ticks():
+    ex, ey = error_segments([1.0], [0.5], [0.1])
+    np.testing.assert_allclose(ey[:2], [0.4, 0.6])
+    assert ex[0] == ex[1] == 1.0 and np.isnan(ex[2])
+    tx, ty = tick_segments([1.0], [0.5], 0.2)
+    np.testing.assert_allclose(tx[:2], [0.8, 1.2])
+    assert ty[0] == ty[1] == 0.5
+
+
+def test_grouped_rows_pad_with_nan_and_round_trip():
+    rng = np.random.default_rng(3)
+    x, y = rng.random(50), rng.random(50)
+    group = rng.integers(0, 4, 50)
+    xs, ys = grouped_dots(x, y, group, 4)
+    assert xs.shape[0] == 4 and xs.shape[1] == 3 * np.bincount(group).max()
+    colours = ["#000001", "#000002", "#000003", "#000004"]
+    dx, dy, dc = drawn_dots(_Mark(xs, ys, colours))
+    got = sorted(zip(dx, dy, dc))
+    assert got == sorted(zip(x, y, [colours[g] for g in group]))
+    tx, ty = grouped_ticks(x, y, group, 4, 0.01)
+    assert tx.shape == xs.shape
+    assert drawn_dots(_Mark(np.zeros(0), np.zeros(0), ["#000000"]))[0].size == 0
+
+
+def test_wavelength_groups_one_per_wavelength():
+    wl = np.array([2.2, 3.5, 2.2, 10.0, 3.5])
+    group, colours = wavelength_groups(wl, 2.0, 12.0)
+    assert len(colours) == 3
+    # every point in its own wavelength's colour of the key
+    assert [colours[g] for g in group] == wavelength_colours(wl, 2.0, 12.0)
+
+
+def test_wavelength_groups_bin_many_wavelengths():
+    wl = np.linspace(1.5, 13.0, 500)
+    group, colours = wavelength_groups(wl, 1.5, 13.0)
+    assert len(colours) == MOST_COLOURS == group.max() + 1
+    # each bin's colour is the key at the bin's centre; a point's place lies within its bin
+    f = wavelength_position(wl, 1.5, 13.0)
+    used = np.unique(np.clip((f * MOST_COLOURS).astype(int), 0, MOST_COLOURS - 1))
+    assert np.all(np.abs(f - (used[group] + 0.5) / MOST_COLOURS) <= 0.5 / MOST_COLOURS + 1e-12)
+    # only occupied bins become paths
+    group, colours = wavelength_groups(np.r_[np.full(100, 2.0), np.linspace(12.0, 12.9, 100)], 2.0, 13.0, most=8)
+    assert len(colours) == np.unique(group).size <= 8
+
+
+@pytest.mark.parametrize("n", [0, 1])
+def test_wavelength_groups_small(n):
+    group, colours = wavelength_groups(np.full(n, 3.0), 3.0, 3.0)
+    assert group.size == n and len(colours) == n
