@@ -185,6 +185,25 @@ def test_every_slider_has_an_aria_companion_in_its_unit(app):
 
 # --- the mixture editor ----------------------------------------------------------------------
 
+def test_mixture_editor_is_built_when_its_section_opens_and_shows_the_current_dust(app):
+    from diskexplorer.dust import DustMix
+
+    card = app.ring_deck.cards[0]
+    # a new page gets only the collapsed section (its editor's 80 widgets are not sent)
+    assert not card.mixture_built and len(card.dust_box.children[0].children) == 0
+    # the ring's dust changes while the editor does not exist yet (a session, a start)
+    app.state.update_ring(0, dust=DustMix({"forsterite": 0.25, "olivine_glass": 0.75}, grain_size=0.1))
+    assert not card.mixture_built
+    card.dust_box.selected_index = 0
+    assert card.mixture_built and card.dust_box.children == (card.mixture,)
+    assert card.mixture.fractions["forsterite"] == pytest.approx(0.25)
+    assert card.mixture.fractions["olivine_glass"] == pytest.approx(0.75)
+    # and it edits the ring from then on
+    card.mixture.fraction_controls["forsterite"].number.value = 0.5
+    assert dict(app.state.scene.rings[0].dust.fractions)["forsterite"] == pytest.approx(0.5)
+    assert not app.ring_deck.cards[1].mixture_built
+
+
 def test_mixture_editor_refuses_a_fraction_outside_0_1_and_says_so(app):
     mix = app.ring_deck.cards[0].mixture
     before = app.state.scene.rings[0].dust

@@ -3,8 +3,8 @@ grouping of points into one coloured path per wavelength."""
 import numpy as np
 import pytest
 
-from diskexplorer.app.figures.base import (DOTS_CSS, dot_segments, drawn_dots, error_segments, grouped_dots,
-                                           grouped_ticks, tick_segments)
+from diskexplorer.app.figures.base import (DOTS_CSS, dot_segments, drawn_dots, error_segments, group_rows, row_dots,
+                                           row_ticks, tick_segments)
 from diskexplorer.app.figures.interferometry import (MOST_COLOURS, wavelength_colours, wavelength_groups,
                                                      wavelength_position)
 
@@ -32,18 +32,34 @@ def test_error_bars_and_ticks():
     assert ty[0] == ty[1] == 0.5
 
 
-def test_grouped_rows_pad_with_nan_and_round_trip():
+def test_group_rows_hold_each_point_once_in_its_group():
     rng = np.random.default_rng(3)
+    group = np.r_[np.zeros(40, int), rng.integers(1, 4, 30)]
+    index, row_group = group_rows(group, 5)
+    width = -(-group.size // 5)
+    assert index.shape[1] == width
+    # every point once, in a row of its own group; padding only at the end of a group's last row
+    assert sorted(index[index >= 0]) == list(range(group.size))
+    assert all((group[index[k][index[k] >= 0]] == row_group[k]).all() for k in range(index.shape[0]))
+    assert (index < 0).sum() < width * (np.unique(group).size)
+    assert group_rows(np.zeros(0, int), 3)[0].shape == (0, 1)
+
+
+def test_row_dots_and_ticks_round_trip():
+    rng = np.random.default_rng(4)
     x, y = rng.random(50), rng.random(50)
     group = rng.integers(0, 4, 50)
-    xs, ys = grouped_dots(x, y, group, 4)
-    assert xs.shape[0] == 4 and xs.shape[1] == 3 * np.bincount(group).max()
+    index, row_group = group_rows(group, 4, width=7)
+    xs, ys = row_dots(x, y, index)
+    assert xs.shape == (index.shape[0], 21)
     colours = ["#000001", "#000002", "#000003", "#000004"]
-    dx, dy, dc = drawn_dots(_Mark(xs, ys, colours))
-    got = sorted(zip(dx, dy, dc))
-    assert got == sorted(zip(x, y, [colours[g] for g in group]))
-    tx, ty = grouped_ticks(x, y, group, 4, 0.01)
-    assert tx.shape == xs.shape
+    dx, dy, dc = drawn_dots(_Mark(xs, ys, [colours[g] for g in row_group]))
+    assert sorted(zip(dx, dy, dc)) == sorted(zip(x, y, [colours[g] for g in group]))
+    tx, ty = row_ticks(x, y, index, 0.01)
+    keep = index >= 0
+    np.testing.assert_allclose(tx[:, 0::3][keep], x[index[keep]] - 0.01)
+    np.testing.assert_allclose(ty[:, 1::3][keep], y[index[keep]])
+    assert np.isnan(tx[:, 0::3][~keep]).all()
     assert drawn_dots(_Mark(np.zeros(0), np.zeros(0), ["#000000"]))[0].size == 0
 
 

@@ -25,12 +25,14 @@ def test_added_species_appears_in_mixtures_and_changes_the_model(app, tmp_path):
     table = tmp_path / "grey.txt"
     lam = np.geomspace(0.2, 200.0, 60)
     np.savetxt(table, np.column_stack([lam, np.full(lam.size, 50.0)]), header="wavelength_um kappa_cm2_g")
+    opened = app.ring_deck.cards[-1].mixture   # one editor built before, the others after
     form = app.data_panel.species_form
     form.name.value = "grey_test_dust"
     form.source_kind.value = "kappa"
     form.path.value = str(table)
     assert form.add()
     assert "grey_test_dust" in app.state.notice
+    assert "grey_test_dust" in opened.fraction_controls
     card = next(c for c in app.ring_deck.cards if hasattr(app.state.scene.rings[c.index].dust, "fractions"))
     editor = card.mixture
     assert "grey_test_dust" in editor.fraction_controls

@@ -326,7 +326,8 @@ class Explorer(w.VBox):
     # ------------------------------------------------------------------ the loop
     def _on_species_added(self, name):
         for card in self.ring_deck.cards:
-            card.mixture.add_species(name)
+            if card.mixture_built:   # an editor built later lists the species itself
+                card.mixture.add_species(name)
 
     def _on_notice(self, change):
         text = change["new"]

@@ -349,8 +349,11 @@ class RingCard(w.VBox):
         self.amplitude = ParamControl(AMPLITUDE_SPEC, ring.modulation_amplitude, lambda v: self._modulate(),
                                       css="dx-ring-amplitude")
         self.angle = ParamControl(ANGLE_SPEC, ring.modulation_angle, lambda v: self._modulate(), css="dx-ring-angle")
-        self.mixture = MixtureEditor(ring.dust, lambda dust: self._edit(dust=dust), say=state.say)
-        dust_box = w.Accordion([self.mixture], titles=("dust mixture",), selected_index=None)
+        # The dust-mixture editor (80 widgets per ring, every one sent to a new page) is
+        # built when its section is first opened, or when code asks for it (`mixture`).
+        self._mixture = None
+        self.dust_box = dust_box = w.Accordion([w.VBox()], titles=("dust mixture",), selected_index=None)
+        dust_box.observe(self._on_dust_open, "selected_index")
         self.temperature = TemperatureEditor(lambda **changes: self._edit(**changes), say=state.say)
         # T_in and q sit in a box of their own, hidden for an equilibrium ring (a control's
         # layout may be shared with others, so it is not the one to hide).
@@ -360,6 +363,26 @@ class RingCard(w.VBox):
                           self.amplitude, self.angle, dust_box])
         self.add_class("dx-ring-card")
         self.sync(index, ring)
+
+    @property
+    def mixture(self):
+        """The ring's :class:`MixtureEditor`, built on first use."""
+        if self._mixture is None:
+            state = self.deck.state
+            dust = state.scene.rings[self.index].dust
+            self._mixture = MixtureEditor(dust, lambda d: self._edit(dust=d), say=state.say)
+            self.mixture_dust = dust
+            self.dust_box.children = [self._mixture]
+        return self._mixture
+
+    @property
+    def mixture_built(self):
+        """Whether the dust-mixture editor exists yet."""
+        return self._mixture is not None
+
+    def _on_dust_open(self, change):
+        if change["new"] is not None:
+            self.mixture   # noqa: B018 - builds the editor
 
     def _edit(self, **changes):
         if self.deck.syncing:
@@ -395,8 +418,8 @@ class RingCard(w.VBox):
         if ring.modulation_amplitude > 0 and not math.isclose(
                 (self.angle.value - ring.modulation_angle + 180) % 360 - 180, 0.0, abs_tol=1e-6):
             self.angle.set_value(ring.modulation_angle)
-        if ring.dust is not self.mixture_dust:
-            self.mixture.sync(ring.dust)
+        if self._mixture is not None and ring.dust is not self.mixture_dust:
+            self._mixture.sync(ring.dust)
         self.mixture_dust = ring.dust
 
     mixture_dust = None

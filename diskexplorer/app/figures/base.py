@@ -6,7 +6,7 @@ import numpy as np
 
 from ..palette import INK, MUTED
 
-__all__ = ["tick_segments", "grouped_ticks", "dot_segments", "grouped_dots", "drawn_dots", "DOTS_CSS", "assign", "same", "new_figure", "error_segments", "swap_scale", "EMPTY"]
+__all__ = ["tick_segments", "dot_segments", "group_rows", "row_dots", "row_ticks", "drawn_dots", "DOTS_CSS", "assign", "same", "new_figure", "error_segments", "swap_scale", "EMPTY"]
 
 #: An empty float array (marks start empty and are filled by the first update).
 EMPTY = np.zeros(0)
@@ -172,27 +172,61 @@ def drawn_dots(mark):
 DOTS_CSS = ".dx-dots svg path.line { stroke-linecap: round; }"
 
 
-def _grouped(segments, x, y, group, n_groups, *args):
-    """Polylines of ``segments(x, y, *args)``, one row per group (rows padded with NaN)."""
-    x, y, group = np.asarray(x, float), np.asarray(y, float), np.asarray(group)
-    rows = [segments(x[group == g], y[group == g], *args) for g in range(n_groups)]
-    width = max((r[0].size for r in rows), default=0) or 1
-    xs = np.full((n_groups, width), np.nan)
-    ys = np.full((n_groups, width), np.nan)
-    for g, (rx, ry) in enumerate(rows):
-        xs[g, :rx.size] = rx
-        ys[g, :ry.size] = ry
-    return xs, ys
+def group_rows(group, n_groups, width=None):
+    """Arrange points into rows of one group each, at most ``width`` points per row.
+
+    A mark coloured by group draws one row per SVG path (bqplot colours rows). Rows of a
+    common width keep the arrays rectangular; splitting large groups over several rows
+    keeps the NaN padding (which the page still walks point by point) small.
+
+    Parameters
+    ----------
+    group : array of int
+        Group of each point, 0 … ``n_groups`` − 1.
+    width : int, optional
+        Points per row (default: the mean number of points per group, at least 1).
+
+    Returns
+    -------
+    index : ndarray of int, shape (n_rows, width)
+        The points of each row (positions in ``group``), −1 for padding.
+    row_group : ndarray of int
+        The group of each row.
+    """
+    group = np.asarray(group, int).ravel()
+    n = group.size
+    n_groups = max(int(n_groups), 1)
+    if n == 0:
+        return np.full((0, 1), -1), np.zeros(0, int)
+    width = int(width) if width else max(1, -(-n // n_groups))
+    counts = np.bincount(group, minlength=n_groups)
+    rows_per = -(-counts // width)
+    order = np.argsort(group, kind="stable")
+    rank = np.arange(n) - np.repeat(np.cumsum(counts) - counts, counts)
+    row = np.repeat(np.cumsum(rows_per) - rows_per, counts) + rank // width
+    index = np.full((int(rows_per.sum()), width), -1)
+    index[row, rank % width] = order
+    return index, np.repeat(np.arange(n_groups), rows_per)
 
 
-def grouped_ticks(x, y, group, n_groups, half_width):
-    """Tick polylines, one row per group (rows padded with NaN), for marks coloured by group."""
-    return _grouped(tick_segments, x, y, group, n_groups, half_width)
+def _rows(segments, x, y, index, *args):
+    """``segments`` of the points ``index`` names, one polyline per row (padding: NaN)."""
+    index = np.asarray(index)
+    pad = index < 0
+    gx = np.where(pad, np.nan, np.asarray(x, float)[np.where(pad, 0, index)]) if index.size else index * 1.0
+    gy = np.where(pad, np.nan, np.asarray(y, float)[np.where(pad, 0, index)]) if index.size else index * 1.0
+    xs, ys = segments(gx.ravel(), gy.ravel(), *args)
+    return xs.reshape(index.shape[0], -1), ys.reshape(index.shape[0], -1)
 
 
-def grouped_dots(x, y, group, n_groups):
-    """Dot polylines (:func:`dot_segments`), one row per group, for marks coloured by group."""
-    return _grouped(dot_segments, x, y, group, n_groups)
+def row_dots(x, y, index):
+    """Dot polylines (:func:`dot_segments`) of the rows of :func:`group_rows`."""
+    return _rows(dot_segments, x, y, index)
+
+
+def row_ticks(x, y, index, half_width):
+    """Tick polylines (:func:`tick_segments`) of the rows of :func:`group_rows`."""
+    return _rows(tick_segments, x, y, index, half_width)
 
 
 def swap_scale(figure, axis_obj, key, log, **scale_kw):

@@ -7,7 +7,7 @@ import ipywidgets as w
 import numpy as np
 
 from ..palette import INK, MUTED, OKABE_ITO, RING_COLOURS, WAVELENGTH_SCHEME
-from .base import (EMPTY, assign, axis, dot_segments, error_segments, grouped_dots, grouped_ticks, new_figure,
+from .base import (EMPTY, assign, axis, dot_segments, error_segments, group_rows, new_figure, row_dots, row_ticks,
                    swap_scale, tick_segments)
 
 __all__ = ["Vis2Figure", "ClosureFigure", "VisAmpFigure", "CorrFluxPointsFigure", "DiffPhaseFigure",
@@ -137,11 +137,12 @@ class _PointsFigure:
                 assign(m, x=EMPTY, y=EMPTY)
             return
         lo, hi = view.wavelength_range
-        self._group, colours = wavelength_groups(pts["wavelength"], lo, hi)
-        self._n_groups = len(colours)
+        group, colours = wavelength_groups(pts["wavelength"], lo, hi)
+        self._index, row_group = group_rows(group, len(colours))
+        colours = [colours[g] for g in row_group] or [MUTED]
         ex, ey = error_segments(pts["freq"], pts["value"], pts["error"])
         assign(self.errors, x=ex, y=ey)
-        dx, dy = grouped_dots(pts["freq"], pts["value"], self._group, self._n_groups)
+        dx, dy = row_dots(pts["freq"], pts["value"], self._index)
         assign(self.data, x=dx, y=dy, colors=colours)
         assign(self.residuals, colors=colours)
         fmin, fmax = self._x_range(pts["freq"])
@@ -165,7 +166,7 @@ class _PointsFigure:
         mx, my = tick_segments(pts["freq"], np.asarray(result.model[self.model_key])[self._rows], self._tick)
         assign(self.model, x=mx, y=my)
         r = np.asarray(result.residuals[self.model_key])[self._rows]
-        rx, ry = grouped_ticks(pts["freq"], r, self._group, self._n_groups, self._tick)
+        rx, ry = row_ticks(pts["freq"], r, self._index, self._tick)
         assign(self.residuals, x=rx, y=ry)
 
     def update_pins(self, pins):
@@ -331,9 +332,8 @@ class CorrelatedFluxFigure:
         xs, ys = self._rows(frame)
         colours = [RING_COLOURS[k % len(RING_COLOURS)] for k in range(len(self._groups))]
         assign(self.lines, x=xs, y=ys, colors=colours, labels=[g["label"] for g in self._groups])
-        rows = np.repeat(np.arange(xs.shape[0]), xs.shape[1])
-        mx, my = grouped_dots(xs.ravel(), ys.ravel(), rows, xs.shape[0])
-        assign(self.markers, x=mx, y=my, colors=colours)
+        mx, my = dot_segments(xs.ravel(), ys.ravel())
+        assign(self.markers, x=mx.reshape(xs.shape[0], -1), y=my.reshape(xs.shape[0], -1), colors=colours)
 
     def _rows(self, frame):
         """(λ, |V| F_total) per chosen baseline, NaN-padded rows."""
