@@ -64,6 +64,11 @@ def _shared(key, make):
     return obj
 
 
+def _width(px):
+    """The shared Layout of this width (px)."""
+    return _shared(f"width-{px:g}", lambda: w.Layout(width=f"{px:g}px"))
+
+
 def nice_step(span, steps):
     """The step of the 1-2-5 series nearest (in ratio) to ``span / steps``.
 
@@ -178,6 +183,10 @@ class ParamControl(w.HBox):
         Extra CSS class (tests and the browser test find controls by it).
     step : float, optional
         Slider step of a linear parameter (default: a 1-2-5 step near 1/200 of the range).
+    widths : tuple of int, optional
+        Widths (px) of the label, the slider and the number box. Their layouts are shared
+        by every control of the same width (each Layout is a widget a new page builds):
+        never change a control's layouts in place; pass widths instead.
 
     Notes
     -----
@@ -189,14 +198,15 @@ class ParamControl(w.HBox):
     value in the unit (a log slider's own coordinate is log10 of the value).
     """
 
-    def __init__(self, spec, value, on_change, css=None, step=None):
+    def __init__(self, spec, value, on_change, css=None, step=None, widths=(92, 170, 82)):
         self.spec = spec
         self._callback = on_change
         self._quiet = False
         unit = unit_text(spec.unit)
         self._label_text = (f"{_label_html(spec.label)}"
                             + (f" <span style='color:{MUTED}'>[{html.escape(unit)}]</span>" if unit else ""))
-        self.label = w.HTML(layout={"width": "92px"}, style=_shared("html-style", HTMLStyle))
+        label_w, slider_w, number_w = (_width(px) for px in widths)
+        self.label = w.HTML(layout=label_w, style=_shared("html-style", HTMLStyle))
         value = float(value)
         lo, hi = spec.bounds
         if spec.scale == "log":
@@ -207,17 +217,16 @@ class ParamControl(w.HBox):
         self._value = value
         self._grid = _Grid(spec, value, self._step)
         g = self._grid
-        # Widths stay per control (the mixture editor narrows its own); styles are shared.
         slider_style = _shared("slider-style", w.SliderStyle)
         if spec.scale == "log":
             self.slider = w.FloatLogSlider(value=value, base=10, min=g.min, max=g.max, step=self._step,
-                                           readout=False, continuous_update=True, layout={"width": "170px"},
+                                           readout=False, continuous_update=True, layout=slider_w,
                                            style=slider_style)
         else:
             self.slider = w.FloatSlider(value=value, min=g.min, max=g.max, step=self._step,
-                                        readout=False, continuous_update=True, layout={"width": "170px"},
+                                        readout=False, continuous_update=True, layout=slider_w,
                                         style=slider_style)
-        self.number = w.FloatText(value=spec.rounded(value), layout={"width": "82px"},
+        self.number = w.FloatText(value=spec.rounded(value), layout=number_w,
                                   style=_shared("text-style", DescriptionStyle))
         self._unit = unit
         spoken = _SPOKEN_UNITS.get(spec.unit, spec.unit)

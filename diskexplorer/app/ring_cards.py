@@ -120,10 +120,7 @@ class MixtureEditor(w.VBox):
 
     def _fraction_row(self, species):
         c = ParamControl(replace(self._frac_spec, label=species.replace("_", " ")), 0.0,
-                         lambda v: self._on_fraction(species, v), step=0.01)
-        c.label.layout.width = "120px"
-        c.slider.layout.width = "140px"
-        c.number.layout.width = "70px"
+                         lambda v: self._on_fraction(species, v), step=0.01, widths=(120, 140, 70))
         self.fraction_controls[species] = c
         return c
 
