@@ -18,7 +18,9 @@ from .derived_panel import DerivedPanel
 from .export_panel import ExportPanel
 from .figures import (Chi2Table, ClosureFigure, CorrelatedFluxFigure, CorrFluxPointsFigure, DiffPhaseFigure,
                       ImageFigure, ProfilesFigure, SedFigure, SpectrumFigure, VisAmpFigure, Vis2Figure)
+from .figure_set import FigureSet
 from .figures.base import DOTS_CSS
+from .figures.sed import spectrum_wavelengths
 from .model_views import image, profiles, sed_curves, vis2_curve
 from .palette import ACCENT, INK, MUTED, PAPER
 from .pins import PinBoard, pin_colour
@@ -144,7 +146,8 @@ class Explorer(w.VBox):
     ----------
     state : ExplorerState
     debouncer : Debouncer
-    figures : dict of figure objects by name
+    figures : FigureSet
+        Figure objects by name (each made when its page is first built or it is asked for).
     timings : list of float
         Duration of each recompute, s (the benchmark reads it).
     export_panel, scan_panel, derived_panel : ExportPanel, ScanPanel, DerivedPanel
@@ -179,10 +182,12 @@ class Explorer(w.VBox):
         # figures
         # In the order a recompute sends their updates: the first page's figures first, so
         # the page draws what is on screen before the hidden pages' updates arrive.
-        self.figures = {"vis2": Vis2Figure(), "t3": ClosureFigure(), "visamp": VisAmpFigure(),
-                        "corrflux_data": CorrFluxPointsFigure(), "diffphi": DiffPhaseFigure(),
-                        "corrflux": CorrelatedFluxFigure(), "sed": SedFigure(), "spectrum": SpectrumFigure(),
-                        "profiles": ProfilesFigure(), "image": ImageFigure()}
+        # Each is made when its page is built or code asks for it (FigureSet).
+        self._pins_drawn = []
+        self.figures = FigureSet({"vis2": Vis2Figure, "t3": ClosureFigure, "visamp": VisAmpFigure,
+                                  "corrflux_data": CorrFluxPointsFigure, "diffphi": DiffPhaseFigure,
+                                  "corrflux": CorrelatedFluxFigure, "sed": SedFigure, "spectrum": SpectrumFigure,
+                                  "profiles": ProfilesFigure, "image": ImageFigure}, self._catch_up)
         self.chi2 = Chi2Table()
 
         # controls
@@ -229,7 +234,7 @@ class Explorer(w.VBox):
 
     # ------------------------------------------------------------------ layout
     def _layout(self):
-        f, lazy = self.figures, self._lazy
+        lazy = self._lazy
         model_page = w.VBox([self.star_panel, self.geometry_panel, self.extended_panel, self.ring_deck])
         self.control_tabs = w.Tab([model_page, lazy["data"], lazy["pins"]], titles=("model", "data", "pins & session"))
         self.control_tabs.layout = {"width": "400px", "min_width": "400px"}
@@ -410,6 +415,21 @@ class Explorer(w.VBox):
         self.timings.append(time.perf_counter() - t0)
         self.recompute_log.append(sorted(tiers))
 
+    def _catch_up(self, name, fig):
+        """Draw the current data, style, model and pins on a figure made just now."""
+        if self.view is None:
+            return   # made while the explorer is built: the first recompute draws it
+        fig.update_data(self.view)
+        fig.apply_style(self.state)
+        if self.frame is not None:
+            if name == "vis2":
+                fig.update_curve(self.frame)
+            if name in ("image", "profiles"):
+                self._structure_stale.add(name)   # computed when their page is shown
+            else:
+                fig.update_model(self.frame)
+        fig.update_pins(self._pins_drawn)
+
     def _curve(self, scene):
         v = self.view
         pa = self.state.curve_position_angle
@@ -421,11 +441,10 @@ class Explorer(w.VBox):
         result = None
         if v.comparison.kinds:
             result = v.comparison.compare(scene)
-        spec_fig = self.figures["spectrum"]
         if result is not None and result.spectrum:
             spectrum = result.spectrum
         else:
-            spectrum = scene.sed_components(spec_fig.wavelength)
+            spectrum = scene.sed_components(spectrum_wavelengths(v))
         frame = Frame(scene=scene, result=result, sed=sed_curves(scene), spectrum=spectrum,
                       curve=self._curve(scene),
                       wavelength_vis2=(v.vis2["wavelength"] if v.vis2 is not None else np.zeros(0)))
@@ -486,6 +505,7 @@ class Explorer(w.VBox):
                 frame = self._frame(p["scene"], full=False)
                 self._pin_cache[key] = frame
             pins.append((p["name"], pin_colour(k), frame))
+        self._pins_drawn = pins
         for fig in self.figures.values():
             fig.update_pins(pins)
         self.chi2.update_pins([(n, c, fr.result) for n, c, fr in pins])

@@ -10,7 +10,8 @@ from ..model_views import SED_WAVELENGTHS, silicate_band
 from ..palette import COMPONENT_COLOURS, PIN_COLOURS, ring_colour
 from .base import EMPTY, assign, axis, error_segments, new_figure, swap_scale
 
-__all__ = ["SedFigure", "SpectrumFigure", "component_colours", "BAND_TITLE"]
+__all__ = ["SedFigure", "SpectrumFigure", "component_colours", "spectrum_wavelengths", "BAND_TITLE",
+           "DEFAULT_SPECTRUM_WAVELENGTHS"]
 
 #: Title of the silicate-band figure; a model without dust adds :data:`NO_DUST_BAND` to it.
 BAND_TITLE = "normalised silicate band"
@@ -93,6 +94,18 @@ class SedFigure:
         self.sy = swap_scale(self.figure, self.ay, "y", state.log_sed_y)
 
 
+#: Wavelengths (µm) of the model spectrum while no spectrum is loaded.
+DEFAULT_SPECTRUM_WAVELENGTHS = np.linspace(7.6, 13.4, 120)
+
+
+def spectrum_wavelengths(view):
+    """Wavelengths (µm) at which the model spectrum is drawn: the loaded spectrum's, else the default."""
+    sp = view.spectrum if view is not None else None
+    if sp is None or sp["wavelength"].size == 0:
+        return DEFAULT_SPECTRUM_WAVELENGTHS
+    return sp["wavelength"].values
+
+
 class SpectrumFigure:
     """The N-band spectrum (data, model total and components) and the normalised silicate band."""
 
@@ -122,13 +135,13 @@ class SpectrumFigure:
                                        axis(self.by, "1 + (F − F_c)/⟨F_c⟩", "vertical")],
                                       "dx-fig-silicate")
         self.widget = w.HBox([self.figure, self.band_figure], layout={"width": "100%"})
-        self._wl = np.linspace(7.6, 13.4, 120)
+        self._wl = DEFAULT_SPECTRUM_WAVELENGTHS
 
     def update_data(self, view):
         """Draw the spectrum of ``view`` and fix the model's wavelengths to it."""
         sp = view.spectrum
+        self._wl = spectrum_wavelengths(view)
         if sp is None or sp["wavelength"].size == 0:
-            self._wl = np.linspace(7.6, 13.4, 120)
             for m in (self.data, self.errors, self.band_data):
                 assign(m, x=EMPTY, y=EMPTY)
             return
@@ -139,7 +152,6 @@ class SpectrumFigure:
         assign(self.errors, x=ex, y=ey)
         band = silicate_band(x, y)
         assign(self.band_data, x=x if band is not None else EMPTY, y=band if band is not None else EMPTY)
-        self._wl = x
 
     @property
     def wavelength(self):
