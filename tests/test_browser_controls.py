@@ -32,11 +32,27 @@ def _exact(page, css):
     return title.split(" — ")[0]
 
 
+# The number box the kernel writes after it took a step: within 0.2 % of the exact value
+# in the title (the box rounds to the parameter's digits; one step moves 0.7 % or more).
+_SETTLED = """(css) => {
+  const t = document.querySelector('.' + css + ' .dx-param-label').getAttribute('title').split(' — ')[0];
+  const exact = parseFloat(t.split(' = ')[1]);
+  const box = parseFloat(document.querySelector('.' + css + ' input').value);
+  return Math.abs(box - exact) <= 2e-3 * Math.abs(exact);
+}"""
+
+
 def _press(page, css, key):
+    """Press ``key`` on the handle; returns the new exact value once the kernel has taken it.
+
+    Waiting for the kernel's number box keeps presses from overlapping a busy kernel's
+    replies (typing into a box the kernel is still rewriting loses the typed text).
+    """
     before = _exact(page, css)
     page.locator(f".{css} .noUi-handle").first.focus()
     page.keyboard.press(key)
     page.wait_for_function(f"(b) => ({_EXACT})('{css}').split(' — ')[0] !== b", arg=before, timeout=30_000)
+    page.wait_for_function(_SETTLED, arg=css, timeout=30_000)
     return _exact(page, css)
 
 
@@ -51,7 +67,16 @@ def test_arrow_right_then_left_returns_exactly(page, css, start, one_step):
     assert _press(page, css, "ArrowRight") == one_step
     assert _press(page, css, "ArrowLeft") == start
     # The model drawn from the state is the starting one again, to the last digit drawn.
-    page.wait_for_function(f"(c) => ({_CURVES})() === c", arg=curves, timeout=30_000)
+    try:
+        page.wait_for_function(f"(c) => ({_CURVES})() === c", arg=curves, timeout=30_000)
+    except Exception:  # noqa: BLE001 - say what differs instead
+        now = page.evaluate(_CURVES).split("|")
+        was = curves.split("|")
+        differ = [k for k, (a, b) in enumerate(zip(was, now)) if a != b]
+        box = page.evaluate("(css) => document.querySelector('.' + css + ' input').value", css)
+        pytest.fail(f"{css}: after right and left the V² figure's paths {differ} (of {len(was)} before, "
+                    f"{len(now)} now) differ from the start; lengths before {[len(a) for a in was]}, "
+                    f"now {[len(b) for b in now]}; title {_exact(page, css)!r}, box {box!r}")
 
 
 def test_log_slider_handle_tells_value_in_unit(page):
