@@ -30,7 +30,7 @@ def _assert_figures_drawn(page, classes):
             f".some(e => (e.getAttribute('d') || 'x').length > 1); }}", timeout=30_000)
 
 
-def test_slider_moves_model_curve(voila_url):
+def test_slider_moves_model_curve(voila_url, capsys):
     from playwright.sync_api import sync_playwright
 
     OUT.mkdir(exist_ok=True)
@@ -48,9 +48,10 @@ def test_slider_moves_model_curve(voila_url):
             # An even number of presses, right and left: the curve is the first one again.
             page.wait_for_function(f"(c) => ({CURVES_JS})() === c", arg=before, timeout=30_000)
             q1, med, q3 = statistics.quantiles(times, n=4)
-            print("\nfirst page: " + ", ".join(f"{k} {v:.2f} s" for k, v in marks.items()))
-            print(f"key press to redrawn V² curve: median {med:.0f} ms (quartiles {q1:.0f}–{q3:.0f} ms, "
-                  f"{len(times)} presses)")
+            with capsys.disabled():   # shown in the `make test` output, not only on failure
+                print("\nfirst page: " + ", ".join(f"{k} {v:.2f} s" for k, v in marks.items()))
+                print(f"key press to redrawn V² curve: median {med:.0f} ms (quartiles {q1:.0f}–{q3:.0f} ms, "
+                      f"{len(times)} presses)")
             page.screenshot(path=str(OUT / "after_slider.png"), full_page=True)
             for label in ("SED & spectrum", "disk structure"):
                 page.get_by_text(label, exact=True).first.click()
