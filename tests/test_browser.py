@@ -3,7 +3,9 @@
 It prints the two figures of the live feel (no timed assertion; the goals live in
 ``benchmarks/bench_browser.py``): the time from navigation to every control and every
 figure of the first page drawn, and the time from a key press on a slider handle to the
-redrawn V² model curve (median and quartiles over 24 presses).
+redrawn V² model curve (median and quartiles over 24 presses). The page is the first one
+after voila starts: cold browser caches, and a preheated kernel possibly still running the
+notebook, so its first-page time is longer than the benchmark's (which waits for both).
 """
 import statistics
 
