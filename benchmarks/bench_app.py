@@ -10,7 +10,7 @@ import time
 import numpy as np
 
 from diskexplorer.app import explore
-from diskexplorer.app.debounce import ManualScheduler
+from diskexplorer.app.state.debounce import ManualScheduler
 
 
 def run(app, label, change, n=25):

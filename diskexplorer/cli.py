@@ -19,7 +19,7 @@ __all__ = ["main"]
 
 def _cmd_demo(args):
     from .errors import DiskExplorerError
-    from .serve import DemoServer
+    from .app.serving.server import DemoServer
 
     try:
         server = DemoServer(port=args.port, workdir=args.workdir, data=args.data,
@@ -116,7 +116,7 @@ def _read_session_inputs(path):
     if not (isinstance(doc, dict) and str(doc.get("schema", "")).startswith("diskexplorer-session/")):
         return None
     # Deferred and only for sessions: the app package imports the widget libraries.
-    from .app.session import read_session, scene_from_dict
+    from .app.state.sessions import read_session, scene_from_dict
     from .fitting.data_description import DataDescription
 
     doc = read_session(path)

@@ -19,7 +19,7 @@ __all__ = ["CHROMIUM", "ROOT", "NOTEBOOK", "OUT", "ARGS", "PAGES", "CURVES_JS", 
 
 CHROMIUM = "/usr/bin/chromium"
 ROOT = Path(__file__).resolve().parents[1]
-NOTEBOOK = ROOT / "diskexplorer" / "app" / "explorer.ipynb"
+NOTEBOOK = ROOT / "diskexplorer" / "app" / "serving" / "explorer.ipynb"
 OUT = ROOT / "test-output"
 ARGS = ["--headless", "--no-sandbox", "--disable-gpu", "--disable-quic", "--no-first-run",
         "--disable-background-networking", "--disable-component-update", "--disable-sync"]
@@ -58,10 +58,10 @@ def served_app(notebook=NOTEBOOK, env=None, log=None, preheat=True):
 
     ``env`` adds environment variables (e.g. the ones ``diskexplorer demo`` hands to the
     app); ``log`` is a file voila's output goes to (default: discarded). As ``diskexplorer
-    demo`` does, the kernels get :data:`diskexplorer.serve.KERNEL_ENVIRONMENT` and, with
-    ``preheat``, one is kept preheated (:func:`diskexplorer.serve.voila_options`).
+    demo`` does, the kernels get :data:`diskexplorer.app.serving.server.KERNEL_ENVIRONMENT` and, with
+    ``preheat``, one is kept preheated (:func:`diskexplorer.app.serving.server.voila_options`).
     """
-    from diskexplorer.serve import KERNEL_ENVIRONMENT, voila_options
+    from diskexplorer.app.serving.server import KERNEL_ENVIRONMENT, voila_options
 
     port = free_port()
     out = open(log, "wb") if log is not None else subprocess.DEVNULL
@@ -123,7 +123,7 @@ def drawn_control_count(app):
     """
     import ipywidgets as w
 
-    from diskexplorer.app.controls import ParamControl
+    from diskexplorer.app.controls.param_control import ParamControl
 
     def walk(widget):
         if isinstance(widget, ParamControl):
@@ -198,7 +198,7 @@ _COUNT = {}
 def _sample_control_count():
     if "sample" not in _COUNT:
         from diskexplorer.app import explore
-        from diskexplorer.app.debounce import ManualScheduler
+        from diskexplorer.app.state.debounce import ManualScheduler
 
         _COUNT["sample"] = drawn_control_count(explore(scheduler=ManualScheduler(), jobs="sync"))
     return _COUNT["sample"]

@@ -7,10 +7,10 @@ import numpy as np
 import pytest
 
 from diskexplorer.app import explore
-from diskexplorer.app.controls import ParamControl, nice_step
-from diskexplorer.app.debounce import ManualScheduler
+from diskexplorer.app.controls.param_control import ParamControl, nice_step
+from diskexplorer.app.state.debounce import ManualScheduler
 from diskexplorer.app.figures.sed import BAND_TITLE
-from diskexplorer.app.ring_cards import NORMALISATION_NOTE
+from diskexplorer.app.controls.ring_cards import NORMALISATION_NOTE
 from diskexplorer.observables.spectrum import NO_DUST_BAND
 from diskexplorer.physics.parameters import DEFAULT_DIGITS, parameter_specs, round_significant
 from diskexplorer.physics.ring import Ring

@@ -1,7 +1,7 @@
 """The debouncer and its schedulers, driven by hand: the first change of a burst at once,
 later ones merged into one call per window."""
-from diskexplorer.app.debounce import Debouncer, ImmediateScheduler, ManualScheduler
-from diskexplorer.app.state import tiers_for
+from diskexplorer.app.state.debounce import Debouncer, ImmediateScheduler, ManualScheduler
+from diskexplorer.app.state.explorer_state import tiers_for
 
 
 def test_changes_of_one_turn_make_one_immediate_call():

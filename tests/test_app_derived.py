@@ -3,7 +3,7 @@
 import pytest
 
 from diskexplorer.app import explore
-from diskexplorer.app.debounce import ManualScheduler
+from diskexplorer.app.state.debounce import ManualScheduler
 from diskexplorer.physics import derived
 
 DERIVED_PAGE = 5

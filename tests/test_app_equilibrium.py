@@ -3,7 +3,7 @@ import numpy as np
 import pytest
 
 from diskexplorer.app import explore
-from diskexplorer.app.debounce import ManualScheduler
+from diskexplorer.app.state.debounce import ManualScheduler
 from diskexplorer.physics import derived
 
 STRUCTURE_PAGE, DERIVED_PAGE = 2, 5

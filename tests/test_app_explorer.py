@@ -7,7 +7,7 @@ import numpy as np
 import pytest
 
 from diskexplorer.app import explore
-from diskexplorer.app.debounce import ManualScheduler
+from diskexplorer.app.state.debounce import ManualScheduler
 from diskexplorer.sample import demo_scene, load_sample_data
 from diskexplorer.physics.parameters import parameter_specs
 from diskexplorer.physics.ring import Ring
@@ -145,7 +145,7 @@ def test_mixture_fractions_stay_normalised(app):
 
 
 def test_renormalise_edge_cases():
-    from diskexplorer.app.ring_cards import renormalise
+    from diskexplorer.app.controls.ring_cards import renormalise
     assert renormalise({"a": 1.0, "b": 0.0, "c": 0.0}, "a", 0.4) == pytest.approx({"a": 0.4, "b": 0.3, "c": 0.3})
     out = renormalise({"a": 0.5, "b": 0.3, "c": 0.2}, "b", 0.9)
     assert sum(out.values()) == pytest.approx(1.0) and out["a"] / out["c"] == pytest.approx(2.5)

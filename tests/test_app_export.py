@@ -5,7 +5,7 @@ import time
 import pytest
 
 from diskexplorer.app import explore
-from diskexplorer.app.debounce import ManualScheduler
+from diskexplorer.app.state.debounce import ManualScheduler
 from diskexplorer.fitting import Comparison, read_start
 
 START_PAGE = 3
@@ -223,8 +223,8 @@ def test_session_keeps_the_fit_setup(app, tmp_path):
 
 
 def test_baseline_selection_goes_into_the_document(material):
-    from diskexplorer.app.export_panel import describe_state_data
-    from diskexplorer.app.state import ExplorerState
+    from diskexplorer.app.pages.start_page import describe_state_data
+    from diskexplorer.app.state.explorer_state import ExplorerState
 
     state = ExplorerState(data_sources={"oifits": ["night1.fits"]}, baseline_range=(20.0, float("inf")))
     desc, notes = describe_state_data(state)

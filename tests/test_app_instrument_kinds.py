@@ -3,8 +3,8 @@ import numpy as np
 import pytest
 
 from diskexplorer.app import explore
-from diskexplorer.app.debounce import ManualScheduler
-from diskexplorer.app.export_panel import describe_state_data
+from diskexplorer.app.state.debounce import ManualScheduler
+from diskexplorer.app.pages.start_page import describe_state_data
 from diskexplorer.sample import load_sample_data
 from diskexplorer.testing import synthetic_data, synthetic_scene
 from diskexplorer.app.figures.base import drawn_dots
@@ -91,8 +91,8 @@ def test_start_page_weighs_the_new_kinds_and_exports_them(app):
 
 
 def test_a_session_keeps_the_bandpass_switch(tmp_path):
-    from diskexplorer.app.session import read_session, session_to_dict, write_session
-    from diskexplorer.app.session_panel import restore_session
+    from diskexplorer.app.state.sessions import read_session, session_to_dict, write_session
+    from diskexplorer.app.pages.session_box import restore_session
 
     a = explore(scheduler=ManualScheduler(), workdir=tmp_path)
     a.flush()

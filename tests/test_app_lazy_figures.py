@@ -4,8 +4,8 @@ import numpy as np
 import pytest
 
 from diskexplorer.app import explore
-from diskexplorer.app.debounce import ManualScheduler
-from diskexplorer.app.model_views import sed_curves
+from diskexplorer.app.state.debounce import ManualScheduler
+from diskexplorer.app.state.model_views import sed_curves
 from diskexplorer.sample import demo_scene
 
 HIDDEN = ("sed", "spectrum", "image", "profiles")

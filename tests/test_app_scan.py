@@ -5,8 +5,8 @@ import numpy as np
 import pytest
 
 from diskexplorer.app import explore
-from diskexplorer.app.debounce import ManualScheduler
-from diskexplorer.app.scan_panel import cell_edges, default_range
+from diskexplorer.app.state.debounce import ManualScheduler
+from diskexplorer.app.pages.scan_page import cell_edges, default_range
 from diskexplorer.fitting import Comparison
 
 SCAN_PAGE = 4

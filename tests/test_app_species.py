@@ -3,7 +3,7 @@ import numpy as np
 import pytest
 
 from diskexplorer.app import explore
-from diskexplorer.app.debounce import ManualScheduler
+from diskexplorer.app.state.debounce import ManualScheduler
 from diskexplorer.sample import demo_scene, load_sample_data
 from diskexplorer.dust import unregister_species
 

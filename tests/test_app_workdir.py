@@ -6,8 +6,8 @@ import pytest
 
 import diskexplorer
 from diskexplorer.app import explore
-from diskexplorer.app.debounce import ManualScheduler
-from diskexplorer.app.workdir import resolve_user_path, working_folder, writable_user_path
+from diskexplorer.app.state.debounce import ManualScheduler
+from diskexplorer.app.state.workdir import resolve_user_path, working_folder, writable_user_path
 from diskexplorer.errors import DiskExplorerError
 from diskexplorer.fitting import read_start
 
@@ -85,7 +85,7 @@ def test_a_save_into_the_package_is_refused_and_nothing_is_written(material, tmp
 def test_loads_and_species_files_resolve_against_the_working_folder(material, tmp_path, monkeypatch):
     import numpy as np
 
-    from diskexplorer.app.data_panel import load_into_state
+    from diskexplorer.app.pages.data_page import load_into_state
     from diskexplorer.dust import unregister_species
     from diskexplorer.sample import SAMPLE_FILES, copy_sample_data
 
@@ -108,7 +108,7 @@ def test_loads_and_species_files_resolve_against_the_working_folder(material, tm
 
 
 def test_served_app_with_bad_data_opens_without_it_and_says_why(tmp_path):
-    from diskexplorer.app.served import explore_served
+    from diskexplorer.app.serving.notebook_entry import explore_served
 
     (tmp_path / "broken.fits").write_bytes(b"SIMPLE  =                    T" + b" " * 50)
     app = explore_served(environ={"DISKEXPLORER_WORKDIR": str(tmp_path),
@@ -133,7 +133,7 @@ def test_restoring_a_session_leaves_exactly_its_data(tmp_path):
     assert panel.save()
     assert app.state.photometry is not None
     # the user then loads everything again ...
-    from diskexplorer.app.data_panel import load_into_state
+    from diskexplorer.app.pages.data_page import load_into_state
     assert load_into_state(app.state, "auto", ["obs"])
     assert app.state.spectrum is not None
     # ... and restoring the session brings back exactly the session's data

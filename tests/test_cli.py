@@ -268,7 +268,7 @@ def test_sample_data_writes_and_refuses_overwrite(tmp_path, capsys):
 def test_evaluate_reads_an_explorer_session(tmp_path, capsys):
     import json
 
-    session = pytest.importorskip("diskexplorer.app.session")
+    session = pytest.importorskip("diskexplorer.app.state.sessions")
     doc = {"schema": session.SESSION_SCHEMA, "scene": session.scene_to_dict(demo_scene()),
            "data": {"oifits": [str(SAMPLE / SAMPLE_FILES["oifits"][0])],
                     "photometry": str(SAMPLE / SAMPLE_FILES["photometry"])},

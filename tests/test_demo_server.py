@@ -16,7 +16,7 @@ import pytest
 from _processes import alive, free_port, port_open, stop_tree
 
 from diskexplorer.cli import main
-from diskexplorer.serve import DATA_VARIABLE, POOL_SIZE, WORKDIR_VARIABLE, DemoServer, check_port
+from diskexplorer.app.serving.server import DATA_VARIABLE, POOL_SIZE, WORKDIR_VARIABLE, DemoServer, check_port
 from diskexplorer.errors import DiskExplorerError
 
 pytestmark = pytest.mark.slow
@@ -30,7 +30,15 @@ def _kernels(root_pid):
         procs = psutil.Process(root_pid).children(recursive=True)
     except psutil.Error:
         return []
-    return [p for p in procs if "ipykernel" in " ".join(p.cmdline())]
+    return [p for p in procs if "ipykernel" in _cmdline(p)]
+
+
+def _cmdline(proc):
+    # A culled kernel is a zombie until voila reaps it (psutil then raises): not a kernel.
+    try:
+        return " ".join(proc.cmdline())
+    except psutil.Error:
+        return ""
 
 
 def _wait(predicate, timeout, step=0.25):

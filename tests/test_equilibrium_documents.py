@@ -7,7 +7,7 @@ import pytest
 
 import diskexplorer.dust  # noqa: F401
 from diskexplorer import Ring, Scene, Star, export_start, read_start, refine
-from diskexplorer.app.session import scene_from_dict, scene_to_dict
+from diskexplorer.app.state.sessions import scene_from_dict, scene_to_dict
 from diskexplorer.errors import SeedError
 from diskexplorer.fitting.paths import canonical_path, get_value, parameter_paths, set_values
 from diskexplorer.fitting.vector import free_parameters

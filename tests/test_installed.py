@@ -57,7 +57,7 @@ def test_the_wheel_carries_its_data_and_not_the_tests(installed):
     _, _, wheel = installed
     names = zipfile.ZipFile(wheel).namelist()
     for needed in ("diskexplorer/sample_data/aurelis_QT-HK.fits", "diskexplorer/sample_data/aurelis_start.json",
-                   "diskexplorer/app/explorer.ipynb", "diskexplorer/dust/kappa_library.npz"):
+                   "diskexplorer/app/serving/explorer.ipynb", "diskexplorer/dust/kappa_library.npz"):
         assert needed in names, needed
     assert any(n.startswith("diskexplorer/dust/lab_constants/") and n.endswith(".txt") for n in names)
     assert not any(n.startswith("tests/") or "/reference/oifits" in n for n in names)

@@ -9,26 +9,26 @@ import ipywidgets as w
 import numpy as np
 
 from ..physics.parameters import ParameterSpec
-from .controls import ExtendedPanel, GeometryPanel, ParamControl, StarPanel
-from .data_panel import DataPanel
-from .data_sets import bandpass_choice, data_sets_from
-from .data_view import DataView
-from .debounce import Debouncer
-from .derived_panel import DerivedPanel
-from .export_panel import ExportPanel
+from .controls.param_control import ExtendedPanel, GeometryPanel, ParamControl, StarPanel
+from .pages.data_page import DataPanel
+from .state.data_sets import bandpass_choice, data_sets_from
+from .state.data_view import DataView
+from .state.debounce import Debouncer
+from .pages.derived_page import DerivedPanel
+from .pages.start_page import ExportPanel
 from .figures import (Chi2Table, ClosureFigure, CorrelatedFluxFigure, CorrFluxPointsFigure, DiffPhaseFigure,
                       ImageFigure, ProfilesFigure, SedFigure, SpectrumFigure, VisAmpFigure, Vis2Figure)
-from .figure_set import FigureSet
+from .figures.figure_set import FigureSet
 from .figures.base import DOTS_CSS
 from .figures.sed import spectrum_wavelengths
-from .model_views import image, profiles, sed_curves, vis2_curve
+from .state.model_views import image, profiles, sed_curves, vis2_curve
 from .palette import ACCENT, INK, MUTED, PAPER
-from .pins import PinBoard, pin_colour
-from .ring_cards import RingDeck
-from .scan_panel import ScanPanel
-from .session_panel import SessionPanel
-from .state import ExplorerState, tiers_for
-from .workdir import working_folder
+from .pages.pins_page import PinBoard, pin_colour
+from .controls.ring_cards import RingDeck
+from .pages.scan_page import ScanPanel
+from .pages.session_box import SessionPanel
+from .state.explorer_state import ExplorerState, tiers_for
+from .state.workdir import working_folder
 
 __all__ = ["Explorer", "explore", "Frame"]
 
@@ -61,7 +61,7 @@ class Frame:
     result : ComparisonResult or None
         None without data.
     sed : dict
-        SED components (Jy) on :data:`~diskexplorer.app.model_views.SED_WAVELENGTHS`.
+        SED components (Jy) on :data:`~diskexplorer.app.state.model_views.SED_WAVELENGTHS`.
     spectrum : dict
         SED components (Jy) at the spectrum figure's wavelengths.
     curve : tuple
@@ -540,7 +540,7 @@ def explore(data=None, scene=None, *, scheduler=None, delay=0.04, jobs="thread",
         ring beyond a gap), also when ``data`` are the user's: a sensible model of a young
         star's inner disk to start from, not a fit to them.
     scheduler : optional
-        Debounce scheduler (tests pass a :class:`~diskexplorer.app.debounce.ManualScheduler`).
+        Debounce scheduler (tests pass a :class:`~diskexplorer.app.state.debounce.ManualScheduler`).
     delay : float
         Debounce window in s.
     jobs : {"thread", "sync"}

@@ -1,5 +1,5 @@
 """bqplot figures of the explorer; each has update_data / update_model / update_pins / apply_style."""
-from .chi2 import Chi2Table
+from .chi2_table import Chi2Table
 from .interferometry import (ClosureFigure, CorrelatedFluxFigure, CorrFluxPointsFigure, DiffPhaseFigure,
                              VisAmpFigure, Vis2Figure)
 from .sed import SedFigure, SpectrumFigure

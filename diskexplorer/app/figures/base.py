@@ -6,7 +6,8 @@ import numpy as np
 
 from ..palette import INK, MUTED
 
-__all__ = ["tick_segments", "dot_segments", "group_rows", "row_dots", "row_ticks", "drawn_dots", "DOTS_CSS", "assign", "same", "new_figure", "error_segments", "swap_scale", "EMPTY"]
+__all__ = ["tick_segments", "dot_segments", "group_rows", "row_dots", "row_ticks", "drawn_dots", "DOTS_CSS", "assign",
+           "same", "new_figure", "error_segments", "swap_scale", "EMPTY"]
 
 #: An empty float array (marks start empty and are filled by the first update).
 EMPTY = np.zeros(0)
@@ -154,8 +155,6 @@ def drawn_dots(mark):
     y = np.atleast_2d(np.asarray(mark.y, float))
     if x.size == 0:
         return np.zeros(0), np.zeros(0), []
-    if x.shape[0] != y.shape[0]:
-        x = np.broadcast_to(x, y.shape)
     xs, ys, cs = [], [], []
     for k in range(y.shape[0]):
         px, py = x[k, 0::3], y[k, 0::3]
@@ -213,8 +212,9 @@ def _rows(segments, x, y, index, *args):
     """``segments`` of the points ``index`` names, one polyline per row (padding: NaN)."""
     index = np.asarray(index)
     pad = index < 0
-    gx = np.where(pad, np.nan, np.asarray(x, float)[np.where(pad, 0, index)]) if index.size else index * 1.0
-    gy = np.where(pad, np.nan, np.asarray(y, float)[np.where(pad, 0, index)]) if index.size else index * 1.0
+    take = np.where(pad, 0, index)
+    gx = np.where(pad, np.nan, np.asarray(x, float)[take])
+    gy = np.where(pad, np.nan, np.asarray(y, float)[take])
     xs, ys = segments(gx.ravel(), gy.ravel(), *args)
     return xs.reshape(index.shape[0], -1), ys.reshape(index.shape[0], -1)
 

@@ -8,7 +8,7 @@ import ipywidgets as w
 import numpy as np
 
 from ...physics.constants import ARCSEC_RAD, RAD_PER_MAS
-from ..model_views import profiles, ring_outline
+from ..state.model_views import profiles, ring_outline
 from ..palette import BRIGHTNESS_SCHEME, INK, ring_colour
 from .base import EMPTY, assign, axis, new_figure, swap_scale
 

@@ -10,14 +10,14 @@ from __future__ import annotations
 import os
 from pathlib import Path
 
-from ..errors import DiskExplorerError
+from ...errors import DiskExplorerError
 
 __all__ = ["working_folder", "state_folder", "resolve_user_path", "writable_user_path", "package_folder"]
 
 
 def package_folder() -> Path:
     """The installed ``diskexplorer`` package folder (resolved)."""
-    return Path(__file__).resolve().parents[1]
+    return Path(__file__).resolve().parents[2]
 
 
 def _inside(path: Path, folder: Path) -> bool:

@@ -12,9 +12,9 @@ import math
 
 import ipywidgets as w
 
-from ..errors import DiskExplorerError
-from ..physics import derived as dq
-from .palette import ACCENT, INK, MUTED, OKABE_ITO, ring_colour
+from ...errors import DiskExplorerError
+from ...physics import derived as dq
+from ..palette import ACCENT, INK, MUTED, OKABE_ITO, ring_colour
 
 __all__ = ["DerivedPanel", "derived_rows", "GAP_NOTE"]
 

@@ -4,7 +4,7 @@ save (asking before overwriting), the Python snippet, import, and a quick local 
 Everything the user sets here lives in ``state.fit_setup`` (the single source of truth, so
 sessions save it); the table writes there, and the explorer's one recompute redraws the
 document. Refinement runs :func:`~diskexplorer.fitting.refine` in a background thread
-(:class:`~diskexplorer.app.background.JobRunner`); its result is only shown until the user
+(:class:`~diskexplorer.app.state.jobs.JobRunner`); its result is only shown until the user
 accepts it into the model or discards it.
 """
 from __future__ import annotations
@@ -16,17 +16,17 @@ import math
 
 import ipywidgets as w
 
-from ..errors import DiskExplorerError
-from ..fitting.data_description import DataDescription
-from ..fitting.paths import get_value, parameter_paths, set_values, spec_for
-from ..fitting.priors import PRIOR_KINDS, default_prior
-from ..fitting.vector import default_bounds
-from .background import JobRunner, Throttle
-from .controls import unit_text
-from .figures.base import assign as _assign
-from .palette import ACCENT, INK, MUTED, OKABE_ITO
-from .overwrite_guard import OverwriteGuard
-from .workdir import resolve_user_path, state_folder, writable_user_path
+from ...errors import DiskExplorerError
+from ...fitting.data_description import DataDescription
+from ...fitting.paths import get_value, parameter_paths, set_values, spec_for
+from ...fitting.priors import PRIOR_KINDS, default_prior
+from ...fitting.vector import default_bounds
+from ..state.jobs import JobRunner, Throttle
+from ..controls.param_control import unit_text
+from ..figures.base import assign as _assign
+from ..palette import ACCENT, INK, MUTED, OKABE_ITO
+from .save_box import OverwriteGuard
+from ..state.workdir import resolve_user_path, state_folder, writable_user_path
 
 __all__ = ["ExportPanel", "clean_fit_setup", "describe_state_data", "doc_free", "WEIGHT_KINDS"]
 
@@ -399,7 +399,7 @@ class ExportPanel(w.VBox):
         SeedError
             Bounds that do not hold the current value, priors that do not fit, …
         """
-        from ..fitting.start_document import export_start
+        from ...fitting.start_document import export_start
 
         setup = self.setup
         scene = self.state.scene
@@ -454,8 +454,8 @@ class ExportPanel(w.VBox):
             Whether the file was written. An existing file is never replaced unless
             ``overwrite`` (the "overwrite" button) is given.
         """
-        from ..fitting.snippet import make_snippet
-        from ..fitting.start_document import write_start
+        from ...fitting.snippet import make_snippet
+        from ...fitting.start_document import write_start
 
         try:
             path = writable_user_path(self.path.value, state_folder(self.state))
@@ -493,7 +493,7 @@ class ExportPanel(w.VBox):
         -------
         bool
         """
-        from ..fitting.start_import import read_start
+        from ...fitting.start_import import read_start
 
         if source is None:
             source = str(resolve_user_path(self.path.value, state_folder(self.state)))
@@ -525,7 +525,7 @@ class ExportPanel(w.VBox):
         bool
             Whether a refinement was started.
         """
-        from ..fitting.refine import refine
+        from ...fitting.refine import refine
 
         if self.runner.busy:
             return False

@@ -34,12 +34,6 @@ class FigureSet:
             self._catch_up(name, fig)
         return fig
 
-    def __contains__(self, name):
-        return name in self._makers
-
-    def __len__(self):
-        return len(self._makers)
-
     def keys(self):
         """Every figure's name (built or not)."""
         return list(self._makers)

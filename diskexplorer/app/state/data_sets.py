@@ -14,7 +14,7 @@ from pathlib import Path
 
 import numpy as np
 
-from ..errors import DataError, DiskExplorerError
+from ...errors import DataError, DiskExplorerError
 from .workdir import resolve_user_path
 
 __all__ = ["DataSet", "read_data_set", "read_data_sets", "data_sets_from", "combine_data_sets",
@@ -123,7 +123,7 @@ def read_data_set(path, kind=None) -> DataSet:
         The file is missing, none of the kinds, or its reader refuses it; the message
         names the file.
     """
-    from ..data.classify import classify_data_file
+    from ...data.classify import classify_data_file
 
     path = os.path.abspath(os.fspath(path))
     if kind is None:
@@ -148,12 +148,12 @@ def read_data_set(path, kind=None) -> DataSet:
 
 def _read(kind, path):
     if kind == "oifits":
-        from ..data.oifits import read_oifits
+        from ...data.oifits import read_oifits
         return read_oifits(path)
     if kind == "photometry":
-        from ..data.photometry import read_photometry
+        from ...data.photometry import read_photometry
         return read_photometry(path)
-    from ..data.spectrum import read_spectrum
+    from ...data.spectrum import read_spectrum
     return read_spectrum(path)
 
 
@@ -180,7 +180,7 @@ def read_data_sets(paths, kind=None):
         Any file that cannot be read (nothing is returned then), a folder without data,
         or more than one photometry table or spectrum.
     """
-    from ..data.classify import collect_data_files
+    from ...data.classify import collect_data_files
 
     if isinstance(paths, (str, os.PathLike)):
         paths = [paths]
@@ -222,7 +222,7 @@ def _split_by_file(obs):
     named = {f for ds in datasets.values() for f in np.unique(ds["file"].values.astype(str))}
     if not named <= set(files):
         return None
-    from ..data.observations import ObservationSet
+    from ...data.observations import ObservationSet
 
     parts = []
     for f in files:
@@ -269,7 +269,7 @@ def data_sets_from(data, workdir=None):
     DataError
         A file that cannot be read, or ``data`` of a type that is none of these.
     """
-    from ..data.observations import ObservationSet
+    from ...data.observations import ObservationSet
 
     if isinstance(data, DataSet):
         return [data], []
@@ -296,7 +296,7 @@ def data_sets_from(data, workdir=None):
 
 
 def _sets_from_dict(data):
-    from ..data.observations import ObservationSet
+    from ...data.observations import ObservationSet
 
     unknown = sorted(set(data) - {"observations", "photometry", "spectrum", "paths"})
     if unknown:
@@ -332,7 +332,7 @@ def combine_data_sets(data_sets):
         "photometry": path, "spectrum": path}``, files only) and ``warnings`` (what
         combining them warned about, e.g. two arrays of one name).
     """
-    from ..data.observations import ObservationSet
+    from ...data.observations import ObservationSet
 
     oifits = [d for d in data_sets if d.kind == "oifits"]
     caught = []

@@ -21,13 +21,13 @@ import sys
 import time
 from pathlib import Path
 
-from .errors import DiskExplorerError
+from ...errors import DiskExplorerError
 
 __all__ = ["DemoServer", "check_port", "voila_options", "APP_NOTEBOOK", "DEFAULT_IDLE_TIMEOUT_S",
            "WORKDIR_VARIABLE", "DATA_VARIABLE", "POOL_SIZE", "POOL_FILL_DELAY_S", "KERNEL_ENVIRONMENT"]
 
 #: The app notebook voila serves (package data).
-APP_NOTEBOOK = Path(__file__).resolve().parent / "app" / "explorer.ipynb"
+APP_NOTEBOOK = Path(__file__).resolve().parent / "explorer.ipynb"
 #: Seconds after which the kernel of a closed page is shut down.
 DEFAULT_IDLE_TIMEOUT_S = 30
 #: Environment variables through which the app notebook's kernel learns the user's folder

@@ -7,10 +7,10 @@ from __future__ import annotations
 
 import traitlets as t
 
-from ..errors import DiskExplorerError
-from ..observables.scene import Scene
-from ..physics.ring import Ring
-from ..physics.star import Star
+from ...errors import DiskExplorerError
+from ...observables.scene import Scene
+from ...physics.ring import Ring
+from ...physics.star import Star
 
 __all__ = ["ExplorerState", "TIERS", "tiers_for", "MAX_PINS"]
 
@@ -69,7 +69,7 @@ class ExplorerState(t.HasTraits):
     scene : Scene
         The current model.
     data_sets : tuple of DataSet
-        The loaded data, one entry per file (:mod:`~diskexplorer.app.data_sets`); change it
+        The loaded data, one entry per file (:mod:`~diskexplorer.app.state.data_sets`); change it
         with :meth:`set_data_sets`, :meth:`add_data_sets` and :meth:`remove_data_set`, which
         also set the four traits below.
     observations : ObservationSet or None
@@ -197,7 +197,7 @@ class ExplorerState(t.HasTraits):
 
     # ------------------------------------------------------------------ data
     def set_data_sets(self, data_sets):
-        """Hold exactly ``data_sets`` (a sequence of :class:`~diskexplorer.app.data_sets.DataSet`).
+        """Hold exactly ``data_sets`` (a sequence of :class:`~diskexplorer.app.state.data_sets.DataSet`).
 
         Returns
         -------
@@ -270,7 +270,7 @@ def _bands_and_instruments(obs):
         return set(), set()
     import numpy as np
 
-    from ..data.bands import INTERFEROMETRIC_BANDS
+    from ...data.bands import INTERFEROMETRIC_BANDS
 
     waves = np.concatenate([ds["wavelength"].values for ds in obs.datasets().values()] or [np.zeros(0)])
     bands = {b for b, (lo, hi) in INTERFEROMETRIC_BANDS.items() if np.any((waves >= lo) & (waves <= hi))}
@@ -293,6 +293,6 @@ def default_new_ring(scene):
 
 
 def _default_dust():
-    from ..dust import DustMix
+    from ...dust import DustMix
 
     return DustMix({"olivine_glass": 1.0})

@@ -2,16 +2,16 @@
 
 The served notebook's kernel runs in the package's folder, so the command line hands over
 the user's folder and data files through the environment (names in
-:mod:`diskexplorer.serve`); outside a served demo these are unset and :func:`explore_served`
+:mod:`diskexplorer.app.serving.server`); outside a served demo these are unset and :func:`explore_served`
 is plain :func:`~diskexplorer.app.explore`.
 """
 from __future__ import annotations
 
 import os
 
-from ..errors import DiskExplorerError
-from ..serve import DATA_VARIABLE, WORKDIR_VARIABLE
-from .explorer import explore
+from ...errors import DiskExplorerError
+from .server import DATA_VARIABLE, WORKDIR_VARIABLE
+from ..explorer import explore
 
 __all__ = ["explore_served", "served_settings"]
 

@@ -1,6 +1,6 @@
 """The data tab: load files and folders, list what is loaded (remove any), filter, add dust species.
 
-Loaded data live in the state as a list of data sets (:mod:`~diskexplorer.app.data_sets`),
+Loaded data live in the state as a list of data sets (:mod:`~diskexplorer.app.state.data_sets`),
 one per file with its reader's warnings; errors and warnings go to the message area, and
 a failed load changes nothing.
 """
@@ -16,11 +16,11 @@ from pathlib import Path
 import ipywidgets as w
 import numpy as np
 
-from ..data.bands import INTERFEROMETRIC_BANDS
-from ..errors import DiskExplorerError
-from .data_sets import read_data_sets
-from .palette import MUTED
-from .workdir import resolve_user_path, state_folder
+from ...data.bands import INTERFEROMETRIC_BANDS
+from ...errors import DiskExplorerError
+from ..state.data_sets import read_data_sets
+from ..palette import MUTED
+from ..state.workdir import resolve_user_path, state_folder
 
 __all__ = ["DataPanel", "DataSetRow", "load_into_state", "KINDS"]
 
@@ -155,8 +155,8 @@ class SpeciesForm(w.VBox):
 
     def add(self):
         """Register the species described by the form; True on success."""
-        from ..dust import register_species
-        from ..errors import DiskExplorerError
+        from ...dust import register_species
+        from ...errors import DiskExplorerError
 
         name = self.name.value.strip()
         typed = self.path.value.strip()
@@ -307,7 +307,7 @@ class DataPanel(w.VBox):
                 self.bands.value = tuple(b for b in st.band_filter if b in present)
                 self.instruments.options = list(obs.instruments)
                 self.instruments.value = tuple(i for i in st.instrument_filter if i in obs.instruments)
-                from ..data.observations import baseline_lengths
+                from ...data.observations import baseline_lengths
                 bmax = max((float(np.max(baseline_lengths(ds))) for k, ds in obs.datasets().items() if k != "flux"),
                            default=200.0)
                 top = max(float(np.ceil(bmax * 1.02)), 1.0)

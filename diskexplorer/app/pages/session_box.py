@@ -6,11 +6,11 @@ import math
 
 import ipywidgets as w
 
-from ..errors import DiskExplorerError
-from .data_panel import load_into_state
-from .overwrite_guard import OverwriteGuard
-from .workdir import resolve_user_path, state_folder, writable_user_path
-from .session import (VIEW_SETTINGS, read_session, scene_from_dict, session_to_dict, write_session)
+from ...errors import DiskExplorerError
+from .data_page import load_into_state
+from .save_box import OverwriteGuard
+from ..state.workdir import resolve_user_path, state_folder, writable_user_path
+from ..state.sessions import (VIEW_SETTINGS, read_session, scene_from_dict, session_to_dict, write_session)
 
 __all__ = ["SessionPanel", "restore_session"]
 
@@ -48,7 +48,7 @@ def restore_session(state, document):
                 setattr(state, k, v)
         state.pins = pins
         state.scene = scene
-        from .export_panel import clean_fit_setup
+        from .start_page import clean_fit_setup
         state.fit_setup = clean_fit_setup(document.get("fit_setup") or {})
 
 

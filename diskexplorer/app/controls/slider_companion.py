@@ -1,6 +1,6 @@
 """A slider companion that also keeps the control's tooltip on the exact value, in the page.
 
-:class:`SliderCompanion` is a :class:`~diskexplorer.app.slider_aria.SliderAria` whose front
+:class:`SliderCompanion` is a :class:`~diskexplorer.app.controls.slider_aria.SliderAria` whose front
 end, after every move, also writes the title of the control's label (``.dx-param-label``):
 "T_in = 1490 K — temperature at r_in". The kernel then need not rewrite the label's HTML on
 every slider step (one message fewer per step); it writes the title itself only when the

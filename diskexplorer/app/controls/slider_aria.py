@@ -4,7 +4,7 @@ ipywidgets draws sliders with noUiSlider, whose handle (``role="slider"``) repor
 slider's own coordinate: ``aria-valuenow`` rounded to one decimal and ``aria-valuetext``
 unformatted. For a log slider that coordinate is log10 of the value (r_in = 0.34 au is
 announced as "-0.5"), and no handle has an accessible name. ipywidgets offers no option
-for either, so each :class:`~diskexplorer.app.controls.ParamControl` carries one invisible
+for either, so each :class:`~diskexplorer.app.controls.param_control.ParamControl` carries one invisible
 :class:`SliderAria` whose front end rewrites its handle's ARIA attributes after every
 move: ``aria-label`` from the parameter's label and description, ``aria-valuenow`` /
 ``aria-valuemin`` / ``aria-valuemax`` as values in the parameter's unit, and

@@ -18,12 +18,12 @@ import ipywidgets as w
 import numpy as np
 import traitlets as t
 
-from ..errors import DiskExplorerError
-from ..fitting.paths import get_value, parameter_paths, set_values, spec_for
-from .background import JobRunner
-from .controls import unit_text
-from .figures.base import EMPTY, assign, axis, new_figure
-from .palette import DELTA_CHI2_SCHEME, INK, MUTED, OKABE_ITO
+from ...errors import DiskExplorerError
+from ...fitting.paths import get_value, parameter_paths, set_values, spec_for
+from ..state.jobs import JobRunner
+from ..controls.param_control import unit_text
+from ..figures.base import EMPTY, assign, axis, new_figure
+from ..palette import DELTA_CHI2_SCHEME, INK, MUTED, OKABE_ITO
 
 __all__ = ["ScanPanel", "cell_edges", "default_range", "LEVEL_COLOURS"]
 
@@ -247,7 +247,7 @@ class ScanPanel(w.VBox):
             self.progress.value = "starting a local dask cluster in the background …"
 
         def job():
-            from ..fitting.scan import local_client
+            from ...fitting.scan import local_client
 
             try:
                 client = local_client()
@@ -270,7 +270,7 @@ class ScanPanel(w.VBox):
     def _client(self, where):
         """A dask client for ``where`` ("local" or an address), kept for later scans."""
         if where == "local":
-            from ..fitting.scan import local_client
+            from ...fitting.scan import local_client
 
             return local_client()  # one single-threaded worker per core
         if where not in self._clients:
@@ -298,7 +298,7 @@ class ScanPanel(w.VBox):
         bool
             Whether the scan was started (False with a message on bad input).
         """
-        from ..fitting.scan import axis_values
+        from ...fitting.scan import axis_values
 
         if self.runner.busy:
             return False
@@ -340,7 +340,7 @@ class ScanPanel(w.VBox):
         total = xs.size * ys.size
 
         def job():
-            from ..fitting.scan import scan_grid
+            from ...fitting.scan import scan_grid
 
             def on_chunk(start, values):
                 runner.post(lambda: self._add_chunk(start, values[:, 0], total))
@@ -375,7 +375,7 @@ class ScanPanel(w.VBox):
 
     @staticmethod
     def _local_running():
-        from ..fitting.scan import local_client
+        from ...fitting.scan import local_client
 
         return local_client(start=False) is not None
 
@@ -432,7 +432,7 @@ class ScanPanel(w.VBox):
 
     def _update_map(self):
         """Draw the rows evaluated so far (the y range stays that of the whole grid)."""
-        from ..fitting.scan import confidence_levels
+        from ...fitting.scan import confidence_levels
 
         py, ys, px, xs = self.axes
         chi2 = self.chi2

@@ -9,9 +9,9 @@ import math
 
 import numpy as np
 
-from ..observables.image import model_image
-from ..observables.profiles import radial_profiles
-from ..observables.spectrum import normalized_silicate_band
+from ...observables.image import model_image
+from ...observables.profiles import radial_profiles
+from ...observables.spectrum import normalized_silicate_band
 
 __all__ = ["SED_WAVELENGTHS", "sed_curves", "vis2_curve", "profiles", "image", "silicate_band",
            "ring_outline"]

@@ -7,12 +7,12 @@ from dataclasses import replace
 
 import ipywidgets as w
 
-from ..physics.parameters import ParameterSpec, parameter_specs
-from ..physics.ring import MODULATION_AMPLITUDE_SPEC as AMPLITUDE_SPEC
-from ..physics.ring import MODULATION_ANGLE_SPEC as ANGLE_SPEC
-from ..physics.ring import SUBLIMATION_TEMPERATURE_SPEC, Ring
-from .controls import ParamControl, _guarded
-from .palette import MUTED, ring_colour
+from ...physics.parameters import ParameterSpec, parameter_specs
+from ...physics.ring import MODULATION_AMPLITUDE_SPEC as AMPLITUDE_SPEC
+from ...physics.ring import MODULATION_ANGLE_SPEC as ANGLE_SPEC
+from ...physics.ring import SUBLIMATION_TEMPERATURE_SPEC, Ring
+from .param_control import ParamControl, _guarded
+from ..palette import MUTED, ring_colour
 
 __all__ = ["RingDeck", "RingCard", "MixtureEditor", "TemperatureEditor", "renormalise", "NORMALISATION_NOTE",
            "AMPLITUDE_SPEC", "ANGLE_SPEC", "TEMPERATURE_MODE_OPTIONS"]
@@ -57,14 +57,14 @@ def renormalise(fractions, changed, value):
 
 
 def _species():
-    from ..dust import list_species
+    from ...dust import list_species
 
     return [s["name"] for s in list_species()]
 
 
 def _sizes(species):
     """Grain sizes (µm) the library tabulates for these species (built-ins only)."""
-    from ..dust import get_library
+    from ...dust import get_library
 
     lib = get_library()
     return sorted({float(x) for sp in species for x in lib.sizes(sp, "dhs")})
@@ -211,7 +211,7 @@ class MixtureEditor(w.VBox):
         """The dust the editor shows: a DustMix, or None when opaque."""
         if self.opaque.value or not self.species:
             return None
-        from ..dust import DustMix
+        from ...dust import DustMix
         fr = {sp: f for sp, f in self.fractions.items() if f > 0}
         return DustMix(fr, grain_size=self.size.value, shape=self.shape.value)
 

@@ -5,9 +5,9 @@ import html
 
 import ipywidgets as w
 
-from ..errors import DiskExplorerError
-from .palette import PIN_COLOURS
-from .state import MAX_PINS
+from ...errors import DiskExplorerError
+from ..palette import PIN_COLOURS
+from ..state.explorer_state import MAX_PINS
 
 __all__ = ["PinBoard", "pin_colour"]
 

@@ -9,10 +9,10 @@ import json
 import math
 from pathlib import Path
 
-from ..errors import DiskExplorerError
-from ..observables.scene import Scene
-from ..physics.ring import Ring
-from ..physics.star import Star
+from ...errors import DiskExplorerError
+from ...observables.scene import Scene
+from ...physics.ring import Ring
+from ...physics.star import Star
 
 __all__ = ["SESSION_SCHEMA", "scene_to_dict", "scene_from_dict", "session_to_dict", "write_session",
            "read_session", "VIEW_SETTINGS"]
@@ -47,7 +47,7 @@ def _dust_from_dict(d):
     if d.get("kind") != "mixture":
         raise DiskExplorerError(f"session: dust {d.get('label', d)!r} cannot be restored from JSON "
                                 "(only DustMix mixtures and opaque rings can)")
-    from ..dust import DustMix
+    from ...dust import DustMix
     fractions = [(tuple(k) if isinstance(k, list) else k, f) for k, f in d["fractions"]]
     return DustMix(fractions, grain_size=d["grain_size"], shape=d["shape"])
 

@@ -8,12 +8,12 @@ import ipywidgets as w
 from ipywidgets.widgets.widget_description import DescriptionStyle
 from ipywidgets.widgets.widget_string import HTMLStyle
 
-from ..errors import DiskExplorerError
-from ..observables.scene import Scene
-from ..physics.parameters import ParameterSpec, parameter_specs
-from ..physics.star import LUMINOSITY_SPEC, Star
-from .palette import MUTED
-from .slider_title import SliderCompanion
+from ...errors import DiskExplorerError
+from ...observables.scene import Scene
+from ...physics.parameters import ParameterSpec, parameter_specs
+from ...physics.star import LUMINOSITY_SPEC, Star
+from ..palette import MUTED
+from .slider_companion import SliderCompanion
 
 __all__ = ["ParamControl", "StarPanel", "GeometryPanel", "ExtendedPanel", "unit_text", "nice_step",
            "LUMINOSITY_SPEC"]
@@ -194,7 +194,7 @@ class ParamControl(w.HBox):
     grid point, so arrow keys step away and back to it exactly, and a value set from
     elsewhere (typed, a fit, a session) moves the anchor. The number box shows the value
     rounded to ``spec.digits`` significant digits; :attr:`value` is never rounded. A
-    :class:`~diskexplorer.app.slider_aria.SliderAria` gives the handle its name and its
+    :class:`~diskexplorer.app.controls.slider_aria.SliderAria` gives the handle its name and its
     value in the unit (a log slider's own coordinate is log10 of the value).
     """
 

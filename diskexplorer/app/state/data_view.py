@@ -5,7 +5,7 @@ import math
 
 import numpy as np
 
-from ..fitting.comparison import Comparison
+from ...fitting.comparison import Comparison
 
 __all__ = ["DataView", "filter_observations"]
 
