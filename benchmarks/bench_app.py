@@ -2,7 +2,7 @@
 
 Run: ``python benchmarks/bench_app.py``. Prints the median and quartiles per kind of
 change for the visible page (interferometry) and with the hidden disk-structure views
-computed too. The browser's redraw time is printed by ``tests/test_browser.py``.
+computed too. The browser's redraw time is printed by ``tests/browser/test_browser.py``.
 """
 import statistics
 import time

@@ -38,7 +38,7 @@ V(λ) = exp(−2πi B·s/λ); across a narrow channel (Δλ ≪ λ) the phase is
 V_chan = exp(−2πi B·s/λ) · sinc(π B·s Δλ/λ²) with sinc(x) = sin x / x (the classical
 bandwidth-smearing factor; derived here from the definition above, to first order in
 Δλ/λ; for F_ν ∝ λ⁻² it is exact in 1/λ, with the channel's centre and width in 1/λ).
-``tests/test_bandpass.py`` checks the quadrature against that formula, and the engine
+``tests/observables/test_bandpass.py`` checks the quadrature against that formula, and the engine
 against the closed form of a uniform disk with F_ν ∝ λ⁻² and an 801-point brute force.
 
 Implementation: sub-channel quadrature. Each channel is replaced by the n Gauss–Legendre

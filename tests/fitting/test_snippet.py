@@ -9,7 +9,7 @@ import pytest
 from diskexplorer.data import write_oifits
 from diskexplorer.fitting import export_start, make_snippet, read_start, write_start
 
-from test_fitting_helpers import FREE, PHOT_WAVELENGTHS, perturbed, synthetic_data, true_scene
+from fitting_cases import FREE, PHOT_WAVELENGTHS, perturbed, synthetic_data, true_scene
 
 
 @pytest.fixture

@@ -1,7 +1,7 @@
 """``diskexplorer scan``: argument checks before anything runs, a small serial scan, atomic writes.
 
 The distributed run against separately started ``dask scheduler``/``dask worker`` programs is in
-``tests/test_scan_cluster.py`` (slow).
+``tests/fitting/test_scan_cluster.py`` (slow).
 """
 from __future__ import annotations
 

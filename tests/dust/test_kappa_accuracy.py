@@ -10,7 +10,7 @@ crystalline forsterite and kinks of the glass data sit:
   ch. 4 — FROM MEMORY for the chapter) per grain of mass ρ 4πa³/3;
 * CDE and DHS: :func:`diskexplorer.dust.compute_kappa` at those wavelengths, which calls
   the project's ``cde.py`` and ``coated.py`` (checked against published formulas in
-  tests/test_dust_cde.py and tests/test_dust_mie.py) and never reads the table.
+  tests/dust/test_cde.py and tests/dust/test_mie.py) and never reads the table.
 
 Crystal axes are averaged 1/3 each, as the library does. Required: max relative error
 ≤ 2 % (issue 14), peaks included.

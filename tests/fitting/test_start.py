@@ -108,7 +108,7 @@ def test_every_declared_parameter_has_an_entry(kappa_file):
 def test_judgement_and_data_are_recorded():
     from diskexplorer.fitting import Comparison
 
-    from test_fitting_helpers import synthetic_data, true_scene
+    from fitting_cases import synthetic_data, true_scene
 
     scene = true_scene()
     obs, phot = synthetic_data(scene)
@@ -221,7 +221,7 @@ def test_baseline_range_is_recorded_and_applied(tmp_path):
     from diskexplorer.data import read_oifits
     from diskexplorer.fitting.data_description import DataDescription
 
-    path = str(Path(__file__).resolve().parents[1] / "sample_data" / "aurelis_QT-HK.fits")
+    path = str(Path(__file__).resolve().parents[2] / "sample_data" / "aurelis_QT-HK.fits")
     desc = DataDescription.from_dict({"oifits": [{"path": path, "baseline_range": [40.0, 100.0]}]})
     obs, _, _ = desc.load()
     ref = read_oifits(path).select_baseline(40.0, 100.0)

@@ -4,7 +4,7 @@ import pathlib
 import subprocess
 import sys
 
-PACKAGE = pathlib.Path(__file__).resolve().parents[1] / "diskexplorer"
+PACKAGE = pathlib.Path(__file__).resolve().parents[2] / "diskexplorer"
 # Which of our subpackages each layer may import (DESIGN.md §4: physics imports nothing of ours).
 ALLOWED = {
     "physics": {"physics", "errors"},

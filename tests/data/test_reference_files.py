@@ -13,7 +13,7 @@ import pytest
 
 from _reference import REFERENCE_DIR, lab_constants_dir, oifits_dir
 
-ROOT = Path(__file__).resolve().parents[1]
+ROOT = Path(__file__).resolve().parents[2]
 _ROW = re.compile(r"^\|\s*`([^`]+)`\s*\|.*\|\s*`([0-9a-f]{64})`\s*\|\s*$")
 
 

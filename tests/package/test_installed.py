@@ -22,7 +22,7 @@ from _processes import alive, free_port, port_open, stop_tree
 
 pytestmark = [pytest.mark.slow]
 
-ROOT = Path(__file__).resolve().parents[1]
+ROOT = Path(__file__).resolve().parents[2]
 
 
 def _run(cmd, cwd, timeout=600, env=None):

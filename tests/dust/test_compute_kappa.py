@@ -23,7 +23,7 @@ from diskexplorer.physics.opacity import as_opacity
 F32 = 2.0 ** -23
 # DHS rows of nearly transparent silicates (k at the floor, 0.3–4 µm) differ by up to 8.7e-6
 # between machines (measured: rebuild here against the committed table; Gauss–Legendre nodes and
-# cancellation in the coated sphere), so DHS is compared at 1e-5, as in test_dust_library.py.
+# cancellation in the coated sphere), so DHS is compared at 1e-5, as in tests/dust/test_library.py.
 DHS_RTOL = 1e-5
 
 

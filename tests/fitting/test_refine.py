@@ -5,7 +5,7 @@ import pytest
 from diskexplorer.errors import ParameterError
 from diskexplorer.fitting import Comparison, free_parameters, refine
 
-from test_fitting_helpers import FREE, perturbed, synthetic_data, true_scene
+from fitting_cases import FREE, perturbed, synthetic_data, true_scene
 
 TRUTH = true_scene()
 OBS, PHOT = synthetic_data(TRUTH)
