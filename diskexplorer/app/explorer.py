@@ -10,12 +10,12 @@ import numpy as np
 
 from ..physics.parameters import ParameterSpec
 from .controls.param_control import ExtendedPanel, GeometryPanel, ParamControl, StarPanel
-from .pages.data_page import DataPanel
+from .pages.data_page import DataPage
 from .state.data_sets import bandpass_choice, data_sets_from
 from .state.data_view import DataView
 from .state.debounce import Debouncer
-from .pages.derived_page import DerivedPanel
-from .pages.start_page import ExportPanel
+from .pages.derived_page import DerivedPage
+from .pages.start_page import StartPage
 from .figures import (Chi2Table, ClosureFigure, CorrelatedFluxFigure, CorrFluxPointsFigure, DiffPhaseFigure,
                       ImageFigure, ProfilesFigure, SedFigure, SpectrumFigure, VisAmpFigure, Vis2Figure)
 from .figures.figure_set import FigureSet
@@ -25,8 +25,8 @@ from .state.model_views import image, profiles, sed_curves, vis2_curve
 from .palette import ACCENT, INK, MUTED, PAPER
 from .pages.pins_page import PinBoard, pin_colour
 from .controls.ring_cards import RingDeck
-from .pages.scan_page import ScanPanel
-from .pages.session_box import SessionPanel
+from .pages.scan_page import ScanPage
+from .pages.session_box import SessionBox
 from .state.explorer_state import ExplorerState, tiers_for
 from .state.workdir import working_folder
 
@@ -150,7 +150,7 @@ class Explorer(w.VBox):
         Figure objects by name (each made when its page is first built or it is asked for).
     timings : list of float
         Duration of each recompute, s (the benchmark reads it).
-    export_panel, scan_panel, derived_panel : ExportPanel, ScanPanel, DerivedPanel
+    start_page, scan_page, derived_page : StartPage, ScanPage, DerivedPage
         The starting-point, χ² grid and derived-quantities pages.
     """
 
@@ -206,9 +206,9 @@ class Explorer(w.VBox):
                       "structure": _LazyPage(self._build_structure_page),
                       "start": _LazyPage(self._build_start_page), "scan": _LazyPage(self._build_scan_page),
                       "derived": _LazyPage(self._build_derived_page)}
-        self.message = w.HTML()
-        self.message.add_class("dx-message")
-        st.observe(self._on_notice, "notice")
+        self.message_area = w.HTML()
+        self.message_area.add_class("dx-message")
+        st.observe(self._on_message, "message")
 
         self.curve_pa = ParamControl(_CURVE_PA_SPEC, st.curve_position_angle,
                                      lambda v: setattr(st, "curve_position_angle", v), css="dx-curve-pa")
@@ -230,7 +230,7 @@ class Explorer(w.VBox):
         self._recompute({"observations", "scene", "pins", "log_sed_x", "log_vis2", "log_profiles"})
         warned = [f"{d.label}: {x}" for d in data_sets for x in d.warnings] + notes
         if warned:
-            st.say(f"{len(warned)} warning(s) about the data: " + " | ".join(warned))
+            st.show_message(f"{len(warned)} warning(s) about the data: " + " | ".join(warned))
 
     # ------------------------------------------------------------------ layout
     def _layout(self):
@@ -251,12 +251,12 @@ class Explorer(w.VBox):
         header.add_class("dx-header")
         right = w.VBox([w.HBox([self.chi2.widget], layout={"padding": "4px 0"}), self.figure_tabs],
                        layout={"flex": "1 1 auto"})
-        super().__init__([header, self.message, w.HBox([self.control_tabs, right], layout={"width": "100%"})])
+        super().__init__([header, self.message_area, w.HBox([self.control_tabs, right], layout={"width": "100%"})])
         self.add_class("dx-root")
 
     # ------------------------------------------------------------------ pages
     # Each builder returns (page widget, {attribute: object}); the objects become the
-    # attributes of the same names (``app.export_panel``...). A page added to the figure
+    # attributes of the same names (``app.start_page``...). A page added to the figure
     # tabs needs an entry in PAGE_ORDER / PAGE_TITLES and, unless it is the first, a
     # _LazyPage in __init__.
     def _build_interferometry_page(self):
@@ -281,41 +281,41 @@ class Explorer(w.VBox):
         return page, {}
 
     def _build_data_page(self):
-        panel = DataPanel(self.state, on_species_added=self._on_species_added)
-        return panel, {"data_panel": panel}
+        panel = DataPage(self.state, on_species_added=self._on_species_added)
+        return panel, {"data_page": panel}
 
     def _build_pins_page(self):
-        board, session = PinBoard(self.state), SessionPanel(self.state)
-        return w.VBox([board, session]), {"pin_board": board, "session_panel": session}
+        board, session = PinBoard(self.state), SessionBox(self.state)
+        return w.VBox([board, session]), {"pin_board": board, "session_box": session}
 
     def _comparison(self):
         return self.view.comparison if self.view else None
 
     def _build_start_page(self):
-        panel = ExportPanel(self.state, comparison=self._comparison,
+        panel = StartPage(self.state, comparison=self._comparison,
                             result=lambda: self.frame.result if self.frame else None,
                             visible=lambda: self._page_visible("start"), runner=self._jobs)
-        return panel, {"export_panel": panel}
+        return panel, {"start_page": panel}
 
     def _build_scan_page(self):
-        panel = ScanPanel(self.state, comparison=self._comparison, runner=self._jobs)
-        return panel, {"scan_panel": panel}
+        panel = ScanPage(self.state, comparison=self._comparison, runner=self._jobs)
+        return panel, {"scan_page": panel}
 
     def _build_derived_page(self):
-        panel = DerivedPanel(self.state, visible=lambda: self._page_visible("derived"))
-        return panel, {"derived_panel": panel}
+        panel = DerivedPage(self.state, visible=lambda: self._page_visible("derived"))
+        return panel, {"derived_page": panel}
 
     def _part(self, page, name):
         return self._lazy[page].part(name)
 
-    data_panel = property(lambda self: self._part("data", "data_panel"), doc="The data page (DataPanel).")
+    data_page = property(lambda self: self._part("data", "data_page"), doc="The data page (DataPage).")
     pin_board = property(lambda self: self._part("pins", "pin_board"), doc="The pins (PinBoard).")
-    session_panel = property(lambda self: self._part("pins", "session_panel"), doc="Sessions (SessionPanel).")
-    export_panel = property(lambda self: self._part("start", "export_panel"),
-                            doc="The starting-point page (ExportPanel).")
-    scan_panel = property(lambda self: self._part("scan", "scan_panel"), doc="The χ² grid page (ScanPanel).")
-    derived_panel = property(lambda self: self._part("derived", "derived_panel"),
-                             doc="The derived-quantities page (DerivedPanel).")
+    session_box = property(lambda self: self._part("pins", "session_box"), doc="Sessions (SessionBox).")
+    start_page = property(lambda self: self._part("start", "start_page"),
+                            doc="The starting-point page (StartPage).")
+    scan_page = property(lambda self: self._part("scan", "scan_page"), doc="The χ² grid page (ScanPage).")
+    derived_page = property(lambda self: self._part("derived", "derived_page"),
+                             doc="The derived-quantities page (DerivedPage).")
 
     def _built(self, page):
         return self._lazy[page].built
@@ -334,14 +334,14 @@ class Explorer(w.VBox):
             if card.mixture_built:   # an editor built later lists the species itself
                 card.mixture.add_species(name)
 
-    def _on_notice(self, change):
+    def _on_message(self, change):
         text = change["new"]
-        self.message.value = "" if not text else (
+        self.message_area.value = "" if not text else (
             f"<div style='background:#fff4e0;border-left:3px solid #E69F00;padding:3px 8px'>"
             f"{__import__('html').escape(text)}</div>")
 
     def _on_state_change(self, change):
-        if change["name"] != "notice":
+        if change["name"] != "message":
             self.debouncer.trigger(change["name"])
 
     def flush(self):
@@ -407,11 +407,11 @@ class Explorer(w.VBox):
         if "pins" in tiers:
             self._update_pins()
         if "model" in tiers and self._built("scan"):
-            self.scan_panel.sync_paths()
+            self.scan_page.sync_paths()
         if tiers & {"model", "export"} and self._built("start"):
-            self.export_panel.refresh()
+            self.start_page.refresh()
         if tiers & {"model", "derived"} and self._built("derived"):
-            self.derived_panel.refresh()
+            self.derived_page.refresh()
         self.timings.append(time.perf_counter() - t0)
         self.recompute_log.append(sorted(tiers))
 
@@ -483,18 +483,18 @@ class Explorer(w.VBox):
             page.build()
             # A panel built now catches up with the state (deferred updates arrive on_shown).
             if page is self._lazy["start"] and self.frame is not None:
-                self.export_panel.refresh()
+                self.start_page.refresh()
             if page is self._lazy["derived"] and self.frame is not None:
-                self.derived_panel.refresh()
+                self.derived_page.refresh()
         if self.structure_visible and self._structure_stale and self.frame is not None:
             self._update_structure(tuple(self._structure_stale))
         if self.frame is not None:
             if self._page_visible("start"):
-                self.export_panel.on_shown()
+                self.start_page.on_shown()
             if self._page_visible("derived"):
-                self.derived_panel.on_shown()
+                self.derived_page.on_shown()
         if self._page_visible("scan") and self._built("scan"):
-            self.scan_panel.on_shown()
+            self.scan_page.on_shown()
 
     def _update_pins(self):
         pins = []

@@ -211,7 +211,7 @@ def test_mixture_editor_refuses_a_fraction_outside_0_1_and_says_so(app):
     mix.fraction_controls["forsterite"].number.value = 5.0
     assert app.state.scene.rings[0].dust == before
     assert mix.fractions == shown
-    assert "forsterite = 5" in app.state.notice and "outside [0, 1]" in app.state.notice
+    assert "forsterite = 5" in app.state.message and "outside [0, 1]" in app.state.message
     assert NORMALISATION_NOTE in mix.sum_label.value
 
 

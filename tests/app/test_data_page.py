@@ -97,7 +97,7 @@ def test_a_folder_is_read_by_content_and_its_note_is_skipped(files):
     kinds = sorted((d.kind, d.label) for d in app.state.data_sets)
     assert kinds == [("oifits", "night_k.fits"), ("oifits", "night_n.fits"), ("photometry", "sed.csv"),
                      ("spectrum", "nband.txt")]
-    assert "README.md" in app.message.value and "skipped" in app.message.value
+    assert "README.md" in app.message_area.value and "skipped" in app.message_area.value
     result = app.judgement()
     assert result.npoints["photometry"] == 4 and result.npoints["spectrum"] == 26
     obs = read_oifits([str(files / "night_k.fits"), str(files / "night_n.fits")])
@@ -171,7 +171,7 @@ def test_judgement_follows_the_model_and_the_filters(files):
     assert res1 is not res0 and res1 is app.chi2.live
     ref = Comparison(app.view.observations, app.state.photometry, app.state.spectrum).compare(app.state.scene)
     assert res1.total == pytest.approx(ref.total)
-    app.data_panel.bands.value = ("N",)
+    app.data_page.bands.value = ("N",)
     settle(app)
     n_band = read_oifits(str(files / "night_n.fits")).n_points("vis2")
     assert app.judgement().npoints["vis2"] == n_band
@@ -179,28 +179,28 @@ def test_judgement_follows_the_model_and_the_filters(files):
 
 # ---------------------------------------------------------------- the data tab
 def _row(app, label):
-    return next(r for r in app.data_panel.rows.children if getattr(r, "data_set", None) is not None
+    return next(r for r in app.data_page.rows.children if getattr(r, "data_set", None) is not None
                 and r.data_set.label == label)
 
 
 def test_rows_list_file_kind_points_and_remove_updates_everything(files):
     app = _app(files)
-    rows = app.data_panel.rows.children
+    rows = app.data_page.rows.children
     assert [r.data_set.label for r in rows] == ["night_k.fits", "night_n.fits", "sed.csv", "nband.txt"]
     text = _row(app, "night_k.fits").text.value
     assert "night_k.fits" in text and "OIFITS" in text and "600 V²" in text
     assert "4 photometric points" in _row(app, "sed.csv").text.value
-    assert set(app.data_panel.bands.options) == {"K", "N"}
+    assert set(app.data_page.bands.options) == {"K", "N"}
     n_vis2 = app.judgement().npoints["vis2"]
     calls = app.debouncer.calls
 
     _row(app, "night_n.fits").remove_button.click()
-    assert "removed OIFITS: night_n.fits" in app.message.value
+    assert "removed OIFITS: night_n.fits" in app.message_area.value
     settle(app)
     assert app.debouncer.calls == calls + 1 and "data" in app.recompute_log[-1]
     assert app.judgement().npoints["vis2"] == 600 < n_vis2
     assert drawn_dots(app.figures["vis2"].data)[0].size == 600
-    assert list(app.data_panel.bands.options) == ["K"]
+    assert list(app.data_page.bands.options) == ["K"]
     assert app.state.data_sources["oifits"] == [str(files / "night_k.fits")]
 
     _row(app, "sed.csv").remove_button.click()
@@ -208,19 +208,19 @@ def test_rows_list_file_kind_points_and_remove_updates_everything(files):
     assert "photometry" not in app.judgement().chi2 and app.state.photometry is None
     assert "photometry" not in app.state.data_sources
 
-    app.data_panel.remove_all()
+    app.data_page.remove_all()
     settle(app)
     assert app.judgement() is None and "no data loaded" in app.chi2.widget.value
     assert drawn_dots(app.figures["vis2"].data)[0].size == 0
-    assert app.data_panel.bands.options == () and app.data_panel.clear_button.disabled
+    assert app.data_page.bands.options == () and app.data_page.clear_button.disabled
 
 
 def test_adding_files_from_the_path_box(files, other):
     app = _app(files / "night_n.fits")
-    panel = app.data_panel
+    panel = app.data_page
     panel.path.value = f"{other}, {files / 'sed.csv'}"
     assert panel.load_paths()
-    assert "loaded OIFITS: array3_kl.fits" in app.message.value and "photometry: sed.csv" in app.message.value
+    assert "loaded OIFITS: array3_kl.fits" in app.message_area.value and "photometry: sed.csv" in app.message_area.value
     settle(app)
     assert [d.label for d in app.state.data_sets] == ["night_n.fits", "array3_kl.fits", "sed.csv"]
     assert set(panel.bands.options) == {"K", "L", "N"}
@@ -237,7 +237,7 @@ def test_adding_files_from_the_path_box(files, other):
     panel.kind.value = "photometry"
     panel.path.value = str(second)
     assert panel.load_paths()
-    assert "replaced sed.csv" in app.message.value
+    assert "replaced sed.csv" in app.message_area.value
     assert [d.label for d in app.state.data_sets if d.kind == "photometry"] == ["other_sed.csv"]
 
 
@@ -245,7 +245,7 @@ def test_upload_is_recognised_by_content(files):
     app = _app([])
     content = (files / "night_k.fits").read_bytes()
     import datetime
-    app.data_panel.upload.value = ({"name": "upload.fits", "type": "application/fits", "size": len(content),
+    app.data_page.upload.value = ({"name": "upload.fits", "type": "application/fits", "size": len(content),
                                     "content": memoryview(content),
                                     "last_modified": datetime.datetime.now(datetime.timezone.utc)},)
     settle(app)
@@ -256,25 +256,25 @@ def test_upload_is_recognised_by_content(files):
 def test_reader_warnings_show_in_the_notice_and_stay_beside_their_data_set(files):
     reversed_file = oifits_path("v2/bad_wave_reversed.fits")
     app = _app(files / "night_k.fits")
-    app.data_panel.path.value = str(reversed_file)
-    assert app.data_panel.load_paths()
-    notice = app.message.value
+    app.data_page.path.value = str(reversed_file)
+    assert app.data_page.load_paths()
+    notice = app.message_area.value
     assert "loaded OIFITS: bad_wave_reversed.fits" in notice and "1 warning(s)" in notice and "reversed" in notice
     row = _row(app, "bad_wave_reversed.fits")
     assert "reversed (descending) order" in row.warnings.value
     assert row.data_set.warnings and not _row(app, "night_k.fits").data_set.warnings
     assert _row(app, "night_k.fits").warnings.value == ""
     # another load replaces the message, not the warning beside its data set
-    app.data_panel.path.value = str(files / "sed.csv")
-    assert app.data_panel.load_paths()
-    assert "reversed" not in app.message.value
+    app.data_page.path.value = str(files / "sed.csv")
+    assert app.data_page.load_paths()
+    assert "reversed" not in app.message_area.value
     assert "reversed (descending) order" in _row(app, "bad_wave_reversed.fits").warnings.value
 
 
 def test_warnings_of_data_given_to_explore_reach_the_notice():
     app = _app(oifits_path("v2/bad_wave_reversed.fits"))
-    assert "warning" in app.message.value and "reversed" in app.message.value
-    assert "reversed" in app.data_panel.rows.children[0].warnings.value
+    assert "warning" in app.message_area.value and "reversed" in app.message_area.value
+    assert "reversed" in app.data_page.rows.children[0].warnings.value
 
 
 def test_a_failed_load_keeps_the_earlier_data_and_the_app_usable(files, tmp_path):
@@ -287,10 +287,10 @@ def test_a_failed_load_keeps_the_earlier_data_and_the_app_usable(files, tmp_path
     data = oifits_path("v2/Alp_Vic--MIRC_H.fits").read_bytes()
     truncated.write_bytes(data[: len(data) // 2])
     for bad in (truncated, tmp_path / "missing.fits", files / "README.md"):
-        app.data_panel.kind.value = "auto"
-        app.data_panel.path.value = str(bad)
-        assert not app.data_panel.load_paths()
-        assert app.message.value and bad.name in app.message.value and "not loaded" in app.message.value
+        app.data_page.kind.value = "auto"
+        app.data_page.path.value = str(bad)
+        assert not app.data_page.load_paths()
+        assert app.message_area.value and bad.name in app.message_area.value and "not loaded" in app.message_area.value
         assert app.state.data_sets is before and app.state.observations is obs
     assert "truncated or damaged" in _load_message(app, truncated)
     settle(app)
@@ -298,31 +298,31 @@ def test_a_failed_load_keeps_the_earlier_data_and_the_app_usable(files, tmp_path
     # still usable: the model moves and a good file loads
     app.geometry_panel.controls["inclination"].slider.value = app.state.scene.inclination + 7.0
     assert app.judgement() is not result and app.judgement().total != result.total
-    app.data_panel.path.value = str(oifits_path("v2/Alp_Vic--MIRC_H.fits"))
-    assert app.data_panel.load_paths()
+    app.data_page.path.value = str(oifits_path("v2/Alp_Vic--MIRC_H.fits"))
+    assert app.data_page.load_paths()
     settle(app)
-    assert len(app.state.data_sets) == len(before) + 1 and "H" in app.data_panel.bands.options
+    assert len(app.state.data_sets) == len(before) + 1 and "H" in app.data_page.bands.options
 
 
 def _load_message(app, path):
-    app.data_panel.path.value = str(path)
-    app.data_panel.load_paths()
-    return app.message.value
+    app.data_page.path.value = str(path)
+    app.data_page.load_paths()
+    return app.message_area.value
 
 
 def test_a_file_forced_to_the_wrong_kind_is_refused_with_its_name(files):
     app = _app(files / "night_k.fits")
     before = app.state.data_sets
-    app.data_panel.kind.value = "spectrum"
-    app.data_panel.path.value = str(files / "sed.csv")
-    assert not app.data_panel.load_paths()
-    assert "sed.csv" in app.message.value and app.state.data_sets is before
+    app.data_page.kind.value = "spectrum"
+    app.data_page.path.value = str(files / "sed.csv")
+    assert not app.data_page.load_paths()
+    assert "sed.csv" in app.message_area.value and app.state.data_sets is before
 
 
 def test_filters_drop_values_whose_data_are_gone(files, other):
     app = _app([files / "night_n.fits", other])
-    app.data_panel.bands.value = ("L",)
-    app.data_panel.instruments.value = ("ARRAY3_L",)
+    app.data_page.bands.value = ("L",)
+    app.data_page.instruments.value = ("ARRAY3_L",)
     settle(app)
     assert app.judgement().npoints["vis2"] == read_oifits(str(other)).select_band("L").n_points("vis2")
     _row(app, "array3_kl.fits").remove_button.click()
@@ -351,16 +351,16 @@ def _check_colours(app):
 def test_point_colours_after_loads_and_removals(files, other):
     app = _app(files / "night_n.fits")
     _check_colours(app)
-    app.data_panel.path.value = str(other)
-    app.data_panel.load_paths()
+    app.data_page.path.value = str(other)
+    app.data_page.load_paths()
     settle(app)
     _check_colours(app)
     _row(app, "night_n.fits").remove_button.click()
     settle(app)
     assert app.view.wavelength_range == pytest.approx((K_WAVES[0], L_WAVES[-1]), rel=1e-6)
     _check_colours(app)
-    app.data_panel.path.value = str(files / "night_k.fits")
-    app.data_panel.load_paths()
+    app.data_page.path.value = str(files / "night_k.fits")
+    app.data_page.load_paths()
     settle(app)
     _check_colours(app)
     _row(app, "array3_kl.fits").remove_button.click()

@@ -85,6 +85,6 @@ def test_flush_and_immediate():
 
 def test_tiers():
     assert tiers_for({"log_vis2"}) == {"style"}
-    assert tiers_for({"notice"}) == set()
+    assert tiers_for({"message"}) == set()
     assert tiers_for({"scene", "curve_position_angle"}) == {"model", "curve"}
     assert "data" in tiers_for({"band_filter"})

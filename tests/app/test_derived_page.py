@@ -21,16 +21,16 @@ def settle(app):
 
 
 def test_hidden_until_shown(app):
-    assert app.derived_panel.numbers is None  # nothing computed while its page is hidden
+    assert app.derived_page.numbers is None  # nothing computed while its page is hidden
     app.figure_tabs.selected_index = DERIVED_PAGE
-    assert app.derived_panel.numbers is not None
+    assert app.derived_page.numbers is not None
 
 
 def test_table_shows_the_sublimation_radius_of_the_star(app):
     app.figure_tabs.selected_index = DERIVED_PAGE
     star = app.state.scene.star
     r_sub = derived.sublimation_radius(star.luminosity, t_sub=1500.0, q_r=1.0)
-    panel = app.derived_panel
+    panel = app.derived_page
     assert panel.numbers["star"]["r_sub"] == pytest.approx(r_sub, rel=1e-12)
     assert f"<b class='dx-rsub'>{r_sub:.4g}</b> au" in panel.table.value
     panel.inputs["t_sub"].value = 2000.0
@@ -44,7 +44,7 @@ def test_table_shows_the_sublimation_radius_of_the_star(app):
 
 def test_table_follows_the_scene(app):
     app.figure_tabs.selected_index = DERIVED_PAGE
-    panel = app.derived_panel
+    panel = app.derived_page
     app.star_panel.controls["t_eff"].number.value = 9000.0
     settle(app)
     r_sub = derived.sublimation_radius(app.state.scene.star.luminosity)
@@ -55,7 +55,7 @@ def test_table_follows_the_scene(app):
 
 def test_gap_planet_mass_and_validity_note(app):
     app.figure_tabs.selected_index = DERIVED_PAGE
-    panel = app.derived_panel
+    panel = app.derived_page
     gaps = derived.gaps_of(app.state.scene, aspect_ratio=0.05, alpha=1e-3)
     assert len(gaps) == 1
     assert f"<b>{gaps[0].planet_mass:.3g}</b>" in panel.table.value

@@ -60,7 +60,7 @@ def test_equilibrium_refused_without_a_star(material):
     card.temperature.mode.value = "equilibrium"
     assert app.state.scene.rings[0].temperature_mode == "power_law"
     assert card.temperature.mode.value == "power_law"
-    assert "need a star" in app.state.notice
+    assert "need a star" in app.state.message
 
 
 def test_structure_page_draws_each_species_temperature(app):
@@ -82,7 +82,7 @@ def test_structure_page_draws_each_species_temperature(app):
 
 def test_derived_panel_lists_each_species_sublimation_radius(app):
     app.figure_tabs.selected_index = DERIVED_PAGE
-    panel = app.derived_panel
+    panel = app.derived_page
     rows = panel.numbers["species"]
     scene = app.state.scene
     expected = derived.species_sublimation_radii(scene)

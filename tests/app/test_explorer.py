@@ -89,7 +89,7 @@ def test_invalid_value_shows_message_and_keeps_state(app):
     before = app.state.scene
     card.controls["r_in"].number.value = before.rings[0].r_out * 2  # r_in > r_out is not a ring
     assert app.state.scene is before
-    assert "r_in" in app.message.value
+    assert "r_in" in app.message_area.value
     assert card.controls["r_in"].value == pytest.approx(before.rings[0].r_in)
 
 
@@ -155,10 +155,10 @@ def test_bad_upload_shows_message_and_changes_nothing(app):
     settle(app)
     obs, scene, calls = app.state.observations, app.state.scene, app.debouncer.calls
     marks = np.asarray(app.figures["vis2"].data.y).copy()
-    app.data_panel.upload.value = ({"name": "broken.fits", "type": "application/fits", "size": 7,
+    app.data_page.upload.value = ({"name": "broken.fits", "type": "application/fits", "size": 7,
                                     "content": memoryview(b"garbage"),
                                     "last_modified": __import__("datetime").datetime.now(__import__("datetime").timezone.utc)},)
-    assert "broken.fits" in app.message.value
+    assert "broken.fits" in app.message_area.value
     assert app.state.observations is obs and app.state.scene is scene
     settle(app)
     assert app.debouncer.calls == calls
@@ -166,29 +166,29 @@ def test_bad_upload_shows_message_and_changes_nothing(app):
 
 
 def test_bad_path_and_good_path(app, tmp_path, material):
-    app.data_panel.kind.value = "photometry"
-    app.data_panel.path.value = str(tmp_path / "missing.csv")
-    app.data_panel.load_button.click()
-    assert "missing.csv" in app.message.value
+    app.data_page.kind.value = "photometry"
+    app.data_page.path.value = str(tmp_path / "missing.csv")
+    app.data_page.load_button.click()
+    assert "missing.csv" in app.message_area.value
     paths = material[1].get("paths")
     if not paths:
         pytest.skip("sample data paths not available")
-    app.data_panel.path.value = paths["photometry"]
-    app.data_panel.load_button.click()
-    assert "loaded photometry" in app.message.value
+    app.data_page.path.value = paths["photometry"]
+    app.data_page.load_button.click()
+    assert "loaded photometry" in app.message_area.value
     assert app.state.data_sources["photometry"] == paths["photometry"]
 
 
 def test_filters_select_points(app):
     n_all = app.view.vis2["freq"].size
-    app.data_panel.bands.value = ("N",)
+    app.data_page.bands.value = ("N",)
     settle(app)
     n_n = app.view.vis2["freq"].size
     assert 0 < n_n < n_all
     assert drawn_dots(app.figures["vis2"].data)[0].size == (n_n if n_n <= MAX_DRAWN else len(range(0, n_n, math.ceil(n_n / MAX_DRAWN))))
     assert app.view.vis2["wavelength"].min() > 7.0
-    app.data_panel.bands.value = ()
-    app.data_panel.baselines.value = (0.0, 50.0)
+    app.data_page.bands.value = ()
+    app.data_page.baselines.value = (0.0, 50.0)
     settle(app)
     assert app.view.vis2["freq"].size < n_all
 
@@ -255,7 +255,7 @@ def test_pins_overlay_and_chi2(app):
     for k in range(3):
         app.state.pin()
     app.pin_board.pin()  # the fifth is refused with a message
-    assert len(app.state.pins) == 4 and "at most 4" in app.message.value
+    assert len(app.state.pins) == 4 and "at most 4" in app.message_area.value
     app.pin_board.rows.children[0].children[1].click()
     settle(app)
     assert len(app.state.pins) == 3 and "hot rim" not in app.chi2.widget.value
@@ -283,7 +283,7 @@ def test_pins_overlay_profiles_image_and_correlated_flux(app):
 
 def test_session_save_confirm_restore(app, tmp_path):
     path = tmp_path / "s.json"
-    panel = app.session_panel
+    panel = app.session_box
     panel.path.value = str(path)
     app.state.pin("first")
     app.geometry_panel.controls["inclination"].slider.value = 33.0

@@ -48,7 +48,7 @@ def test_bandpass_switch_per_file_changes_chi2_and_is_exported():
     a = explore(scheduler=ManualScheduler())
     a.flush()
     before = a.judgement()
-    rows = [r for r in a.data_panel.rows.children if getattr(r, "bandpass", None) is not None]
+    rows = [r for r in a.data_page.rows.children if getattr(r, "bandpass", None) is not None]
     assert [r.data_set.label for r in rows] == ["aurelis_QT-HK.fits", "aurelis_QT-LM.fits", "aurelis_QT-N.fits"]
     assert all(r.bandpass.value for r in rows)
     rows[2].bandpass.value = False
@@ -57,11 +57,11 @@ def test_bandpass_switch_per_file_changes_chi2_and_is_exported():
     # the N-band file was simulated with channel averages: the monochromatic model is worse
     assert after.chi2["diffphi"] > before.chi2["diffphi"] + 50
     assert after.chi2["vis2"] != before.chi2["vis2"]
-    assert "bandpass off" in a.message.value or "bandpass off" in str(a.state.notice)
+    assert "bandpass off" in a.message_area.value or "bandpass off" in str(a.state.message)
     entries = describe_state_data(a.state)[0].as_dict()["oifits"]
     assert [e["bandpass"] for e in entries] == [True, True, False]
     # switching back restores the χ² exactly
-    rows = [r for r in a.data_panel.rows.children if getattr(r, "bandpass", None) is not None]
+    rows = [r for r in a.data_page.rows.children if getattr(r, "bandpass", None) is not None]
     rows[2].bandpass.value = True
     a.flush()
     assert a.judgement().total == pytest.approx(before.total, rel=1e-12)
@@ -73,14 +73,14 @@ def test_data_without_the_new_kinds_hide_their_figures():
     assert all(a.figures[k].widget.layout.display == "none" for k in ("visamp", "corrflux_data", "diffphi"))
     assert "differential phase" not in a.chi2.widget.value
     # and they come back when such data are added
-    a.data_panel.path.value = load_sample_data()["paths"]["oifits"][2]
-    a.data_panel.load_paths()
+    a.data_page.path.value = load_sample_data()["paths"]["oifits"][2]
+    a.data_page.load_paths()
     a.flush()
     assert a.figures["diffphi"].widget.layout.display == ""
 
 
 def test_start_page_weighs_the_new_kinds_and_exports_them(app):
-    panel = app.export_panel
+    panel = app.start_page
     assert {"corrflux", "diffphi", "visamp"} <= set(panel.weights)
     panel.weights["diffphi"].value = 0.25
     doc = panel.build_document()
@@ -96,7 +96,7 @@ def test_a_session_keeps_the_bandpass_switch(tmp_path):
 
     a = explore(scheduler=ManualScheduler(), workdir=tmp_path)
     a.flush()
-    a.data_panel.set_bandpass(1, False)
+    a.data_page.set_bandpass(1, False)
     a.flush()
     off = a.judgement().total
     write_session(tmp_path / "s.json", session_to_dict(a.state))

@@ -17,7 +17,7 @@ def _app(material, jobs="sync", warm=False):
     app = explore(data=dict(data), scene=scene, scheduler=ManualScheduler(), jobs=jobs)
     # The live app (jobs="thread") warms the local cluster when the page opens: only the
     # tests of that warming do.
-    app.scan_panel.warm = warm
+    app.scan_page.warm = warm
     app.figure_tabs.selected_index = SCAN_PAGE
     return app
 
@@ -36,9 +36,9 @@ def _set_axes(panel, n=3):
 
 def test_building_the_app_starts_no_cluster(material):
     app = _app(material)
-    assert app.scan_panel._clients == {}
-    assert app.scan_panel.scheduler.value == "local"
-    assert "rings.0.r_in" in app.scan_panel.x_axis.path.options
+    assert app.scan_page._clients == {}
+    assert app.scan_page.scheduler.value == "local"
+    assert "rings.0.r_in" in app.scan_page.x_axis.path.options
 
 
 def test_cell_edges_and_default_range():
@@ -50,7 +50,7 @@ def test_cell_edges_and_default_range():
 
 def test_serial_scan_fills_the_map_and_a_click_sets_the_scene(material):
     app = _app(material)
-    panel = app.scan_panel
+    panel = app.scan_page
     _set_axes(panel)
     scene = app.state.scene
     assert panel.scan_now()
@@ -74,14 +74,14 @@ def test_serial_scan_fills_the_map_and_a_click_sets_the_scene(material):
     assert app.state.scene.rings[0].t_in == pytest.approx(ys[2])
     assert app.state.scene.rings[0].r_in == pytest.approx(xs[0])
     assert app.ring_deck.cards[0].controls["t_in"].value == pytest.approx(ys[2])
-    assert "grid point" in app.message.value
+    assert "grid point" in app.message_area.value
     settle(app)
     assert app.frame.result.total == pytest.approx(panel.chi2[2, 0], rel=1e-12)
 
 
 def test_ranges_around_the_model(material):
     app = _app(material)
-    panel = app.scan_panel
+    panel = app.scan_page
     panel.x_axis.path.value = "rings.0.t_in"
     app.ring_deck.cards[0].controls["t_in"].number.value = 1200.0
     panel.centre_button.click()
@@ -91,17 +91,17 @@ def test_ranges_around_the_model(material):
 
 def test_bad_input_is_refused_with_a_message(material):
     app = _app(material)
-    panel = app.scan_panel
+    panel = app.scan_page
     _set_axes(panel)
     panel.y_axis.path.value = "rings.0.r_in"
-    assert not panel.scan_now() and "two different" in app.message.value
+    assert not panel.scan_now() and "two different" in app.message_area.value
     _set_axes(panel)
     panel.x_axis.lo.value = -1.0
     panel.x_axis.log.value = False
-    assert not panel.scan_now() and "rings.0.r_in" in app.message.value
+    assert not panel.scan_now() and "rings.0.r_in" in app.message_area.value
     _set_axes(panel)
     panel.scheduler.value = "somewhere"
-    assert not panel.scan_now() and "tcp://" in app.message.value
+    assert not panel.scan_now() and "tcp://" in app.message_area.value
     assert panel._clients == {}
 
 
@@ -115,7 +115,7 @@ class _SlowComparison(Comparison):
 
 def test_cancel_keeps_the_rows_done(material):
     app = _app(material, jobs="thread")
-    panel = app.scan_panel
+    panel = app.scan_page
     view = app.view
     slow = _SlowComparison(view.observations, view.photometry, view.spectrum)
     panel._comparison = lambda: slow
@@ -141,7 +141,7 @@ def test_local_scans_share_one_warm_cluster(material):
     close_local_cluster()
     try:
         app = _app(material)
-        panel = app.scan_panel
+        panel = app.scan_page
         _set_axes(panel)
         panel.scan_now()
         serial = panel.chi2.copy()
@@ -150,7 +150,7 @@ def test_local_scans_share_one_warm_cluster(material):
         first = local_client(start=False)
         assert first is not None and "complete: 9 of 9" in panel.progress.value
         np.testing.assert_allclose(panel.chi2, serial, rtol=1e-12)
-        other = _app(material).scan_panel
+        other = _app(material).scan_page
         _set_axes(other)
         other.scheduler.value = "local"
         assert other.scan_now()
@@ -169,7 +169,7 @@ def test_opening_the_page_warms_the_cluster_every_scan_reuses(material):
     close_local_cluster()
     try:
         app = _app(material, warm=True)          # the page is opened here
-        panel = app.scan_panel
+        panel = app.scan_page
         assert panel._warmer is not None and panel._warmer.wait(120)
         warm = local_client(start=False)
         assert warm is not None and panel.progress.value.startswith("local dask cluster ready")

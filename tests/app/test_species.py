@@ -26,12 +26,12 @@ def test_added_species_appears_in_mixtures_and_changes_the_model(app, tmp_path):
     lam = np.geomspace(0.2, 200.0, 60)
     np.savetxt(table, np.column_stack([lam, np.full(lam.size, 50.0)]), header="wavelength_um kappa_cm2_g")
     opened = app.ring_deck.cards[-1].mixture   # one editor built before, the others after
-    form = app.data_panel.species_form
+    form = app.data_page.species_form
     form.name.value = "grey_test_dust"
     form.source_kind.value = "kappa"
     form.path.value = str(table)
     assert form.add()
-    assert "grey_test_dust" in app.state.notice
+    assert "grey_test_dust" in app.state.message
     assert "grey_test_dust" in opened.fraction_controls
     card = next(c for c in app.ring_deck.cards if hasattr(app.state.scene.rings[c.index].dust, "fractions"))
     editor = card.mixture
@@ -50,11 +50,11 @@ def test_bad_species_file_shows_a_message_and_changes_nothing(app, tmp_path):
     bad = tmp_path / "bad_nk.txt"
     bad.write_text("# wavelength n k\n1.0 1.5 0.1\n2.0 1.5 -0.2\n3.0 1.5 0.1\n")
     scene = app.state.scene
-    form = app.data_panel.species_form
+    form = app.data_page.species_form
     form.name.value = "broken_dust"
     form.source_kind.value = "nk"
     form.path.value = str(bad)
     assert not form.add()
-    assert app.state.notice.startswith("error") and "bad_nk.txt" in app.state.notice
+    assert app.state.message.startswith("error") and "bad_nk.txt" in app.state.message
     assert app.state.scene is scene
     assert all("broken_dust" not in c.mixture.fraction_controls for c in app.ring_deck.cards)

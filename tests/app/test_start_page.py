@@ -30,7 +30,7 @@ def settle(app):
 def test_rows_follow_the_parameter_declarations(app):
     from diskexplorer.fitting import parameter_paths
 
-    panel = app.export_panel
+    panel = app.start_page
     assert list(panel.rows) == parameter_paths(app.state.scene)
     row = panel.rows["rings.0.r_in"]
     assert (row.lo.value, row.hi.value) == pytest.approx((0.02, 200.0))  # declared default bounds
@@ -39,7 +39,7 @@ def test_rows_follow_the_parameter_declarations(app):
 
 
 def test_ticking_free_and_editing_a_bound_changes_the_live_document(app):
-    panel = app.export_panel
+    panel = app.start_page
     before = json.dumps(panel.document["scene"])
     panel.rows["rings.0.r_in"].free.value = True
     panel.rows["geometry.inclination"].free.value = True
@@ -58,7 +58,7 @@ def test_ticking_free_and_editing_a_bound_changes_the_live_document(app):
 
 
 def test_normal_prior_and_bad_bounds(app):
-    panel = app.export_panel
+    panel = app.start_page
     row = panel.rows["rings.0.t_in"]
     row.prior.value = "normal"
     settle(app)
@@ -72,7 +72,7 @@ def test_normal_prior_and_bad_bounds(app):
 
 
 def test_save_asks_before_overwriting_and_keeps_the_file(app, tmp_path):
-    panel = app.export_panel
+    panel = app.start_page
     path = tmp_path / "start.json"
     panel.path.value = str(path)
     panel.rows["rings.0.r_in"].free.value = True
@@ -95,26 +95,26 @@ def test_save_asks_before_overwriting_and_keeps_the_file(app, tmp_path):
 
 
 def test_import_of_a_broken_document_changes_nothing(app, tmp_path):
-    panel = app.export_panel
+    panel = app.start_page
     panel.rows["distance"].free.value = True
     scene, setup = app.state.scene, dict(app.state.fit_setup)
     bad_json = tmp_path / "broken.json"
     bad_json.write_text('{"schema": "diskexplorer.start/1", "scene": ')
     panel.path.value = str(bad_json)
     panel.import_button.click()
-    assert "not imported" in app.message.value and "broken.json" in app.message.value
+    assert "not imported" in app.message_area.value and "broken.json" in app.message_area.value
     assert app.state.scene is scene and app.state.fit_setup == setup
     doc = panel.build_document()
     doc["scene"]["rings"][0]["t_in"]["value"] = 99999.0  # outside its bounds
     assert not panel.import_start(doc)
-    assert "rings.0.t_in" in app.message.value
+    assert "rings.0.t_in" in app.message_area.value
     assert app.state.scene is scene and app.state.fit_setup == setup
     assert not panel.import_start(str(tmp_path / "missing.json"))
     assert app.state.scene is scene
 
 
 def test_import_sets_scene_and_table(app, tmp_path):
-    panel = app.export_panel
+    panel = app.start_page
     panel.rows["rings.1.t_in"].free.value = True
     panel.rows["rings.1.t_in"].hi.value = 900.0
     path = tmp_path / "seed.json"
@@ -125,7 +125,7 @@ def test_import_sets_scene_and_table(app, tmp_path):
     panel.rows["rings.1.t_in"].free.value = False
     settle(app)
     panel.import_button.click()
-    assert "imported" in app.message.value
+    assert "imported" in app.message_area.value
     assert app.state.scene.rings[1].t_in == pytest.approx(t_saved)
     assert app.ring_deck.cards[1].controls["t_in"].value == pytest.approx(t_saved)
     settle(app)
@@ -133,7 +133,7 @@ def test_import_sets_scene_and_table(app, tmp_path):
 
 
 def test_refinement_lowers_chi2_and_waits_for_accept(app):
-    panel = app.export_panel
+    panel = app.start_page
     card = app.ring_deck.cards[0]
     card.controls["t_in"].number.value = app.state.scene.rings[0].t_in - 150.0  # perturb
     settle(app)
@@ -157,7 +157,7 @@ def test_refinement_lowers_chi2_and_waits_for_accept(app):
 
 
 def test_discard_drops_the_result(app):
-    panel = app.export_panel
+    panel = app.start_page
     panel.rows["rings.0.t_in"].free.value = True
     scene = app.state.scene
     panel.refine_now()
@@ -166,7 +166,7 @@ def test_discard_drops_the_result(app):
 
 
 def test_weights_go_into_state_and_document(app):
-    panel = app.export_panel
+    panel = app.start_page
     panel.weights["photometry"].value = 0.0
     assert app.state.fit_setup["weights"] == {"photometry": 0.0}
     settle(app)
@@ -186,7 +186,7 @@ class _SlowComparison(Comparison):
 
 def test_cancel_stops_a_background_refinement(material):
     app = _app(material, jobs="thread")
-    panel = app.export_panel
+    panel = app.start_page
     view = app.view
     slow = _SlowComparison(view.observations, view.photometry, view.spectrum)
     panel._comparison = lambda: slow
@@ -207,10 +207,10 @@ def test_cancel_stops_a_background_refinement(material):
 
 
 def test_session_keeps_the_fit_setup(app, tmp_path):
-    panel = app.export_panel
+    panel = app.start_page
     panel.rows["rings.0.r_in"].free.value = True
     panel.rows["rings.0.r_in"].hi.value = 1.0
-    sess = app.session_panel
+    sess = app.session_box
     sess.path.value = str(tmp_path / "s.json")
     assert sess.save()
     saved = json.loads((tmp_path / "s.json").read_text())["fit_setup"]

@@ -46,38 +46,38 @@ def test_saves_land_in_the_working_folder_with_the_full_path_shown(material, tmp
     app = _app(material, work)
     assert app.state.workdir == str(work.resolve())
 
-    panel = app.export_panel
+    panel = app.start_page
     panel.path.value = "diskexplorer-start.json"
     assert panel.save()
     target = work.resolve() / "diskexplorer-start.json"
     assert target.is_file() and not (elsewhere / "diskexplorer-start.json").exists()
-    assert str(target) in app.state.notice
+    assert str(target) in app.state.message
     assert read_start(str(target)).scene is not None
     # an existing file asks first and the question names the full path
     assert not panel.save()
     assert str(target) in panel.confirm.text.value
     # importing by the same relative name reads the file in the working folder
     assert panel.import_start()
-    assert str(target) in app.state.notice
+    assert str(target) in app.state.message
 
-    session = app.session_panel
+    session = app.session_box
     session.path.value = "sub/../my-session.json"
     assert session.save()
     assert (work / "my-session.json").is_file()
-    assert str(work.resolve() / "my-session.json") in app.state.notice
+    assert str(work.resolve() / "my-session.json") in app.state.message
     assert session.restore()
-    assert str(work.resolve() / "my-session.json") in app.state.notice
+    assert str(work.resolve() / "my-session.json") in app.state.message
 
 
 def test_a_save_into_the_package_is_refused_and_nothing_is_written(material, tmp_path):
     app = _app(material, tmp_path)
     before = sorted(os.listdir(PACKAGE / "app"))
-    app.export_panel.path.value = str(PACKAGE / "app" / "start.json")
-    assert not app.export_panel.save()
-    assert "inside the installed diskexplorer package" in app.state.notice
-    app.session_panel.path.value = str(PACKAGE / "session.json")
-    assert not app.session_panel.save()
-    assert "inside the installed diskexplorer package" in app.state.notice
+    app.start_page.path.value = str(PACKAGE / "app" / "start.json")
+    assert not app.start_page.save()
+    assert "inside the installed diskexplorer package" in app.state.message
+    app.session_box.path.value = str(PACKAGE / "session.json")
+    assert not app.session_box.save()
+    assert "inside the installed diskexplorer package" in app.state.message
     assert sorted(os.listdir(PACKAGE / "app")) == before
     assert not (PACKAGE / "session.json").exists()
 
@@ -98,11 +98,11 @@ def test_loads_and_species_files_resolve_against_the_working_folder(material, tm
     lam = np.geomspace(0.2, 200.0, 40)
     np.savetxt(work / "grey.txt", np.column_stack([lam, np.full(lam.size, 30.0)]),
                header="wavelength_um kappa_cm2_g")
-    form = app.data_panel.species_form
+    form = app.data_page.species_form
     form.name.value, form.source_kind.value, form.path.value = "grey_workdir_dust", "kappa", "grey.txt"
     try:
-        assert form.add(), app.state.notice
-        assert str(work.resolve() / "grey.txt") in app.state.notice
+        assert form.add(), app.state.message
+        assert str(work.resolve() / "grey.txt") in app.state.message
     finally:
         unregister_species("grey_workdir_dust")
 
@@ -114,7 +114,7 @@ def test_served_app_with_bad_data_opens_without_it_and_says_why(tmp_path):
     app = explore_served(environ={"DISKEXPLORER_WORKDIR": str(tmp_path),
                                   "DISKEXPLORER_DATA": str(tmp_path / "broken.fits")},
                          scheduler=ManualScheduler(), jobs="sync")
-    assert "broken.fits" in app.state.notice
+    assert "broken.fits" in app.state.message
     assert app.state.observations is None and app.state.photometry is None
     assert app.state.workdir == str(tmp_path.resolve())
 
@@ -128,7 +128,7 @@ def test_restoring_a_session_leaves_exactly_its_data(tmp_path):
     # a session that names only one OIFITS file and the photometry
     app.state.set_data_sets([d for d in app.state.data_sets
                              if d.label in (SAMPLE_FILES["oifits"][0], SAMPLE_FILES["photometry"])])
-    panel = app.session_panel
+    panel = app.session_box
     panel.path.value = "partial.json"
     assert panel.save()
     assert app.state.photometry is not None
@@ -137,7 +137,7 @@ def test_restoring_a_session_leaves_exactly_its_data(tmp_path):
     assert load_into_state(app.state, "auto", ["obs"])
     assert app.state.spectrum is not None
     # ... and restoring the session brings back exactly the session's data
-    assert panel.restore(), app.state.notice
+    assert panel.restore(), app.state.message
     assert sorted(d.label for d in app.state.data_sets) == sorted([SAMPLE_FILES["oifits"][0],
                                                                    SAMPLE_FILES["photometry"]])
     assert app.state.spectrum is None

@@ -361,7 +361,7 @@ def _guarded(state, fn):
         fn()
         return True
     except DiskExplorerError as exc:
-        state.say(str(exc))
+        state.show_message(str(exc))
         return False
 
 

@@ -83,7 +83,7 @@ class MixtureEditor(w.VBox):
         None is an opaque (black-body) ring.
     on_change : callable
         Called with the new dust (a DustMix or None).
-    say : callable, optional
+    on_message : callable, optional
         Shows a message to the user (the app's notice); a fraction typed outside [0, 1]
         is refused with a message instead of being clipped.
 
@@ -94,9 +94,9 @@ class MixtureEditor(w.VBox):
     under the fractions (:data:`NORMALISATION_NOTE`).
     """
 
-    def __init__(self, dust, on_change, say=None):
+    def __init__(self, dust, on_change, on_message=None):
         self._callback = on_change
-        self._say = say
+        self._on_message = on_message
         self._quiet = False
         self.species = _species()
         frac_spec = ParameterSpec(name="fraction", unit="", label="f", description="mass fraction",
@@ -177,8 +177,8 @@ class MixtureEditor(w.VBox):
                 self.fraction_controls[species].set_value(self._accepted.get(species, 0.0))
             finally:
                 self._quiet = False
-            if self._say is not None:
-                self._say(f"dust mixture: mass fraction of {species} = {value:g} is outside [0, 1]; "
+            if self._on_message is not None:
+                self._on_message(f"dust mixture: mass fraction of {species} = {value:g} is outside [0, 1]; "
                           "the mixture is unchanged")
             return
         new = renormalise(self.fractions, species, value)
@@ -229,13 +229,13 @@ class TemperatureEditor(w.VBox):
     on_edit : callable
         ``on_edit(**changes)`` with Ring fields (``temperature_mode``, ``inner_edge``,
         ``sublimation``).
-    say : callable, optional
+    on_message : callable, optional
         Shows a message (why a switch was refused).
     """
 
-    def __init__(self, on_edit, say=None):
+    def __init__(self, on_edit, on_message=None):
         self._on_edit = on_edit
-        self._say = say
+        self._on_message = on_message
         self._star = None
         self._quiet = False
         self._species = ()
@@ -266,8 +266,8 @@ class TemperatureEditor(w.VBox):
             self._quiet = True
             self.mode.value = change["old"]
             self._quiet = False
-            if self._say is not None:
-                self._say("equilibrium temperatures need a star: the scene has none")
+            if self._on_message is not None:
+                self._on_message("equilibrium temperatures need a star: the scene has none")
         else:
             self._on_edit(temperature_mode="equilibrium")
 
@@ -351,7 +351,7 @@ class RingCard(w.VBox):
         self._mixture = None
         self.dust_box = dust_box = w.Accordion([w.VBox()], titles=("dust mixture",), selected_index=None)
         dust_box.observe(self._on_dust_open, "selected_index")
-        self.temperature = TemperatureEditor(lambda **changes: self._edit(**changes), say=state.say)
+        self.temperature = TemperatureEditor(lambda **changes: self._edit(**changes), on_message=state.show_message)
         # T_in and q sit in a box of their own, hidden for an equilibrium ring (a control's
         # layout may be shared with others, so it is not the one to hide).
         c = self.controls
@@ -367,7 +367,7 @@ class RingCard(w.VBox):
         if self._mixture is None:
             state = self.deck.state
             dust = state.scene.rings[self.index].dust
-            self._mixture = MixtureEditor(dust, lambda d: self._edit(dust=d), say=state.say)
+            self._mixture = MixtureEditor(dust, lambda d: self._edit(dust=d), on_message=state.show_message)
             self.mixture_dust = dust
             self.dust_box.children = [self._mixture]
         return self._mixture

@@ -22,7 +22,7 @@ from ..state.data_sets import read_data_sets
 from ..palette import MUTED
 from ..state.workdir import resolve_user_path, state_folder
 
-__all__ = ["DataPanel", "DataSetRow", "load_into_state", "KINDS"]
+__all__ = ["DataPage", "DataSetRow", "load_into_state", "KINDS"]
 
 #: What a path or upload is read as, as shown on the kind selector ("auto": by its content).
 KINDS = (("by content", "auto"), ("OIFITS", "oifits"), ("photometry", "photometry"), ("spectrum", "spectrum"))
@@ -57,17 +57,17 @@ def load_into_state(state, kind, paths, add=False):
     """
     texts = [str(p).strip() for p in paths if str(p).strip()]
     if not texts:
-        state.say("give a path to load (a file or a folder)")
+        state.show_message("give a path to load (a file or a folder)")
         return False
     folder = state_folder(state)
     resolved = [resolve_user_path(t, folder) for t in texts]
     try:
         sets, notes = read_data_sets(resolved, kind=None if kind in (None, "auto") else kind)
     except DiskExplorerError as exc:
-        state.say(f"not loaded: {exc}")
+        state.show_message(f"not loaded: {exc}")
         return False
     except (OSError, ValueError) as exc:
-        state.say(f"not loaded: {', '.join(map(str, resolved))}: {exc}")
+        state.show_message(f"not loaded: {', '.join(map(str, resolved))}: {exc}")
         return False
     if add:
         replaced, combine_warnings = state.add_data_sets(sets)
@@ -83,7 +83,7 @@ def load_into_state(state, kind, paths, add=False):
         parts.append(f"{len(warned)} warning(s): " + " | ".join(warned))
     if notes:
         parts.append(" | ".join(notes))
-    state.say("; ".join(parts))
+    state.show_message("; ".join(parts))
     return True
 
 
@@ -127,7 +127,7 @@ class SpeciesForm(w.VBox):
     Parameters
     ----------
     state : ExplorerState
-        Messages go to ``state.notice``.
+        Messages go to ``state.message``.
     on_added : callable
         Called with the new species name (the explorer adds it to every mixture editor).
 
@@ -169,14 +169,14 @@ class SpeciesForm(w.VBox):
             else:
                 register_species(name, kappa=path, source=path)
         except (DiskExplorerError, OSError, ValueError) as exc:
-            self.state.notice = f"error: species not added: {exc}"
+            self.state.message = f"error: species not added: {exc}"
             return False
-        self.state.notice = f"added dust species {name!r} from {path}; mixtures now offer it"
+        self.state.message = f"added dust species {name!r} from {path}; mixtures now offer it"
         self._on_added(name)
         return True
 
 
-class DataPanel(w.VBox):
+class DataPage(w.VBox):
     """Path box, upload, the list of loaded data sets, filters (band, instrument, baseline range)."""
 
     def __init__(self, state, on_species_added=lambda name: None):
@@ -244,7 +244,7 @@ class DataPanel(w.VBox):
             return False
         gone = self.state.remove_data_set(index)
         left = len(self.state.data_sets)
-        self.state.say(f"removed {gone.kind_label}: {gone.label}" + ("" if left else "; no data loaded: no χ²"))
+        self.state.show_message(f"removed {gone.kind_label}: {gone.label}" + ("" if left else "; no data loaded: no χ²"))
         return True
 
     def set_bandpass(self, data_set, on):
@@ -259,7 +259,7 @@ class DataPanel(w.VBox):
             return False
         held[index] = dataclasses.replace(old, bandpass=bool(on))
         self.state.set_data_sets(held)
-        self.state.say(f"{old.label}: model " + ("averaged over each channel's EFF_BAND" if on
+        self.state.show_message(f"{old.label}: model " + ("averaged over each channel's EFF_BAND" if on
                                                  else "at the channel centres (bandpass off)"))
         return True
 
@@ -269,7 +269,7 @@ class DataPanel(w.VBox):
             return False
         n = len(self.state.data_sets)
         self.state.set_data_sets(())
-        self.state.say(f"removed all {n} data set(s); no data loaded: no χ²")
+        self.state.show_message(f"removed all {n} data set(s); no data loaded: no χ²")
         return True
 
     def _on_upload(self, change):

@@ -16,7 +16,7 @@ from ...errors import DiskExplorerError
 from ...physics import derived as dq
 from ..palette import ACCENT, INK, MUTED, OKABE_ITO, ring_colour
 
-__all__ = ["DerivedPanel", "derived_rows", "GAP_NOTE"]
+__all__ = ["DerivedPage", "derived_rows", "GAP_NOTE"]
 
 #: What the gap relation is and where it holds; shown under the gap table.
 GAP_NOTE = ("Planet masses use the gap-width relation of Kanagawa et al. (2016, PASJ 68, 43): "
@@ -105,7 +105,7 @@ def derived_rows(scene, t_sub=1500.0, q_r=1.0, aspect_ratio=0.05, alpha=1e-3):
     return out
 
 
-class DerivedPanel(w.VBox):
+class DerivedPage(w.VBox):
     """Inputs for the assumptions and one HTML table of derived quantities.
 
     Parameters

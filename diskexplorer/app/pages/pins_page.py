@@ -38,7 +38,7 @@ class PinBoard(w.VBox):
             self.state.pin(self.name.value)
             self.name.value = ""
         except DiskExplorerError as exc:
-            self.state.say(str(exc))
+            self.state.show_message(str(exc))
 
     def show_totals(self, totals):
         """Show χ²/N per pin (list of floats or None, in pin order)."""

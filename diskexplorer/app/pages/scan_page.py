@@ -25,7 +25,7 @@ from ..controls.param_control import unit_text
 from ..figures.base import EMPTY, assign, axis, new_figure
 from ..palette import DELTA_CHI2_SCHEME, INK, MUTED, OKABE_ITO
 
-__all__ = ["ScanPanel", "cell_edges", "default_range", "LEVEL_COLOURS"]
+__all__ = ["ScanPage", "cell_edges", "default_range", "LEVEL_COLOURS"]
 
 #: Colours of the 1σ, 2σ, 3σ contours (Okabe–Ito; readable on the dark-to-pale map).
 LEVEL_COLOURS = (OKABE_ITO["sky_blue"], OKABE_ITO["bluish_green"], OKABE_ITO["reddish_purple"])
@@ -104,7 +104,7 @@ class _AxisBox:
         return (float(self.lo.value), float(self.hi.value), int(self.n.value), "log" if self.log.value else "linear")
 
 
-class ScanPanel(w.VBox):
+class ScanPage(w.VBox):
     """Two-parameter χ² grid scan with a live Δχ² map.
 
     Parameters
@@ -263,7 +263,7 @@ class ScanPanel(w.VBox):
     def _warmed(self, text, error):
         if error is not None:
             self._warmer = None   # a later showing (or the scan itself) tries again
-            self.state.say(f"local dask cluster did not start: {error}")
+            self.state.show_message(f"local dask cluster did not start: {error}")
         if not self.runner.busy and self.progress.value.startswith("starting a local dask cluster in"):
             self.progress.value = text
 
@@ -304,11 +304,11 @@ class ScanPanel(w.VBox):
             return False
         px, py = self.x_axis.path.value, self.y_axis.path.value
         if px == py:
-            self.state.say("scan: choose two different parameters")
+            self.state.show_message("scan: choose two different parameters")
             return False
         comparison = self._comparison()
         if comparison is None or not comparison.kinds:
-            self.state.say("scan: load data first")
+            self.state.show_message("scan: load data first")
             return False
         try:
             xs = axis_values(self.x_axis.spec())
@@ -319,11 +319,11 @@ class ScanPanel(w.VBox):
                 if bad:
                     raise DiskExplorerError(f"{path} = {bad[0]:g} is outside the allowed range {spec.describe_range()}")
         except DiskExplorerError as exc:
-            self.state.say(f"scan not started: {exc}")
+            self.state.show_message(f"scan not started: {exc}")
             return False
         where = (self.scheduler.value or "local").strip()
         if not (where in ("local", "serial") or "://" in where):
-            self.state.say(f"scan: run on {where!r}? expected local, serial or an address such as tcp://127.0.0.1:8786")
+            self.state.show_message(f"scan: run on {where!r}? expected local, serial or an address such as tcp://127.0.0.1:8786")
             return False
         scene = self.state.scene
         self.axes = (py, ys, px, xs)
@@ -384,7 +384,7 @@ class ScanPanel(w.VBox):
         self.cancel_button.disabled = True
         if error is not None:
             self.progress.value = "scan failed"
-            self.state.say(f"scan failed: {error}")
+            self.state.show_message(f"scan failed: {error}")
             return
         self.datasets = [ds]
         self._update_map()  # now with χ²/N from the result's point count
@@ -543,10 +543,10 @@ class ScanPanel(w.VBox):
         try:
             scene = set_values(self.state.scene, {py: float(ys[row]), px: float(xs[col])})
         except (DiskExplorerError, IndexError, KeyError) as exc:
-            self.state.say(f"grid point not applied: {exc}")
+            self.state.show_message(f"grid point not applied: {exc}")
             return False
         self.state.scene = scene
         chi = self.chi2[row, col]
-        self.state.say(f"model set to the grid point {px} = {xs[col]:.5g}, {py} = {ys[row]:.5g}"
+        self.state.show_message(f"model set to the grid point {px} = {xs[col]:.5g}, {py} = {ys[row]:.5g}"
                        + (f" (χ² {chi:,.6g})" if np.isfinite(chi) else ""))
         return True

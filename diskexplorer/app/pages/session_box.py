@@ -12,7 +12,7 @@ from .save_box import OverwriteGuard
 from ..state.workdir import resolve_user_path, state_folder, writable_user_path
 from ..state.sessions import (VIEW_SETTINGS, read_session, scene_from_dict, session_to_dict, write_session)
 
-__all__ = ["SessionPanel", "restore_session"]
+__all__ = ["SessionBox", "restore_session"]
 
 
 def restore_session(state, document):
@@ -52,7 +52,7 @@ def restore_session(state, document):
         state.fit_setup = clean_fit_setup(document.get("fit_setup") or {})
 
 
-class SessionPanel(w.VBox):
+class SessionBox(w.VBox):
     """A path box with save / restore; an existing file needs a second, explicit confirmation."""
 
     def __init__(self, state):
@@ -86,10 +86,10 @@ class SessionPanel(w.VBox):
             self.confirm.ask(str(target))
             return False
         except (OSError, DiskExplorerError) as exc:
-            self.state.say(f"session not saved: {exc}")
+            self.state.show_message(f"session not saved: {exc}")
             return False
         self._hide_confirm()
-        self.state.say(f"session saved to {path}")
+        self.state.show_message(f"session saved to {path}")
         return True
 
     def restore(self):
@@ -99,7 +99,7 @@ class SessionPanel(w.VBox):
             doc = read_session(source)
             restore_session(self.state, doc)
         except (DiskExplorerError, KeyError, TypeError, ValueError) as exc:
-            self.state.say(f"session not restored: {exc}")
+            self.state.show_message(f"session not restored: {exc}")
             return False
-        self.state.say(f"session restored from {source}")
+        self.state.show_message(f"session restored from {source}")
         return True

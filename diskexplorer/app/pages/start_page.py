@@ -28,7 +28,7 @@ from ..palette import ACCENT, INK, MUTED, OKABE_ITO
 from .save_box import OverwriteGuard
 from ..state.workdir import resolve_user_path, state_folder, writable_user_path
 
-__all__ = ["ExportPanel", "clean_fit_setup", "describe_state_data", "doc_free", "WEIGHT_KINDS"]
+__all__ = ["StartPage", "clean_fit_setup", "describe_state_data", "doc_free", "WEIGHT_KINDS"]
 
 #: Data kinds whose weight the panel sets, with the words shown for them.
 WEIGHT_KINDS = (("vis2", "V²"), ("t3phi", "closure phase"), ("visamp", "|V|"), ("corrflux", "correlated flux"),
@@ -151,7 +151,7 @@ class _Row:
         self.box.add_class("dx-export-row")
 
 
-class ExportPanel(w.VBox):
+class StartPage(w.VBox):
     """Starting point for a formal fit: the table, the document, save/import, refinement.
 
     Parameters
@@ -460,7 +460,7 @@ class ExportPanel(w.VBox):
         try:
             path = writable_user_path(self.path.value, state_folder(self.state))
         except DiskExplorerError as exc:
-            self.state.say(f"starting point not saved: {exc}")
+            self.state.show_message(f"starting point not saved: {exc}")
             return False
         try:
             doc = self.build_document()
@@ -469,7 +469,7 @@ class ExportPanel(w.VBox):
             self.confirm.ask(str(path))
             return False
         except (OSError, DiskExplorerError) as exc:
-            self.state.say(f"starting point not saved: {exc}")
+            self.state.show_message(f"starting point not saved: {exc}")
             return False
         self._hide_confirm()
         self.saved_path = written
@@ -477,10 +477,10 @@ class ExportPanel(w.VBox):
             self.snippet = make_snippet(written)
         except DiskExplorerError as exc:  # written but does not read back: say so, keep the file
             self.snippet = ""
-            self.state.say(f"saved {written}, but it does not read back: {exc}")
+            self.state.show_message(f"saved {written}, but it does not read back: {exc}")
             return True
         self._show_view()
-        self.state.say(f"starting point saved to {written} ({len(doc_free(doc))} free parameters); "
+        self.state.show_message(f"starting point saved to {written} ({len(doc_free(doc))} free parameters); "
                        "its Python snippet is under “Python snippet”")
         return True
 
@@ -500,7 +500,7 @@ class ExportPanel(w.VBox):
         try:
             start = read_start(source)
         except (DiskExplorerError, OSError, ValueError, KeyError, TypeError) as exc:
-            self.state.say(f"starting point not imported: {exc}")
+            self.state.show_message(f"starting point not imported: {exc}")
             return False
         setup = self.setup
         setup.update(free=list(start.paths),
@@ -513,7 +513,7 @@ class ExportPanel(w.VBox):
             self.state.fit_setup = clean_fit_setup(setup)
         where = source if isinstance(source, str) else "the document"
         extra = "" if start.data.empty else "; the data it names are not loaded (use the data tab)"
-        self.state.say(f"starting point imported from {where}: {len(start.free)} free parameters{extra}")
+        self.state.show_message(f"starting point imported from {where}: {len(start.free)} free parameters{extra}")
         return True
 
     # ------------------------------------------------------------------ refinement
@@ -531,11 +531,11 @@ class ExportPanel(w.VBox):
             return False
         free = self.free_paths
         if not free:
-            self.state.say("tick at least one parameter as free to refine it")
+            self.state.show_message("tick at least one parameter as free to refine it")
             return False
         comparison = self._comparison()
         if comparison is None or not comparison.kinds:
-            self.state.say("load data to refine against")
+            self.state.show_message("load data to refine against")
             return False
         scene = self.state.scene
         bounds = {p: self.bounds_for(p) for p in free}
@@ -585,7 +585,7 @@ class ExportPanel(w.VBox):
         self.cancel_button.disabled = True
         if error is not None:
             self.progress.value = ""
-            self.state.say(f"refinement failed: {error}")
+            self.state.show_message(f"refinement failed: {error}")
             return
         self.refine_result = result
         self.progress.value = f"done: {result.nfev} model evaluations"
@@ -630,11 +630,11 @@ class ExportPanel(w.VBox):
             try:
                 scene = set_values(self.state.scene, {p.path: p.value for p in res.parameters})
             except (DiskExplorerError, IndexError, KeyError) as exc:
-                self.state.say(f"refined values not applied: {exc}")
+                self.state.show_message(f"refined values not applied: {exc}")
                 return False
         self.state.scene = scene
         self.discard(quiet=True)
-        self.state.say(f"refined values accepted: χ² {res.chi2_before:,.6g} → {res.chi2_after:,.6g}")
+        self.state.show_message(f"refined values accepted: χ² {res.chi2_before:,.6g} → {res.chi2_after:,.6g}")
         return True
 
     def discard(self, quiet=False):

@@ -43,5 +43,5 @@ def explore_served(environ=None, **kwargs):
         # A served page cannot show a traceback usefully: open without the data and say why
         # in the app's notice, so the user can fix the file and load it from the data tab.
         app = explore(data=[], workdir=workdir, **kwargs)
-        app.state.say(f"not loaded: {exc}")
+        app.state.show_message(f"not loaded: {exc}")
         return app

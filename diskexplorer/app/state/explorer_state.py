@@ -20,7 +20,7 @@ MAX_PINS = 4
 #: Which recomputation each state name asks for, cheapest first. ``style`` touches only
 #: scales; ``none`` recomputes nothing (messages).
 TIERS = {
-    "notice": "none",
+    "message": "none",
     # The list of data sets and the paths are bookkeeping: the combined observations,
     # photometry and spectrum they set alongside are what asks for the data tier.
     "data_sets": "none", "data_sources": "none",
@@ -123,7 +123,7 @@ class ExplorerState(t.HasTraits):
     log_freq = t.Bool(False)
     log_profiles = t.Bool(True)
     pins = t.List()
-    notice = t.Unicode("")
+    message = t.Unicode("")
     fit_setup = t.Dict()
     t_sub = t.Float(1500.0)
     q_r = t.Float(1.0)
@@ -257,11 +257,11 @@ class ExplorerState(t.HasTraits):
         self.set_data_sets(held)
         return gone
 
-    def say(self, text):
+    def show_message(self, text):
         """Show ``text`` in the message area (also when it repeats the last message)."""
-        if self.notice == text:
-            self.notice = ""
-        self.notice = text
+        if self.message == text:
+            self.message = ""
+        self.message = text
 
 
 def _bands_and_instruments(obs):
