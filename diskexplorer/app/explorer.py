@@ -32,6 +32,9 @@ from .state.workdir import working_folder
 
 __all__ = ["Explorer", "explore", "Frame"]
 
+#: Figures drawn only while their page shows (see Explorer._update_structure).
+_STRUCTURE = ("image", "profiles")
+
 _WAVELENGTH_SPEC = ParameterSpec(name="wavelength", unit="um", label="λ", description="wavelength of the view",
                                  valid=(0.0, math.inf), closed=(False, False), bounds=(1.0, 30.0), scale="log")
 _CURVE_PA_SPEC = ParameterSpec(name="curve_position_angle", unit="deg", label="PA_curve",
@@ -164,9 +167,9 @@ class Explorer(w.VBox):
     def __init__(self, scene, data=None, scheduler=None, delay=0.04, jobs="thread", workdir=None):
         folder = working_folder(workdir)
         data_sets, notes = data_sets_from(() if data is None else data, workdir=folder)
-        self.state = ExplorerState(scene=scene, curve_position_angle=float(scene.position_angle % 180.0))
-        # Relative names typed into any panel resolve against this folder (app/workdir.py).
-        self.state.workdir = str(folder)
+        # Relative names typed into any panel resolve against ``workdir`` (app/state/workdir.py).
+        self.state = ExplorerState(scene=scene, curve_position_angle=float(scene.position_angle % 180.0),
+                                   workdir=str(folder))
         notes = self.state.set_data_sets(data_sets) + notes
         self.debouncer = Debouncer(self._recompute, delay=delay, scheduler=scheduler)
         self.timings = []
@@ -211,11 +214,11 @@ class Explorer(w.VBox):
         st.observe(self._on_message, "message")
 
         self.curve_pa = ParamControl(_CURVE_PA_SPEC, st.curve_position_angle,
-                                     lambda v: setattr(st, "curve_position_angle", v), css="dx-curve-pa")
+                                     lambda v: st.set_view(curve_position_angle=v), css="dx-curve-pa")
         self.image_wl = ParamControl(_WAVELENGTH_SPEC, st.image_wavelength,
-                                     lambda v: setattr(st, "image_wavelength", v), css="dx-image-wl")
+                                     lambda v: st.set_view(image_wavelength=v), css="dx-image-wl")
         self.profile_wl = ParamControl(_WAVELENGTH_SPEC, st.profile_wavelength,
-                                       lambda v: setattr(st, "profile_wavelength", v), css="dx-profile-wl")
+                                       lambda v: st.set_view(profile_wavelength=v), css="dx-profile-wl")
         toggles = {}
         for name, text in (("log_sed_x", "log λ"), ("log_sed_y", "log F_ν"), ("log_vis2", "log V²"),
                            ("log_profiles", "log r")):
@@ -326,7 +329,7 @@ class Explorer(w.VBox):
         if isinstance(page, _LazyPage) and not page.built:
             page.build()
             if page is self._lazy["pins"] and self.frame is not None:
-                self._update_pins()
+                self._show_pin_totals()
 
     # ------------------------------------------------------------------ the loop
     def _on_species_added(self, name):
@@ -371,41 +374,35 @@ class Explorer(w.VBox):
         return self.chi2.live
 
     def _recompute(self, names):
+        """The one recompute: from the changed state names, the cheapest tiers that cover them."""
         t0 = time.perf_counter()
         tiers = tiers_for(names)
         st = self.state
-        f = self.figures
         if "data" in tiers:
             self.view = DataView(st.observations, st.photometry, st.spectrum, bands=st.band_filter,
                                  instruments=st.instrument_filter, baseline_range=st.baseline_range,
                                  bandpass=bandpass_choice(st.data_sets))
             self._data_generation += 1
             self._pin_cache.clear()
-            for fig in f.values():
-                fig.update_data(self.view)
             tiers |= {"model", "pins"}
-        if "style" in tiers or "data" in tiers:
-            for fig in f.values():
-                fig.apply_style(st)
         if "model" in tiers:
-            self.frame = self._frame(st.scene, full=True)
-            # The V² curve first: the line the eye follows while a slider moves.
-            f["vis2"].update_curve(self.frame)
-            for name, fig in f.items():
-                if name not in ("image", "profiles"):
-                    fig.update_model(self.frame)
-            self._update_structure()
-            self.chi2.update_model(self.frame.result)
-        else:
-            if "curve" in tiers:
-                self.frame.curve = self._curve(st.scene)
-                f["vis2"].update_curve(self.frame)
-                tiers.add("pins")
-            picked = tuple(k for k in ("image", "profiles") if k in tiers)
-            if picked:
-                self._update_structure(picked)
+            self.frame = self._frame(st.scene)
+        elif "curve" in tiers:
+            self.frame.curve = self._curve(st.scene)
+            tiers.add("pins")   # pins draw their curves along the same position angle
         if "pins" in tiers:
-            self._update_pins()
+            self._pins_drawn = self._pin_frames()
+        # Figures in the order of the figure set: the V² curve first, then the rest of the
+        # first page, so the page redraws what is on screen before the hidden pages' updates.
+        for name, fig in self.figures.items():
+            self._draw(name, fig, tiers)
+        structure = _STRUCTURE if "model" in tiers else tuple(k for k in _STRUCTURE if k in tiers)
+        if structure:
+            self._update_structure(structure)
+        if "model" in tiers:
+            self.chi2.update_model(self.frame.result)
+        if "pins" in tiers:
+            self._show_pin_totals()
         if "model" in tiers and self._built("scan"):
             self.scan_page.sync_paths()
         if tiers & {"model", "export"} and self._built("start"):
@@ -415,20 +412,31 @@ class Explorer(w.VBox):
         self.timings.append(time.perf_counter() - t0)
         self.recompute_log.append(sorted(tiers))
 
+    def _draw(self, name, fig, tiers):
+        """Bring figure ``name`` up to date for ``tiers``: the one draw path of every figure.
+
+        The image and the profiles are not drawn here: they cost more than every other
+        view together and are computed by :meth:`_update_structure` while their page shows.
+        """
+        if "data" in tiers:
+            fig.update_data(self.view)
+        if tiers & {"data", "style"}:
+            fig.apply_style(self.state)
+        if self.frame is not None and name not in _STRUCTURE:
+            if name == "vis2" and tiers & {"model", "curve"}:
+                fig.update_curve(self.frame)
+            if "model" in tiers:
+                fig.update_model(self.frame)
+        if "pins" in tiers:
+            fig.update_pins(self._pins_drawn)
+
     def _catch_up(self, name, fig):
         """Draw the current data, style, model and pins on a figure made just now."""
         if self.view is None:
             return   # made while the explorer is built: the first recompute draws it
-        fig.update_data(self.view)
-        fig.apply_style(self.state)
-        if self.frame is not None:
-            if name == "vis2":
-                fig.update_curve(self.frame)
-            if name in ("image", "profiles"):
-                self._structure_stale.add(name)   # computed when their page is shown
-            else:
-                fig.update_model(self.frame)
-        fig.update_pins(self._pins_drawn)
+        self._draw(name, fig, {"data", "style", "model", "pins"})
+        if name in _STRUCTURE and self.frame is not None:
+            self._structure_stale.add(name)   # computed when their page is shown
 
     def _curve(self, scene):
         v = self.view
@@ -436,7 +444,7 @@ class Explorer(w.VBox):
         freq, v2 = vis2_curve(scene, pa, v.freq_max, v.curve_wavelengths)
         return freq, v2, v.curve_wavelengths, pa
 
-    def _frame(self, scene, full):
+    def _frame(self, scene):
         v = self.view
         result = None
         if v.comparison.kinds:
@@ -496,18 +504,20 @@ class Explorer(w.VBox):
         if self._page_visible("scan") and self._built("scan"):
             self.scan_page.on_shown()
 
-    def _update_pins(self):
+    def _pin_frames(self):
+        """(name, colour, Frame) of each pin; a pin's frame is kept while data and curve hold."""
         pins = []
         for k, p in enumerate(self.state.pins):
             key = (id(p["scene"]), self._data_generation, self.state.curve_position_angle)
             frame = self._pin_cache.get(key)
             if frame is None:
-                frame = self._frame(p["scene"], full=False)
+                frame = self._frame(p["scene"])
                 self._pin_cache[key] = frame
             pins.append((p["name"], pin_colour(k), frame))
-        self._pins_drawn = pins
-        for fig in self.figures.values():
-            fig.update_pins(pins)
+        return pins
+
+    def _show_pin_totals(self):
+        pins = self._pins_drawn
         self.chi2.update_pins([(n, c, fr.result) for n, c, fr in pins])
         if not self._built("pins"):
             return  # the board shows the totals when its page is first opened

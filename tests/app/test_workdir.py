@@ -85,7 +85,6 @@ def test_a_save_into_the_package_is_refused_and_nothing_is_written(material, tmp
 def test_loads_and_species_files_resolve_against_the_working_folder(material, tmp_path, monkeypatch):
     import numpy as np
 
-    from diskexplorer.app.pages.data_page import load_into_state
     from diskexplorer.dust import unregister_species
     from diskexplorer.sample import SAMPLE_FILES, copy_sample_data
 
@@ -93,7 +92,7 @@ def test_loads_and_species_files_resolve_against_the_working_folder(material, tm
     work = tmp_path / "work"
     copy_sample_data(work / "obs")
     app = _app(material, work)
-    assert load_into_state(app.state, "auto", [f"obs/{SAMPLE_FILES['photometry']}"])
+    assert app.state.load_files([f"obs/{SAMPLE_FILES['photometry']}"], "auto")
     assert str(work.resolve() / "obs" / SAMPLE_FILES["photometry"]) in str(app.state.data_sources)
     lam = np.geomspace(0.2, 200.0, 40)
     np.savetxt(work / "grey.txt", np.column_stack([lam, np.full(lam.size, 30.0)]),
@@ -133,8 +132,7 @@ def test_restoring_a_session_leaves_exactly_its_data(tmp_path):
     assert panel.save()
     assert app.state.photometry is not None
     # the user then loads everything again ...
-    from diskexplorer.app.pages.data_page import load_into_state
-    assert load_into_state(app.state, "auto", ["obs"])
+    assert app.state.load_files(["obs"], "auto")
     assert app.state.spectrum is not None
     # ... and restoring the session brings back exactly the session's data
     assert panel.restore(), app.state.message

@@ -6,8 +6,6 @@ a failed load changes nothing.
 """
 from __future__ import annotations
 
-import dataclasses
-
 import html
 import math
 import tempfile
@@ -18,73 +16,16 @@ import numpy as np
 
 from ...data.bands import INTERFEROMETRIC_BANDS
 from ...errors import DiskExplorerError
-from ..state.data_sets import read_data_sets
 from ..palette import MUTED
 from ..state.workdir import resolve_user_path, state_folder
 
-__all__ = ["DataPage", "DataSetRow", "load_into_state", "KINDS"]
+__all__ = ["DataPage", "DataSetRow", "KINDS"]
 
 #: What a path or upload is read as, as shown on the kind selector ("auto": by its content).
 KINDS = (("by content", "auto"), ("OIFITS", "oifits"), ("photometry", "photometry"), ("spectrum", "spectrum"))
 
 #: Colour of reader warnings beside their data set (the message area's accent).
 WARNING_COLOUR = "#9a5b00"
-
-
-def _loaded_text(data_sets):
-    return "; ".join(f"{d.kind_label}: {d.label} ({d.describe_points()})" for d in data_sets)
-
-
-def load_into_state(state, kind, paths, add=False):
-    """Read ``paths`` (files or folders) and put the data sets in ``state``; on failure, only a message.
-
-    Parameters
-    ----------
-    state : ExplorerState
-    kind : {"auto", "oifits", "photometry", "spectrum"} or None
-        Which reader to use; "auto" or None: each file's kind from its content.
-    paths : sequence of str or Path
-        Relative paths refer to the explorer's working folder (``state.workdir``).
-    add : bool
-        Add to the data already loaded (a file loaded again, or a second photometry table
-        or spectrum, replaces its earlier version). If False, the new data replace every
-        loaded data set of their kinds.
-
-    Returns
-    -------
-    bool
-        Whether the data were loaded. If not, the state is unchanged and the message says why.
-    """
-    texts = [str(p).strip() for p in paths if str(p).strip()]
-    if not texts:
-        state.show_message("give a path to load (a file or a folder)")
-        return False
-    folder = state_folder(state)
-    resolved = [resolve_user_path(t, folder) for t in texts]
-    try:
-        sets, notes = read_data_sets(resolved, kind=None if kind in (None, "auto") else kind)
-    except DiskExplorerError as exc:
-        state.show_message(f"not loaded: {exc}")
-        return False
-    except (OSError, ValueError) as exc:
-        state.show_message(f"not loaded: {', '.join(map(str, resolved))}: {exc}")
-        return False
-    if add:
-        replaced, combine_warnings = state.add_data_sets(sets)
-    else:
-        kinds = {d.kind for d in sets}
-        replaced = [d for d in state.data_sets if d.kind in kinds]
-        combine_warnings = state.set_data_sets([d for d in state.data_sets if d.kind not in kinds] + sets)
-    parts = [f"loaded {_loaded_text(sets)}"]
-    if replaced:
-        parts.append(f"replaced {', '.join(d.label for d in replaced)}")
-    warned = [f"{d.label}: {w}" for d in sets for w in d.warnings] + list(combine_warnings)
-    if warned:
-        parts.append(f"{len(warned)} warning(s): " + " | ".join(warned))
-    if notes:
-        parts.append(" | ".join(notes))
-    state.show_message("; ".join(parts))
-    return True
 
 
 class DataSetRow(w.VBox):
@@ -169,9 +110,9 @@ class SpeciesForm(w.VBox):
             else:
                 register_species(name, kappa=path, source=path)
         except (DiskExplorerError, OSError, ValueError) as exc:
-            self.state.message = f"error: species not added: {exc}"
+            self.state.show_message(f"error: species not added: {exc}")
             return False
-        self.state.message = f"added dust species {name!r} from {path}; mixtures now offer it"
+        self.state.show_message(f"added dust species {name!r} from {path}; mixtures now offer it")
         self._on_added(name)
         return True
 
@@ -220,7 +161,7 @@ class DataPage(w.VBox):
 
     def load_paths(self):
         """Add the files and folders typed in the path box, read as the selected kind."""
-        return load_into_state(self.state, self.kind.value, self.path.value.split(","), add=True)
+        return self.state.load_files(self.path.value.split(","), self.kind.value, add=True)
 
     def load_uploaded(self, files):
         """Add uploaded files (dicts with ``name`` and ``content`` bytes), read as the selected kind."""
@@ -233,44 +174,19 @@ class DataPage(w.VBox):
             p = folder / Path(str(f["name"])).name
             p.write_bytes(bytes(f["content"]))
             paths.append(p)
-        return load_into_state(self.state, self.kind.value, paths, add=True)
+        return self.state.load_files(paths, self.kind.value, add=True)
 
     def remove(self, data_set):
         """Remove ``data_set`` (a DataSet held by the state, or its index)."""
-        held = list(self.state.data_sets)
-        index = data_set if isinstance(data_set, int) else next(
-            (k for k, d in enumerate(held) if d is data_set), None)
-        if index is None or not 0 <= index < len(held):
-            return False
-        gone = self.state.remove_data_set(index)
-        left = len(self.state.data_sets)
-        self.state.show_message(f"removed {gone.kind_label}: {gone.label}" + ("" if left else "; no data loaded: no χ²"))
-        return True
+        return self.state.drop_data(data_set)
 
     def set_bandpass(self, data_set, on):
         """Average the model of ``data_set`` (held, or its index) over its channels, or not."""
-        held = list(self.state.data_sets)
-        index = data_set if isinstance(data_set, int) else next(
-            (k for k, d in enumerate(held) if d is data_set), None)
-        if index is None or not 0 <= index < len(held) or held[index].kind != "oifits":
-            return False
-        old = held[index]
-        if old.bandpass == bool(on):
-            return False
-        held[index] = dataclasses.replace(old, bandpass=bool(on))
-        self.state.set_data_sets(held)
-        self.state.show_message(f"{old.label}: model " + ("averaged over each channel's EFF_BAND" if on
-                                                 else "at the channel centres (bandpass off)"))
-        return True
+        return self.state.set_bandpass(data_set, on)
 
     def remove_all(self):
         """Remove every data set."""
-        if not self.state.data_sets:
-            return False
-        n = len(self.state.data_sets)
-        self.state.set_data_sets(())
-        self.state.show_message(f"removed all {n} data set(s); no data loaded: no χ²")
-        return True
+        return self.state.drop_data(None)
 
     def _on_upload(self, change):
         if change["new"]:
@@ -281,10 +197,8 @@ class DataPage(w.VBox):
             return
         lo, hi = self.baselines.value
         full = math.isclose(lo, self.baselines.min) and math.isclose(hi, self.baselines.max)
-        with self.state.hold_trait_notifications():
-            self.state.band_filter = tuple(self.bands.value)
-            self.state.instrument_filter = tuple(self.instruments.value)
-            self.state.baseline_range = (0.0, math.inf) if full else (float(lo), float(hi))
+        self.state.set_filters(self.bands.value, self.instruments.value,
+                               (0.0, math.inf) if full else (lo, hi))
 
     def sync(self):
         """List the data sets; offer the bands, instruments and baseline range present in the data."""

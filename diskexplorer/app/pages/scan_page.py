@@ -19,7 +19,7 @@ import numpy as np
 import traitlets as t
 
 from ...errors import DiskExplorerError
-from ...fitting.paths import get_value, parameter_paths, set_values, spec_for
+from ...fitting.paths import get_value, parameter_paths, spec_for
 from ..state.jobs import JobRunner
 from ..controls.param_control import unit_text
 from ..figures.base import EMPTY, assign, axis, new_figure
@@ -541,11 +541,10 @@ class ScanPage(w.VBox):
         if not (0 <= row < ys.size and 0 <= col < xs.size):
             return False
         try:
-            scene = set_values(self.state.scene, {py: float(ys[row]), px: float(xs[col])})
-        except (DiskExplorerError, IndexError, KeyError) as exc:
+            self.state.set_parameters({py: float(ys[row]), px: float(xs[col])})
+        except DiskExplorerError as exc:
             self.state.show_message(f"grid point not applied: {exc}")
             return False
-        self.state.scene = scene
         chi = self.chi2[row, col]
         self.state.show_message(f"model set to the grid point {px} = {xs[col]:.5g}, {py} = {ys[row]:.5g}"
                        + (f" (χ² {chi:,.6g})" if np.isfinite(chi) else ""))

@@ -7,7 +7,6 @@ import math
 import ipywidgets as w
 
 from ...errors import DiskExplorerError
-from .data_page import load_into_state
 from .save_box import OverwriteGuard
 from ..state.workdir import resolve_user_path, state_folder, writable_user_path
 from ..state.sessions import (VIEW_SETTINGS, read_session, scene_from_dict, session_to_dict, write_session)
@@ -30,10 +29,10 @@ def restore_session(state, document):
         # survive the restore and go on counting in χ².
         state.set_data_sets(())
         if data.get("oifits"):
-            load_into_state(state, "oifits", data["oifits"])
+            state.load_files(data["oifits"], "oifits")
         for kind in ("photometry", "spectrum"):
             if data.get(kind):
-                load_into_state(state, kind, [data[kind]])
+                state.load_files([data[kind]], kind)
         off = set(document.get("bandpass_off") or ())
         if off:
             state.set_data_sets([dataclasses.replace(d, bandpass=False) if d.source in off else d

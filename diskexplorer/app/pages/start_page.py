@@ -18,7 +18,7 @@ import ipywidgets as w
 
 from ...errors import DiskExplorerError
 from ...fitting.data_description import DataDescription
-from ...fitting.paths import get_value, parameter_paths, set_values, spec_for
+from ...fitting.paths import get_value, parameter_paths, spec_for
 from ...fitting.priors import PRIOR_KINDS, default_prior
 from ...fitting.vector import default_bounds
 from ..state.jobs import JobRunner, Throttle
@@ -26,9 +26,10 @@ from ..controls.param_control import unit_text
 from ..figures.base import assign as _assign
 from ..palette import ACCENT, INK, MUTED, OKABE_ITO
 from .save_box import OverwriteGuard
+from ..state.fit_setup import clean_fit_setup, doc_free
 from ..state.workdir import resolve_user_path, state_folder, writable_user_path
 
-__all__ = ["StartPage", "clean_fit_setup", "describe_state_data", "doc_free", "WEIGHT_KINDS"]
+__all__ = ["StartPage", "describe_state_data", "WEIGHT_KINDS"]
 
 #: Data kinds whose weight the panel sets, with the words shown for them.
 WEIGHT_KINDS = (("vis2", "V²"), ("t3phi", "closure phase"), ("visamp", "|V|"), ("corrflux", "correlated flux"),
@@ -38,48 +39,6 @@ _PRE = (f"margin:0;padding:6px 8px;font-size:11px;line-height:1.35;background:#f
         "border:1px solid #e6e4de;max-height:560px;overflow:auto;white-space:pre")
 _W = {"name": "196px", "value": "62px", "free": "30px", "lo": "76px", "hi": "76px", "prior": "100px",
       "mean": "66px", "sigma": "60px"}
-
-
-def clean_fit_setup(setup):
-    """A well-formed copy of a ``fit_setup`` dict; malformed entries are dropped.
-
-    Parameters
-    ----------
-    setup : dict
-        ``free`` (list of str), ``bounds`` (path → [lo, hi]), ``priors`` (path → dict with
-        ``kind`` and, for a normal prior, ``mean`` and ``sigma``), ``weights`` (kind → float).
-
-    Returns
-    -------
-    dict
-        With all four keys present.
-    """
-    setup = setup if isinstance(setup, dict) else {}
-    free = [p for p in setup.get("free", []) if isinstance(p, str)]
-    bounds = {}
-    for p, b in (setup.get("bounds") or {}).items():
-        try:
-            lo, hi = (float(x) for x in b)
-        except (TypeError, ValueError):
-            continue
-        bounds[str(p)] = [lo, hi]
-    priors = {}
-    for p, d in (setup.get("priors") or {}).items():
-        if isinstance(d, dict) and d.get("kind") in PRIOR_KINDS:
-            entry = {"kind": d["kind"]}
-            if d["kind"] == "normal":
-                try:
-                    entry.update(mean=float(d["mean"]), sigma=float(d["sigma"]))
-                except (KeyError, TypeError, ValueError):
-                    continue
-            priors[str(p)] = entry
-    weights = {}
-    for k, v in (setup.get("weights") or {}).items():
-        try:
-            weights[str(k)] = float(v)
-        except (TypeError, ValueError):
-            continue
-    return {"free": list(dict.fromkeys(free)), "bounds": bounds, "priors": priors, "weights": weights}
 
 
 def describe_state_data(state, weights=None):
@@ -289,11 +248,7 @@ class StartPage(w.VBox):
         return default_prior(spec_for(path), self.bounds_for(path)[0]).as_dict()
 
     def _set_setup(self, **changes):
-        setup = self.setup
-        setup.update(changes)
-        setup = clean_fit_setup(setup)
-        if setup != clean_fit_setup(self.state.fit_setup):
-            self.state.fit_setup = setup
+        self.state.set_fit_setup({**self.setup, **changes})
 
     def _on_weight(self):
         if self._quiet:
@@ -502,15 +457,7 @@ class StartPage(w.VBox):
         except (DiskExplorerError, OSError, ValueError, KeyError, TypeError) as exc:
             self.state.show_message(f"starting point not imported: {exc}")
             return False
-        setup = self.setup
-        setup.update(free=list(start.paths),
-                     bounds={p: [f.lo, f.hi] for p, f in start.parameters.items()},
-                     priors={p: f.prior.as_dict() for p, f in start.parameters.items()})
-        if start.data.weights:
-            setup["weights"] = {k: v for k, v in start.data.weights.items() if v != 1.0}
-        with self.state.hold_trait_notifications():
-            self.state.scene = start.scene
-            self.state.fit_setup = clean_fit_setup(setup)
+        self.state.apply_start(start)
         where = source if isinstance(source, str) else "the document"
         extra = "" if start.data.empty else "; the data it names are not loaded (use the data tab)"
         self.state.show_message(f"starting point imported from {where}: {len(start.free)} free parameters{extra}")
@@ -623,16 +570,12 @@ class StartPage(w.VBox):
         res = self.refine_result
         if res is None:
             return False
-        if self.state.scene is self._refine_start:
-            scene = res.scene
-        else:
-            # The user moved something while refinement ran: apply only the refined values.
-            try:
-                scene = set_values(self.state.scene, {p.path: p.value for p in res.parameters})
-            except (DiskExplorerError, IndexError, KeyError) as exc:
-                self.state.show_message(f"refined values not applied: {exc}")
-                return False
-        self.state.scene = scene
+        # Only the refined values: anything the user moved while it ran stays as moved.
+        try:
+            self.state.set_parameters({p.path: p.value for p in res.parameters})
+        except DiskExplorerError as exc:
+            self.state.show_message(f"refined values not applied: {exc}")
+            return False
         self.discard(quiet=True)
         self.state.show_message(f"refined values accepted: χ² {res.chi2_before:,.6g} → {res.chi2_after:,.6g}")
         return True
@@ -645,23 +588,3 @@ class StartPage(w.VBox):
         self.result_actions.layout.display = "none"
         if had and not quiet:
             self.progress.value = "result discarded"
-
-
-def doc_free(doc):
-    """Paths of the free parameters of a starting-point document (document order)."""
-    out = []
-
-    def walk(node, prefix):
-        if isinstance(node, dict):
-            if "free" in node and "value" in node:
-                if node["free"]:
-                    out.append(prefix)
-                return
-            for k, v in node.items():
-                walk(v, f"{prefix}.{k}" if prefix else k)
-        elif isinstance(node, list):
-            for k, v in enumerate(node):
-                walk(v, f"{prefix}.{k}")
-
-    walk(doc.get("scene", {}), "")
-    return out

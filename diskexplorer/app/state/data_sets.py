@@ -17,7 +17,7 @@ import numpy as np
 from ...errors import DataError, DiskExplorerError
 from .workdir import resolve_user_path
 
-__all__ = ["DataSet", "read_data_set", "read_data_sets", "data_sets_from", "combine_data_sets",
+__all__ = ["DataSet", "describe_loaded", "read_data_set", "read_data_sets", "data_sets_from", "combine_data_sets",
            "bandpass_choice", "DATA_SET_KINDS", "SINGLE_KINDS"]
 
 #: The kinds of data set, in the order they are listed.
@@ -100,6 +100,11 @@ def _messages(caught, path=""):
         if text not in out:
             out.append(text)
     return out
+
+
+def describe_loaded(data_sets):
+    """One line naming each data set: kind, file and points (the message after a load)."""
+    return "; ".join(f"{d.kind_label}: {d.label} ({d.describe_points()})" for d in data_sets)
 
 
 def read_data_set(path, kind=None) -> DataSet:

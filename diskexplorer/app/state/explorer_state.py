@@ -5,12 +5,18 @@ figures read from here; the explorer's one observer turns changes into recomputa
 """
 from __future__ import annotations
 
+import dataclasses
+
 import traitlets as t
 
 from ...errors import DiskExplorerError
 from ...observables.scene import Scene
 from ...physics.ring import Ring
 from ...physics.star import Star
+from .data_sets import SINGLE_KINDS, combine_data_sets, describe_loaded, read_data_sets
+from .fit_setup import clean_fit_setup
+from .sessions import VIEW_SETTINGS
+from .workdir import resolve_user_path, state_folder
 
 __all__ = ["ExplorerState", "TIERS", "tiers_for", "MAX_PINS"]
 
@@ -20,7 +26,7 @@ MAX_PINS = 4
 #: Which recomputation each state name asks for, cheapest first. ``style`` touches only
 #: scales; ``none`` recomputes nothing (messages).
 TIERS = {
-    "message": "none",
+    "message": "none", "workdir": "none",
     # The list of data sets and the paths are bookkeeping: the combined observations,
     # photometry and spectrum they set alongside are what asks for the data tier.
     "data_sets": "none", "data_sources": "none",
@@ -68,6 +74,9 @@ class ExplorerState(t.HasTraits):
     ----------
     scene : Scene
         The current model.
+    workdir : str
+        The folder relative paths typed into the explorer refer to
+        (:mod:`~diskexplorer.app.state.workdir`); set once, when the explorer is made.
     data_sets : tuple of DataSet
         The loaded data, one entry per file (:mod:`~diskexplorer.app.state.data_sets`); change it
         with :meth:`set_data_sets`, :meth:`add_data_sets` and :meth:`remove_data_set`, which
@@ -106,6 +115,7 @@ class ExplorerState(t.HasTraits):
     """
 
     scene = t.Instance(Scene)
+    workdir = t.Unicode("")
     data_sets = t.Tuple()
     observations = Held(None)
     photometry = Held(None)
@@ -130,7 +140,9 @@ class ExplorerState(t.HasTraits):
     gap_aspect_ratio = t.Float(0.05)
     gap_alpha = t.Float(1e-3)
 
-    # ------------------------------------------------------------------ editing
+    # ------------------------------------------------------------------ the scene
+    # Every change of the scene goes through one of these methods: each builds a new
+    # frozen scene, so an invalid value raises before anything is assigned.
     def update_scene(self, **changes):
         """Replace scene fields (distance, inclination, position_angle, extended_fraction, …).
 
@@ -167,8 +179,7 @@ class ExplorerState(t.HasTraits):
         """Insert a copy of ring ``index`` right after it."""
         rings = list(self.scene.rings)
         src = rings[index]
-        from dataclasses import replace
-        rings.insert(index + 1, replace(src, name=f"{src.name} copy"))
+        rings.insert(index + 1, dataclasses.replace(src, name=f"{src.name} copy"))
         self.scene = self.scene.replace(rings=tuple(rings))
 
     def remove_ring(self, index):
@@ -176,6 +187,83 @@ class ExplorerState(t.HasTraits):
         rings = list(self.scene.rings)
         del rings[index]
         self.scene = self.scene.replace(rings=tuple(rings))
+
+    def set_parameters(self, values):
+        """Set parameters by path (a grid point, refined values).
+
+        Parameters
+        ----------
+        values : mapping of str to float
+            Parameter path (:mod:`~diskexplorer.fitting.paths`, e.g. ``rings.0.t_in``) →
+            value in the parameter's declared unit.
+
+        Raises
+        ------
+        DiskExplorerError
+            An unknown path or an invalid value; the state is then unchanged.
+        """
+        from ...fitting.paths import set_values
+
+        try:
+            scene = set_values(self.scene, dict(values))
+        except (IndexError, KeyError) as exc:
+            raise DiskExplorerError(f"cannot set {', '.join(values)}: {exc}") from None
+        self.scene = scene
+
+    def apply_start(self, start):
+        """Take a starting point's scene and its free parameters, bounds, priors and weights.
+
+        Parameters
+        ----------
+        start : StartingPoint
+            As :func:`~diskexplorer.fitting.read_start` returns it.
+        """
+        setup = clean_fit_setup(self.fit_setup)
+        setup.update(free=list(start.paths),
+                     bounds={p: [f.lo, f.hi] for p, f in start.parameters.items()},
+                     priors={p: f.prior.as_dict() for p, f in start.parameters.items()})
+        if start.data.weights:
+            setup["weights"] = {k: v for k, v in start.data.weights.items() if v != 1.0}
+        with self.hold_trait_notifications():
+            self.scene = start.scene
+            self.fit_setup = clean_fit_setup(setup)
+
+    # ------------------------------------------------------------------ settings
+    def set_view(self, **settings):
+        """Change view settings and the derived quantities' assumptions (:data:`VIEW_SETTINGS`).
+
+        Raises
+        ------
+        DiskExplorerError
+            For a name that is not a view setting.
+        """
+        unknown = set(settings) - set(VIEW_SETTINGS)
+        if unknown:
+            raise DiskExplorerError(f"not a view setting: {', '.join(sorted(unknown))}")
+        with self.hold_trait_notifications():
+            for name, value in settings.items():
+                setattr(self, name, value)
+
+    def set_filters(self, bands=None, instruments=None, baseline_range=None):
+        """Keep only some interferometric bands, instruments and projected baselines (m).
+
+        ``None`` leaves a filter as it is; empty bands or instruments keep all, and
+        ``(0, inf)`` keeps every baseline.
+        """
+        with self.hold_trait_notifications():
+            if bands is not None:
+                self.band_filter = tuple(bands)
+            if instruments is not None:
+                self.instrument_filter = tuple(instruments)
+            if baseline_range is not None:
+                lo, hi = baseline_range
+                self.baseline_range = (float(lo), float(hi))
+
+    def set_fit_setup(self, setup):
+        """Replace the starting-point set-up (cleaned: :func:`clean_fit_setup`), if it changed."""
+        setup = clean_fit_setup(setup)
+        if setup != clean_fit_setup(self.fit_setup):
+            self.fit_setup = setup
 
     def pin(self, name=None):
         """Pin the current scene under ``name``.
@@ -204,8 +292,6 @@ class ExplorerState(t.HasTraits):
         list of str
             Warnings of combining them (e.g. two arrays of one name defined differently).
         """
-        from .data_sets import combine_data_sets
-
         data_sets = tuple(data_sets)
         combined = combine_data_sets(data_sets)
         obs = combined["observations"]
@@ -230,8 +316,6 @@ class ExplorerState(t.HasTraits):
         (list of DataSet, list of str)
             The data sets replaced, and the warnings of combining.
         """
-        from .data_sets import SINGLE_KINDS
-
         held = list(self.data_sets)
         replaced = []
         for new in data_sets:
@@ -257,6 +341,139 @@ class ExplorerState(t.HasTraits):
         self.set_data_sets(held)
         return gone
 
+    def load_files(self, paths, kind="auto", add=False):
+        """Read files and folders into the data; on failure only a message, nothing changes.
+
+        Parameters
+        ----------
+        paths : sequence of str or Path
+            Relative paths refer to the explorer's working folder (``workdir``).
+        kind : {"auto", "oifits", "photometry", "spectrum"} or None
+            Which reader to use; "auto" or None: each file's kind from its content.
+        add : bool
+            Add to the data already loaded (a file loaded again, or a second photometry
+            table or spectrum, replaces its earlier version). If False, the new data
+            replace every loaded data set of their kinds.
+
+        Returns
+        -------
+        bool
+            Whether the data were loaded. The message says what was loaded, replaced and
+            warned about, or why nothing was.
+        """
+        texts = [str(p).strip() for p in paths if str(p).strip()]
+        if not texts:
+            self.show_message("give a path to load (a file or a folder)")
+            return False
+        resolved = [resolve_user_path(t, state_folder(self)) for t in texts]
+        try:
+            sets, notes = read_data_sets(resolved, kind=None if kind in (None, "auto") else kind)
+        except DiskExplorerError as exc:
+            self.show_message(f"not loaded: {exc}")
+            return False
+        except (OSError, ValueError) as exc:
+            self.show_message(f"not loaded: {', '.join(map(str, resolved))}: {exc}")
+            return False
+        if add:
+            replaced, combine_warnings = self.add_data_sets(sets)
+        else:
+            kinds = {d.kind for d in sets}
+            replaced = [d for d in self.data_sets if d.kind in kinds]
+            combine_warnings = self.set_data_sets([d for d in self.data_sets if d.kind not in kinds] + sets)
+        parts = [f"loaded {describe_loaded(sets)}"]
+        if replaced:
+            parts.append(f"replaced {', '.join(d.label for d in replaced)}")
+        warned = [f"{d.label}: {w}" for d in sets for w in d.warnings] + list(combine_warnings)
+        if warned:
+            parts.append(f"{len(warned)} warning(s): " + " | ".join(warned))
+        if notes:
+            parts.append(" | ".join(notes))
+        self.show_message("; ".join(parts))
+        return True
+
+    def drop_data(self, data_set=None):
+        """Remove one data set (held, or its index) or, with None, every one; says what went.
+
+        Returns
+        -------
+        bool
+            Whether anything was removed.
+        """
+        if data_set is None:
+            if not self.data_sets:
+                return False
+            n = len(self.data_sets)
+            self.set_data_sets(())
+            self.show_message(f"removed all {n} data set(s); no data loaded: no χ²")
+            return True
+        index = self._index_of(data_set)
+        if index is None:
+            return False
+        gone = self.remove_data_set(index)
+        left = len(self.data_sets)
+        self.show_message(f"removed {gone.kind_label}: {gone.label}" + ("" if left else "; no data loaded: no χ²"))
+        return True
+
+    def set_bandpass(self, data_set, on):
+        """Average the model of an OIFITS data set (held, or its index) over its channels, or not.
+
+        Returns
+        -------
+        bool
+            Whether the switch changed.
+        """
+        index = self._index_of(data_set)
+        held = list(self.data_sets)
+        if index is None or held[index].kind != "oifits" or held[index].bandpass == bool(on):
+            return False
+        old = held[index]
+        held[index] = dataclasses.replace(old, bandpass=bool(on))
+        self.set_data_sets(held)
+        self.show_message(f"{old.label}: model " + ("averaged over each channel's EFF_BAND" if on
+                                                    else "at the channel centres (bandpass off)"))
+        return True
+
+    def _index_of(self, data_set):
+        held = self.data_sets
+        index = data_set if isinstance(data_set, int) else next(
+            (k for k, d in enumerate(held) if d is data_set), None)
+        return index if index is not None and 0 <= index < len(held) else None
+
+    # ------------------------------------------------------------------ sessions
+    def restore_session(self, contents):
+        """Take everything a session holds: scene, data (re-read from paths), filters, view,
+        pins and starting-point set-up.
+
+        Parameters
+        ----------
+        contents : SessionContents
+            As :func:`~diskexplorer.app.state.sessions.decode_session` returns it.
+
+        Notes
+        -----
+        The data become exactly the session's: whatever was loaded before is dropped, so a
+        kind the session lacks cannot go on counting in χ². Data files that cannot be
+        read leave a message; everything else is still restored.
+        """
+        data = contents.data
+        with self.hold_trait_notifications():
+            self.set_data_sets(())
+            if data.get("oifits"):
+                self.load_files(data["oifits"], "oifits")
+            for kind in ("photometry", "spectrum"):
+                if data.get(kind):
+                    self.load_files([data[kind]], kind)
+            off = set(contents.bandpass_off)
+            if off:
+                self.set_data_sets([dataclasses.replace(d, bandpass=False) if d.source in off else d
+                                    for d in self.data_sets])
+            self.set_filters(contents.bands, contents.instruments, contents.baseline_range)
+            self.set_view(**{k: v for k, v in contents.view.items() if k in VIEW_SETTINGS})
+            self.pins = [{"name": name, "scene": scene} for name, scene in contents.pins]
+            self.scene = contents.scene
+            self.fit_setup = clean_fit_setup(contents.fit_setup or {})
+
+    # ------------------------------------------------------------------ messages
     def show_message(self, text):
         """Show ``text`` in the message area (also when it repeats the last message)."""
         if self.message == text:
@@ -279,7 +496,6 @@ def _bands_and_instruments(obs):
 
 def default_new_ring(scene):
     """A new ring: twice as far out as the outermost ring, cooler, same dust."""
-    from dataclasses import replace
     rings = scene.rings
     if not rings:
         return Ring(name="ring 1", dust=_default_dust())
@@ -288,7 +504,7 @@ def default_new_ring(scene):
     r_in = min(last.r_out * 1.5, spec_hi / 3)
     names = {r.name for r in rings}
     name = next(f"ring {k}" for k in range(len(rings) + 1, 200) if f"ring {k}" not in names)
-    return replace(last, r_in=r_in, r_out=r_in * 2.0, t_in=max(60.0, last.t_in * 0.6),
+    return dataclasses.replace(last, r_in=r_in, r_out=r_in * 2.0, t_in=max(60.0, last.t_in * 0.6),
                    c1=0.0, s1=0.0, name=name, enabled=True)
 
 

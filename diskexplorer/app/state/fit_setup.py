@@ -1,0 +1,72 @@
+"""The starting-point set-up the explorer edits: free parameters, bounds, priors, weights.
+
+The set-up is plain data in ``ExplorerState.fit_setup`` (so sessions save it); these
+functions keep it well formed and read documents built from it. No widget library here.
+"""
+from __future__ import annotations
+
+from ...fitting.priors import PRIOR_KINDS
+
+__all__ = ["clean_fit_setup", "doc_free"]
+
+
+def clean_fit_setup(setup):
+    """A well-formed copy of a ``fit_setup`` dict; malformed entries are dropped.
+
+    Parameters
+    ----------
+    setup : dict
+        ``free`` (list of str), ``bounds`` (path → [lo, hi]), ``priors`` (path → dict with
+        ``kind`` and, for a normal prior, ``mean`` and ``sigma``), ``weights`` (kind → float).
+
+    Returns
+    -------
+    dict
+        With all four keys present.
+    """
+    setup = setup if isinstance(setup, dict) else {}
+    free = [p for p in setup.get("free", []) if isinstance(p, str)]
+    bounds = {}
+    for p, b in (setup.get("bounds") or {}).items():
+        try:
+            lo, hi = (float(x) for x in b)
+        except (TypeError, ValueError):
+            continue
+        bounds[str(p)] = [lo, hi]
+    priors = {}
+    for p, d in (setup.get("priors") or {}).items():
+        if isinstance(d, dict) and d.get("kind") in PRIOR_KINDS:
+            entry = {"kind": d["kind"]}
+            if d["kind"] == "normal":
+                try:
+                    entry.update(mean=float(d["mean"]), sigma=float(d["sigma"]))
+                except (KeyError, TypeError, ValueError):
+                    continue
+            priors[str(p)] = entry
+    weights = {}
+    for k, v in (setup.get("weights") or {}).items():
+        try:
+            weights[str(k)] = float(v)
+        except (TypeError, ValueError):
+            continue
+    return {"free": list(dict.fromkeys(free)), "bounds": bounds, "priors": priors, "weights": weights}
+
+
+def doc_free(doc):
+    """Paths of the free parameters of a starting-point document (document order)."""
+    out = []
+
+    def walk(node, prefix):
+        if isinstance(node, dict):
+            if "free" in node and "value" in node:
+                if node["free"]:
+                    out.append(prefix)
+                return
+            for k, v in node.items():
+                walk(v, f"{prefix}.{k}" if prefix else k)
+        elif isinstance(node, list):
+            for k, v in enumerate(node):
+                walk(v, f"{prefix}.{k}")
+
+    walk(doc.get("scene", {}), "")
+    return out
