@@ -1,11 +1,19 @@
-"""The "file exists — overwrite it?" row shared by every panel that saves a file."""
+"""The path box that saves a document, asking before an existing file is replaced.
+
+Shared by every page that writes a file (the starting point, the session): one flow for
+resolving the typed name in the working folder, refusing targets outside it or inside the
+package, asking before an overwrite, and saying where the file went or why it did not.
+"""
 from __future__ import annotations
 
 import html
 
 import ipywidgets as w
 
-__all__ = ["OverwriteGuard"]
+from ...errors import DiskExplorerError
+from ..state.workdir import resolve_user_path, state_folder, writable_user_path
+
+__all__ = ["SaveBox", "OverwriteGuard"]
 
 
 class OverwriteGuard(w.HBox):
@@ -18,8 +26,8 @@ class OverwriteGuard(w.HBox):
 
     Notes
     -----
-    A panel's ``save()`` calls :meth:`ask` when its target exists and returns; the file is
-    written only from ``on_overwrite``. "keep the file" hides the row and writes nothing.
+    A save calls :meth:`ask` when its target exists and returns; the file is written only
+    from ``on_overwrite``. "keep the file" hides the row and writes nothing.
     """
 
     def __init__(self, on_overwrite):
@@ -38,3 +46,68 @@ class OverwriteGuard(w.HBox):
 
     def hide(self):
         self.layout.display = "none"
+
+
+class SaveBox(w.VBox):
+    """A file name, a save button, other actions on the same file, and the overwrite question.
+
+    Parameters
+    ----------
+    state : ExplorerState
+        Its working folder resolves the typed name; its message area hears the outcome.
+    name : str
+        The file name offered at first.
+    what : str
+        What is saved, for messages ("session", "starting point").
+    write : callable
+        ``write(path, overwrite)`` writes the document to ``path`` (a :class:`~pathlib.Path`
+        in the working folder) and returns the message to show. It raises
+        :class:`FileExistsError` when the file exists and ``overwrite`` is False, and
+        :class:`~diskexplorer.errors.DiskExplorerError` or :class:`OSError` when it cannot write.
+    actions : sequence of ipywidgets.Button
+        Shown after the save button (import, restore).
+    width : str
+        Width of the name box (CSS).
+
+    Attributes
+    ----------
+    path : ipywidgets.Text
+    save_button : ipywidgets.Button
+    confirm : OverwriteGuard
+    """
+
+    def __init__(self, state, name, what, write, actions=(), width="240px"):
+        self.state = state
+        self.what = what
+        self._write = write
+        self.path = w.Text(value=name, layout={"width": width})
+        self.save_button = w.Button(description="save", layout={"width": "64px"})
+        self.save_button.on_click(lambda b: self.save())
+        self.confirm = OverwriteGuard(lambda: self.save(overwrite=True))
+        super().__init__([w.HBox([self.path, self.save_button, *actions]), self.confirm])
+
+    def target(self):
+        """The typed name resolved in the working folder (for reading: import, restore)."""
+        return resolve_user_path(self.path.value, state_folder(self.state))
+
+    def save(self, overwrite=False):
+        """Write the document; an existing file is replaced only with ``overwrite``.
+
+        Returns
+        -------
+        bool
+            Whether the file was written. If it exists, the overwrite question is shown
+            and nothing is written.
+        """
+        try:
+            target = writable_user_path(self.path.value, state_folder(self.state))
+            text = self._write(target, overwrite)
+        except FileExistsError:
+            self.confirm.ask(str(target))
+            return False
+        except (OSError, DiskExplorerError) as exc:
+            self.state.show_message(f"{self.what} not saved: {exc}")
+            return False
+        self.confirm.hide()
+        self.state.show_message(text)
+        return True

@@ -246,21 +246,16 @@ class ScanPage(w.VBox):
         if not self.runner.busy:
             self.progress.value = "starting a local dask cluster in the background …"
 
-        def job():
+        def work():
             from ...fitting.scan import local_client
 
-            try:
-                client = local_client()
-                n = len(client.scheduler_info().get("workers", {}))
-                text, error = f"local dask cluster ready ({n} workers)", None
-            except Exception as exc:  # noqa: BLE001 - shown; a scan would try again
-                text, error = "", exc
-            self._warmer.post(lambda: self._warmed(text, error))
+            return len(local_client().scheduler_info().get("workers", {}))
 
-        self._warmer.start(job, name="diskexplorer-cluster-start")
+        self._warmer.run(work, self._warmed, name="diskexplorer-cluster-start")
         return True
 
-    def _warmed(self, text, error):
+    def _warmed(self, n_workers, error):
+        text = "" if error is not None else f"local dask cluster ready ({n_workers} workers)"
         if error is not None:
             self._warmer = None   # a later showing (or the scan itself) tries again
             self.state.show_message(f"local dask cluster did not start: {error}")
@@ -290,8 +285,8 @@ class ScanPage(w.VBox):
                 pass
         self._clients.clear()
 
-    def start(self):
-        """Start a scan of the two chosen parameters around the live scene.
+    def start(self, wait=False):
+        """Start a scan of the two chosen parameters around the live scene (in the background unless ``wait``).
 
         Returns
         -------
@@ -339,34 +334,24 @@ class ScanPage(w.VBox):
         runner = self.runner
         total = xs.size * ys.size
 
-        def job():
+        def on_chunk(start, values):
+            runner.post(lambda: self._add_chunk(start, values[:, 0], total))
+
+        def work():
             from ...fitting.scan import scan_grid
 
-            def on_chunk(start, values):
-                runner.post(lambda: self._add_chunk(start, values[:, 0], total))
+            scheduler = "serial" if where == "serial" else self._client(where)
+            # In process, one row per chunk: the map fills row by row and a cancel stops
+            # between rows. On a cluster scan_grid sizes chunks to keep every worker busy.
+            return scan_grid(scene, comparison, [(py, ys), (px, xs)], scheduler=scheduler,
+                             chunk_size=xs.size if where == "serial" else None,
+                             cancel=runner.cancelled, on_chunk=on_chunk)
 
-            try:
-                scheduler = "serial" if where == "serial" else self._client(where)
-                # In process, one row per chunk: the map fills row by row and a cancel stops
-                # between rows. On a cluster scan_grid sizes chunks to keep every worker busy.
-                ds = scan_grid(scene, comparison, [(py, ys), (px, xs)], scheduler=scheduler,
-                               chunk_size=xs.size if where == "serial" else None,
-                               cancel=runner.cancel_event.is_set, on_chunk=on_chunk)
-            except Exception as exc:  # noqa: BLE001 - a failed scan must end visibly
-                runner.post(lambda: self._finish(exc))
-                return
-            runner.post(lambda: self._finish(None, ds))
-
-        runner.start(job, name="diskexplorer-scan")
-        return True
+        return runner.run(work, self._finish, name="diskexplorer-scan", wait=wait)
 
     def scan_now(self):
         """Run a scan synchronously, whatever the runner (tests, scripts)."""
-        mode, self.runner.mode = self.runner.mode, "sync"
-        try:
-            return self.start()
-        finally:
-            self.runner.mode = mode
+        return self.start(wait=True)
 
     def cancel(self):
         """Stop the running scan after the points in flight; the map keeps what was done."""
@@ -379,7 +364,7 @@ class ScanPage(w.VBox):
 
         return local_client(start=False) is not None
 
-    def _finish(self, error, ds=None):
+    def _finish(self, ds, error):
         self.start_button.disabled = False
         self.cancel_button.disabled = True
         if error is not None:

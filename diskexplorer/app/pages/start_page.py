@@ -25,9 +25,8 @@ from ..state.jobs import JobRunner, Throttle
 from ..controls.param_control import unit_text
 from ..figures.base import assign as _assign
 from ..palette import ACCENT, INK, MUTED, OKABE_ITO
-from .save_box import OverwriteGuard
+from .save_box import SaveBox
 from ..state.fit_setup import clean_fit_setup, doc_free
-from ..state.workdir import resolve_user_path, state_folder, writable_user_path
 
 __all__ = ["StartPage", "describe_state_data", "WEIGHT_KINDS"]
 
@@ -188,16 +187,15 @@ class StartPage(w.VBox):
         self.discard_button.on_click(lambda b: self.discard())
 
         # document, save, import
-        self.path = w.Text(value="diskexplorer-start.json", layout={"width": "230px"})
-        self.path.add_class("dx-start-path")
-        self.save_button = w.Button(description="save", layout={"width": "64px"})
-        self.save_button.add_class("dx-start-save")
         self.import_button = w.Button(description="import", layout={"width": "70px"})
-        self.confirm = OverwriteGuard(lambda: self.save(overwrite=True))
+        self.import_button.on_click(lambda b: self.import_start())
+        self.save_box = SaveBox(state, "diskexplorer-start.json", "starting point", self._write,
+                                actions=[self.import_button], width="230px")
+        self.path, self.save_button, self.confirm = self.save_box.path, self.save_box.save_button, self.save_box.confirm
+        self.path.add_class("dx-start-path")
+        self.save_button.add_class("dx-start-save")
         # the confirm row's buttons, by the names tests and callers use
         self.overwrite_button, self.keep_button = self.confirm.overwrite_button, self.confirm.keep_button
-        self.save_button.on_click(lambda b: self.save())
-        self.import_button.on_click(lambda b: self.import_start())
         self.view = w.ToggleButtons(options=[("document", "document"), ("Python snippet", "snippet")],
                                     value="document", style={"button_width": "110px"})
         self.view.observe(lambda ch: self._show_view(), "value")
@@ -214,7 +212,7 @@ class StartPage(w.VBox):
                        self.result_html, self.result_actions],
                       layout={"width": "700px", "min_width": "700px"})
         right = w.VBox([w.HTML("<div class='dx-section-title'>document</div>"),
-                        w.HBox([self.path, self.save_button, self.import_button]), self.confirm,
+                        self.save_box,
                         self.view, self.viewer, self.notes],
                        layout={"flex": "1 1 auto", "min_width": "300px", "padding": "0 0 0 10px"})
         super().__init__([w.HBox([left, right], layout={"width": "100%"})])
@@ -397,9 +395,6 @@ class StartPage(w.VBox):
                 + "</div>")
 
     # ------------------------------------------------------------------ save / import
-    def _hide_confirm(self):
-        self.confirm.hide()
-
     def save(self, overwrite=False):
         """Write the document to the path box; an existing file needs explicit confirmation.
 
@@ -409,35 +404,23 @@ class StartPage(w.VBox):
             Whether the file was written. An existing file is never replaced unless
             ``overwrite`` (the "overwrite" button) is given.
         """
+        return self.save_box.save(overwrite)
+
+    def _write(self, path, overwrite):
         from ...fitting.snippet import make_snippet
         from ...fitting.start_document import write_start
 
-        try:
-            path = writable_user_path(self.path.value, state_folder(self.state))
-        except DiskExplorerError as exc:
-            self.state.show_message(f"starting point not saved: {exc}")
-            return False
-        try:
-            doc = self.build_document()
-            written = write_start(path, doc, overwrite=overwrite)
-        except FileExistsError:
-            self.confirm.ask(str(path))
-            return False
-        except (OSError, DiskExplorerError) as exc:
-            self.state.show_message(f"starting point not saved: {exc}")
-            return False
-        self._hide_confirm()
+        doc = self.build_document()
+        written = write_start(path, doc, overwrite=overwrite)
         self.saved_path = written
         try:
             self.snippet = make_snippet(written)
         except DiskExplorerError as exc:  # written but does not read back: say so, keep the file
             self.snippet = ""
-            self.state.show_message(f"saved {written}, but it does not read back: {exc}")
-            return True
+            return f"saved {written}, but it does not read back: {exc}"
         self._show_view()
-        self.state.show_message(f"starting point saved to {written} ({len(doc_free(doc))} free parameters); "
-                       "its Python snippet is under “Python snippet”")
-        return True
+        return (f"starting point saved to {written} ({len(doc_free(doc))} free parameters); "
+                "its Python snippet is under “Python snippet”")
 
     def import_start(self, source=None):
         """Read a starting point (path box, or ``source``) into the model and the table.
@@ -451,7 +434,7 @@ class StartPage(w.VBox):
         from ...fitting.start_import import read_start
 
         if source is None:
-            source = str(resolve_user_path(self.path.value, state_folder(self.state)))
+            source = str(self.save_box.target())
         try:
             start = read_start(source)
         except (DiskExplorerError, OSError, ValueError, KeyError, TypeError) as exc:
@@ -464,8 +447,8 @@ class StartPage(w.VBox):
         return True
 
     # ------------------------------------------------------------------ refinement
-    def start_refine(self):
-        """Refine the free parameters from the live scene (background thread or at once).
+    def start_refine(self, wait=False):
+        """Refine the free parameters from the live scene (in the background unless ``wait``).
 
         Returns
         -------
@@ -502,25 +485,13 @@ class StartPage(w.VBox):
             if throttle.ready():
                 runner.post(lambda: setattr(self.progress, "value", f"evaluation {i} · best χ² {chi2:,.6g}"))
 
-        def job():
-            try:
-                res = refine(scene, comparison, free, weights=weights, bounds=bounds, progress=progress,
-                             cancel=runner.cancel_event.is_set)
-            except Exception as exc:  # noqa: BLE001 - any failure must end the job visibly
-                runner.post(lambda: self._finish(None, exc))
-                return
-            runner.post(lambda: self._finish(res, None))
-
-        runner.start(job, name="diskexplorer-refine")
-        return True
+        return runner.run(lambda: refine(scene, comparison, free, weights=weights, bounds=bounds, progress=progress,
+                                         cancel=runner.cancelled),
+                          self._finish, name="diskexplorer-refine", wait=wait)
 
     def refine_now(self):
         """Run a refinement synchronously, whatever the runner (tests, scripts)."""
-        mode, self.runner.mode = self.runner.mode, "sync"
-        try:
-            return self.start_refine()
-        finally:
-            self.runner.mode = mode
+        return self.start_refine(wait=True)
 
     def cancel_refine(self):
         """Stop a running refinement; the best state so far is offered as its result."""

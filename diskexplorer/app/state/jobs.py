@@ -1,11 +1,13 @@
-"""Running long jobs (refinement, grid scans) off the kernel's thread, and getting back onto it.
+"""Running long jobs (refinement, grid scans, cluster start-up) off the kernel's thread.
 
-A :class:`JobRunner` starts a job in a :class:`threading.Thread` (``mode="thread"``, the live
-app) or runs it at once in the caller's thread (``mode="sync"``, tests and scripts). The job
-reports through :meth:`JobRunner.post`, which hands a callable back to the thread that owns
-the widgets: the kernel's asyncio loop when there is one (``call_soon_threadsafe``), so that
-widget messages are sent from the thread that runs the comms; without a running loop (a plain
-script, pytest) the callable runs directly.
+Every background job of the explorer has one lifecycle, :meth:`JobRunner.run`: the work
+runs in a :class:`threading.Thread` (``mode="thread"``, the live app) or at once in the
+caller's thread (``mode="sync"``, tests and scripts, or ``wait=True``), and its end is handed
+to ``on_done(result, error)``, exactly one of them None, on the thread that owns the
+widgets. Progress goes the same way through :meth:`JobRunner.post`: the kernel's asyncio
+loop when there is one (``call_soon_threadsafe``), so that widget messages are sent from the
+thread that runs the comms; without a running loop (a plain script, pytest) the callable
+runs directly.
 """
 from __future__ import annotations
 
@@ -89,6 +91,46 @@ class JobRunner:
         self.thread = threading.Thread(target=job, name=name, daemon=True)
         self.thread.start()
         return True
+
+    def run(self, work, on_done, name="diskexplorer-job", wait=False):
+        """Run ``work()`` and hand its end to ``on_done(result, error)`` on the widgets' thread.
+
+        Parameters
+        ----------
+        work : callable
+            Takes no argument and returns the result. It may poll :attr:`cancelled` and
+            report progress with :meth:`post`.
+        on_done : callable
+            Called once with ``(result, None)``, or ``(None, exception)`` if ``work`` raised.
+        name : str
+            Name of the thread (seen in debuggers and thread dumps).
+        wait : bool
+            Run in the caller's thread whatever :attr:`mode` is (tests, scripts).
+
+        Returns
+        -------
+        bool
+            Whether the job was started (False while another one runs).
+        """
+        def job():
+            try:
+                result = work()
+            except Exception as exc:  # noqa: BLE001 - any failure must end the job visibly
+                self.post(lambda: on_done(None, exc))
+                return
+            self.post(lambda: on_done(result, None))
+
+        if not wait:
+            return self.start(job, name=name)
+        mode, self.mode = self.mode, "sync"
+        try:
+            return self.start(job, name=name)
+        finally:
+            self.mode = mode
+
+    def cancelled(self) -> bool:
+        """Whether :meth:`cancel` was called since the job started (jobs poll it)."""
+        return self.cancel_event.is_set()
 
     def cancel(self):
         """Ask the running job to stop (it polls :attr:`cancel_event`)."""
