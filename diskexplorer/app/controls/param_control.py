@@ -12,6 +12,7 @@ from ...errors import DiskExplorerError
 from ...observables.scene import Scene
 from ...physics.parameters import ParameterSpec, parameter_specs
 from ...physics.star import LUMINOSITY_SPEC, Star
+from ..state.echo_guard import EchoGuard
 from ..palette import MUTED
 from .slider_companion import SliderCompanion
 
@@ -201,7 +202,7 @@ class ParamControl(w.HBox):
     def __init__(self, spec, value, on_change, css=None, step=None, widths=(92, 170, 82)):
         self.spec = spec
         self._callback = on_change
-        self._quiet = False
+        self._quiet = EchoGuard()
         unit = unit_text(spec.unit)
         self._label_text = (f"{_label_html(spec.label)}"
                             + (f" <span style='color:{MUTED}'>[{html.escape(unit)}]</span>" if unit else ""))
@@ -318,16 +319,13 @@ class ParamControl(w.HBox):
     def set_value(self, value):
         """Show ``value`` without calling back (the state changed elsewhere)."""
         value = float(value)
-        self._quiet = True
-        try:
+        with self._quiet:
             if value != self._value or self._grid.index(value) is None:
                 self._value = value
                 if self._grid.index(value) is None:
                     self._grid = _Grid(self.spec, value, self._step)
                 self._show_grid()
             self._show_number()
-        finally:
-            self._quiet = False
 
     def _on_slider_change(self, change):
         if self._quiet:
@@ -336,15 +334,12 @@ class ParamControl(w.HBox):
         if new == self._value or (not on_grid and self._is_snap(new)):
             return
         self._value = new
-        self._quiet = True
-        try:
+        with self._quiet:
             if not on_grid:
                 # Set from code, off the grid: anchor the grid on it.
                 self._grid = _Grid(self.spec, new, self._step)
                 self._show_grid()
             self._show_number()
-        finally:
-            self._quiet = False
         self._callback(new)
 
     def _on_number_change(self, change):

@@ -12,6 +12,7 @@ from ...physics.ring import MODULATION_AMPLITUDE_SPEC as AMPLITUDE_SPEC
 from ...physics.ring import MODULATION_ANGLE_SPEC as ANGLE_SPEC
 from ...physics.ring import SUBLIMATION_TEMPERATURE_SPEC, Ring
 from .param_control import ParamControl, _guarded
+from ..state.echo_guard import EchoGuard
 from ..palette import MUTED, ring_colour
 
 __all__ = ["RingDeck", "RingCard", "MixtureEditor", "TemperatureEditor", "renormalise", "NORMALISATION_NOTE",
@@ -97,7 +98,7 @@ class MixtureEditor(w.VBox):
     def __init__(self, dust, on_change, on_message=None):
         self._callback = on_change
         self._on_message = on_message
-        self._quiet = False
+        self._quiet = EchoGuard()
         self.species = _species()
         frac_spec = ParameterSpec(name="fraction", unit="", label="f", description="mass fraction",
                                   valid=(0.0, 1.0), closed=(True, True), bounds=(0.0, 1.0), digits=3)
@@ -141,8 +142,7 @@ class MixtureEditor(w.VBox):
 
     def sync(self, dust):
         """Show ``dust`` (a DustMix or None) without calling back."""
-        self._quiet = True
-        try:
+        with self._quiet:
             self.opaque.value = dust is None or not hasattr(dust, "fractions")
             self.body.layout.display = "none" if self.opaque.value else None
             if not self.opaque.value:
@@ -157,8 +157,6 @@ class MixtureEditor(w.VBox):
                 self.shape.value = dust.shape
                 self.size.disabled = dust.shape == "cde"
             self._show_sum()
-        finally:
-            self._quiet = False
 
     def _show_sum(self):
         total = sum(self.fractions.values())
@@ -172,22 +170,16 @@ class MixtureEditor(w.VBox):
             return
         if not (math.isfinite(value) and 0.0 <= value <= 1.0):
             # Clipping 5 to 1 would silently make a single-species ring; refuse instead.
-            self._quiet = True
-            try:
+            with self._quiet:
                 self.fraction_controls[species].set_value(self._accepted.get(species, 0.0))
-            finally:
-                self._quiet = False
             if self._on_message is not None:
                 self._on_message(f"dust mixture: mass fraction of {species} = {value:g} is outside [0, 1]; "
-                          "the mixture is unchanged")
+                                 "the mixture is unchanged")
             return
         new = renormalise(self.fractions, species, value)
-        self._quiet = True
-        try:
+        with self._quiet:
             for sp, c in self.fraction_controls.items():
                 c.set_value(new[sp])
-        finally:
-            self._quiet = False
         self._show_sum()
         self._emit()
 
@@ -202,9 +194,8 @@ class MixtureEditor(w.VBox):
         if not change["new"] and sum(self.fractions.values()) <= 0:
             first = self.species[0] if self.species else None
             if first:
-                self._quiet = True
-                self.fraction_controls[first].set_value(1.0)
-                self._quiet = False
+                with self._quiet:
+                    self.fraction_controls[first].set_value(1.0)
         self._emit()
 
     def current(self):
@@ -237,7 +228,7 @@ class TemperatureEditor(w.VBox):
         self._on_edit = on_edit
         self._on_message = on_message
         self._star = None
-        self._quiet = False
+        self._quiet = EchoGuard()
         self._species = ()
         self._sublimation = {}
         self.mode = w.ToggleButtons(options=TEMPERATURE_MODE_OPTIONS, value="power_law",
@@ -263,9 +254,8 @@ class TemperatureEditor(w.VBox):
             self._on_edit(temperature_mode="power_law", inner_edge="fixed")
         elif self._star is None:
             # Equilibrium temperatures come from the star's light: refuse rather than fail later.
-            self._quiet = True
-            self.mode.value = change["old"]
-            self._quiet = False
+            with self._quiet:
+                self.mode.value = change["old"]
             if self._on_message is not None:
                 self._on_message("equilibrium temperatures need a star: the scene has none")
         else:
@@ -282,8 +272,7 @@ class TemperatureEditor(w.VBox):
     def sync(self, ring, star):
         """Show ``ring`` (its front computed for ``star``, which may be None)."""
         self._star = star
-        self._quiet = True
-        try:
+        with self._quiet:
             self.mode.value = ring.temperature_mode
             self.follow.value = ring.inner_edge == "sublimation"
             self._sublimation = dict(ring.sublimation)
@@ -305,8 +294,6 @@ class TemperatureEditor(w.VBox):
             for name, c in self.controls.items():
                 c.set_value(t_sub[name])
             self.front.value = _front_text(ring, star)
-        finally:
-            self._quiet = False
 
 
 def _front_text(ring, star):
@@ -427,7 +414,7 @@ class RingDeck(w.VBox):
 
     def __init__(self, state):
         self.state = state
-        self.syncing = False
+        self.syncing = EchoGuard()
         self.cards = []
         self.add_button = w.Button(description="add a ring", icon="plus", layout={"width": "140px"})
         self.add_button.on_click(lambda b: _guarded(state, state.add_ring))
@@ -441,14 +428,11 @@ class RingDeck(w.VBox):
     def sync(self):
         """Match the cards to the state's rings (rebuild if their number changed)."""
         rings = self.state.scene.rings
-        self.syncing = True
-        try:
+        with self.syncing:
             if len(rings) != len(self.cards):
                 self.cards = [RingCard(self, k, r) for k, r in enumerate(rings)]
                 self.card_box.children = self.cards
             else:
                 for k, (card, ring) in enumerate(zip(self.cards, rings)):
                     card.sync(k, ring)
-        finally:
-            self.syncing = False
         self.count.value = f"<span style='color:{MUTED}'>{len(rings)} ring(s)</span>"

@@ -16,6 +16,7 @@ import numpy as np
 
 from ...data.bands import INTERFEROMETRIC_BANDS
 from ...errors import DiskExplorerError
+from ..state.echo_guard import EchoGuard
 from ..palette import MUTED
 from ..state.workdir import resolve_user_path, state_folder
 
@@ -148,7 +149,7 @@ class DataPage(w.VBox):
         for c in (self.bands, self.instruments, self.baselines):
             c.observe(lambda ch: self._on_filter(), "value")
         self.summary = w.HTML()
-        self._quiet = False
+        self._quiet = EchoGuard()
         super().__init__([
             w.HTML("<div class='dx-section-title'>load data</div>"), self.kind,
             w.HBox([self.path, self.load_button]), self.upload,
@@ -208,8 +209,7 @@ class DataPage(w.VBox):
                 w.HTML(f"<div style='font-size:12px;color:{MUTED}'>none: load files or a folder above</div>")]
         self.clear_button.disabled = not st.data_sets
         obs = st.observations
-        self._quiet = True
-        try:
+        with self._quiet:
             if obs is None:
                 self.bands.options, self.instruments.options = (), ()
                 lines = ["no interferometric data"]
@@ -230,5 +230,3 @@ class DataPage(w.VBox):
                 self.baselines.value = (min(lo, top), min(hi, top))
                 lines = [f"{k}: {n:,} points in total" for k, n in obs.n_points().items() if n]
             self.summary.value = "<div style='font-size:11px'>" + "<br>".join(html.escape(x) for x in lines) + "</div>"
-        finally:
-            self._quiet = False

@@ -24,6 +24,7 @@ from ...fitting.vector import default_bounds
 from ..state.jobs import JobRunner, Throttle
 from ..controls.param_control import unit_text
 from ..figures.base import assign as _assign
+from ..state.echo_guard import EchoGuard
 from ..palette import ACCENT, INK, MUTED, OKABE_ITO
 from .save_box import SaveBox
 from ..state.fit_setup import clean_fit_setup, doc_free
@@ -153,7 +154,7 @@ class StartPage(w.VBox):
         self.snippet = ""
         self.refine_result = None
         self._refine_start = None
-        self._quiet = False
+        self._quiet = EchoGuard()
         self._stale = True
         self._throttle = Throttle(0.2)
 
@@ -296,14 +297,11 @@ class StartPage(w.VBox):
 
     def _sync_weights(self):
         weights = self.setup["weights"]
-        self._quiet = True
-        try:
+        with self._quiet:
             for k, box in self.weights.items():
                 v = float(weights.get(k, 1.0))
                 if box.value != v:
                     box.value = v
-        finally:
-            self._quiet = False
 
     def _sync_rows(self):
         scene = self.state.scene
@@ -314,8 +312,7 @@ class StartPage(w.VBox):
             self.table.children = [r.box for r in self.rows.values()]
         setup = self.setup
         free = set(setup["free"])
-        self._quiet = True
-        try:
+        with self._quiet:
             for p, row in self.rows.items():
                 lo, hi = self.bounds_for(p)
                 prior = self.prior_for(p)
@@ -336,8 +333,6 @@ class StartPage(w.VBox):
                 if row.mean.layout.visibility != vis:
                     row.mean.layout.visibility = vis
                     row.sigma.layout.visibility = vis
-        finally:
-            self._quiet = False
 
     def build_document(self):
         """The starting-point document of the live scene with this set-up.
