@@ -9,7 +9,8 @@ import ipywidgets as w
 import numpy as np
 
 from ..physics.parameters import ParameterSpec
-from .controls.param_control import ExtendedPanel, GeometryPanel, ParamControl, StarPanel
+from .controls.model_panels import ExtendedPanel, GeometryPanel, StarPanel
+from .controls.param_control import ParamControl
 from .pages.data_page import DataPage
 from .state.data_sets import bandpass_choice, data_sets_from
 from .state.data_view import DataView

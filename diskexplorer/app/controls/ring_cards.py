@@ -11,7 +11,8 @@ from ...physics.parameters import ParameterSpec, parameter_specs
 from ...physics.ring import MODULATION_AMPLITUDE_SPEC as AMPLITUDE_SPEC
 from ...physics.ring import MODULATION_ANGLE_SPEC as ANGLE_SPEC
 from ...physics.ring import SUBLIMATION_TEMPERATURE_SPEC, Ring
-from .param_control import ParamControl, _guarded
+from .model_panels import guarded
+from .param_control import ParamControl
 from ..state.echo_guard import EchoGuard
 from ..palette import MUTED, ring_colour
 
@@ -321,8 +322,8 @@ class RingCard(w.VBox):
         self.enabled.observe(lambda ch: self._edit(enabled=ch["new"]), "value")
         self.duplicate_button = w.Button(description="duplicate", layout={"width": "80px"})
         self.remove_button = w.Button(description="remove", layout={"width": "70px"}, button_style="")
-        self.duplicate_button.on_click(lambda b: _guarded(state, lambda: state.duplicate_ring(self.index)))
-        self.remove_button.on_click(lambda b: _guarded(state, lambda: state.remove_ring(self.index)))
+        self.duplicate_button.on_click(lambda b: guarded(state, lambda: state.duplicate_ring(self.index)))
+        self.remove_button.on_click(lambda b: guarded(state, lambda: state.remove_ring(self.index)))
         self.swatch = w.HTML()
         header = w.HBox([self.swatch, self.name, self.enabled, self.duplicate_button, self.remove_button],
                         layout={"align_items": "center"})
@@ -371,7 +372,7 @@ class RingCard(w.VBox):
     def _edit(self, **changes):
         if self.deck.syncing:
             return
-        if not _guarded(self.deck.state, lambda: self.deck.state.update_ring(self.index, **changes)):
+        if not guarded(self.deck.state, lambda: self.deck.state.update_ring(self.index, **changes)):
             self.sync(self.index, self.deck.state.scene.rings[self.index])
 
     def _modulate(self):
@@ -417,7 +418,7 @@ class RingDeck(w.VBox):
         self.syncing = EchoGuard()
         self.cards = []
         self.add_button = w.Button(description="add a ring", icon="plus", layout={"width": "140px"})
-        self.add_button.on_click(lambda b: _guarded(state, state.add_ring))
+        self.add_button.on_click(lambda b: guarded(state, state.add_ring))
         self.count = w.HTML()
         self.card_box = w.VBox()
         head = w.HTML("<div class='dx-section-title'>rings</div>")

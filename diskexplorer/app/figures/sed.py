@@ -7,7 +7,7 @@ import numpy as np
 
 from ...observables.spectrum import NO_DUST_BAND, has_dust_opacity
 from ..state.model_views import SED_WAVELENGTHS, silicate_band
-from ..palette import COMPONENT_COLOURS, PIN_COLOURS, ring_colour
+from ..palette import COMPONENT_COLOURS, ring_colour
 from .base import EMPTY, assign, axis, error_segments, new_figure, swap_scale
 
 __all__ = ["SedFigure", "SpectrumFigure", "component_colours", "spectrum_wavelengths", "BAND_TITLE",

@@ -98,7 +98,6 @@ class SpeciesForm(w.VBox):
     def add(self):
         """Register the species described by the form; True on success."""
         from ...dust import register_species
-        from ...errors import DiskExplorerError
 
         name = self.name.value.strip()
         typed = self.path.value.strip()

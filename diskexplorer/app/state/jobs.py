@@ -116,7 +116,9 @@ class JobRunner:
             try:
                 result = work()
             except Exception as exc:  # noqa: BLE001 - any failure must end the job visibly
-                self.post(lambda: on_done(None, exc))
+                # Bound now: Python unbinds ``exc`` when the except block ends, before the
+                # widgets' loop runs the posted call.
+                self.post(lambda error=exc: on_done(None, error))
                 return
             self.post(lambda: on_done(result, None))
 
