@@ -21,6 +21,7 @@ import traitlets as t
 from ...errors import DiskExplorerError
 from ...fitting.paths import get_value, parameter_paths, spec_for
 from ..state.jobs import JobRunner
+from .job_buttons import JobButtons
 from ..controls.param_control import unit_text
 from ..figures.base import EMPTY, assign, axis, new_figure
 from ..palette import DELTA_CHI2_SCHEME, INK, MUTED, OKABE_ITO
@@ -151,15 +152,13 @@ class ScanPage(w.VBox):
                                     placeholder="local, serial or tcp://host:port", description="run on",
                                     layout={"width": "260px"}, style={"description_width": "48px"})
         self.scheduler.add_class("dx-scan-scheduler")
-        self.start_button = w.Button(description="start scan", button_style="primary", layout={"width": "100px"})
-        self.cancel_button = w.Button(description="cancel", disabled=True, layout={"width": "80px"})
-        self.progress = w.Label("")
-        self.progress.add_class("dx-scan-progress")
+        self.job_buttons = JobButtons(state, "start scan", self.start, self.cancel, progress_class="dx-scan-progress")
+        self.start_button = self.job_buttons.start_button
+        self.cancel_button = self.job_buttons.cancel_button
+        self.progress = self.job_buttons.progress
         self.centre_button = w.Button(description="around the model", tooltip="ranges around the current values",
                                       layout={"width": "140px"})
         self.centre_button.on_click(lambda b: self.centre())
-        self.start_button.on_click(lambda b: self.start())
-        self.cancel_button.on_click(lambda b: self.cancel())
 
         # the map
         self.sx, self.sy = bq.LinearScale(min=0.0, max=1.0), bq.LinearScale(min=0.0, max=1.0)
@@ -327,10 +326,8 @@ class ScanPage(w.VBox):
         self.draws = self._done = 0
         self._scene = scene
         self._prepare_map()
-        self.start_button.disabled = True
-        self.cancel_button.disabled = False
-        self.progress.value = "starting a local dask cluster …" if where == "local" and not self._local_running() \
-            else "scanning …"
+        self.job_buttons.started("starting a local dask cluster …" if where == "local" and not self._local_running()
+                                 else "scanning …")
         runner = self.runner
         total = xs.size * ys.size
 
@@ -356,7 +353,7 @@ class ScanPage(w.VBox):
     def cancel(self):
         """Stop the running scan after the points in flight; the map keeps what was done."""
         self.runner.cancel()
-        self.progress.value = "cancelling …"
+        self.job_buttons.cancelling()
 
     @staticmethod
     def _local_running():
@@ -365,11 +362,7 @@ class ScanPage(w.VBox):
         return local_client(start=False) is not None
 
     def _finish(self, ds, error):
-        self.start_button.disabled = False
-        self.cancel_button.disabled = True
-        if error is not None:
-            self.progress.value = "scan failed"
-            self.state.show_message(f"scan failed: {error}")
+        if not self.job_buttons.ended(error, "scan", progress="scan failed"):
             return
         self.datasets = [ds]
         self._update_map()  # now with χ²/N from the result's point count

@@ -26,6 +26,7 @@ from ..controls.param_control import unit_text
 from ..figures.base import assign as _assign
 from ..state.echo_guard import EchoGuard
 from ..palette import ACCENT, INK, MUTED, OKABE_ITO
+from .job_buttons import JobButtons
 from .save_box import SaveBox
 from ..state.fit_setup import clean_fit_setup, doc_free
 
@@ -172,18 +173,16 @@ class StartPage(w.VBox):
                         for k, label in WEIGHT_KINDS}
         for box in self.weights.values():
             box.observe(lambda ch: self._on_weight(), "value")
-        self.refine_button = w.Button(description="refine free parameters", button_style="primary",
-                                      layout={"width": "190px"})
-        self.cancel_button = w.Button(description="cancel", disabled=True, layout={"width": "80px"})
-        self.progress = w.Label("")
-        self.progress.add_class("dx-refine-progress")
+        self.job_buttons = JobButtons(state, "refine free parameters", self.start_refine, self.cancel_refine,
+                                      start_width="190px", progress_class="dx-refine-progress")
+        self.refine_button = self.job_buttons.start_button
+        self.cancel_button = self.job_buttons.cancel_button
+        self.progress = self.job_buttons.progress
         self.result_html = w.HTML()
         self.accept_button = w.Button(description="accept into the model", button_style="success",
                                       layout={"width": "180px"})
         self.discard_button = w.Button(description="discard", layout={"width": "80px"})
         self.result_actions = w.HBox([self.accept_button, self.discard_button], layout={"display": "none"})
-        self.refine_button.on_click(lambda b: self.start_refine())
-        self.cancel_button.on_click(lambda b: self.cancel_refine())
         self.accept_button.on_click(lambda b: self.accept())
         self.discard_button.on_click(lambda b: self.discard())
 
@@ -470,9 +469,7 @@ class StartPage(w.VBox):
         weights = None if all(v == 1.0 for v in weights.values()) else weights
         self._refine_start = scene
         self.discard(quiet=True)
-        self.refine_button.disabled = True
-        self.cancel_button.disabled = False
-        self.progress.value = "starting …"
+        self.job_buttons.started("starting …")
         runner = self.runner
         throttle = self._throttle
 
@@ -491,14 +488,10 @@ class StartPage(w.VBox):
     def cancel_refine(self):
         """Stop a running refinement; the best state so far is offered as its result."""
         self.runner.cancel()
-        self.progress.value = "cancelling …"
+        self.job_buttons.cancelling()
 
     def _finish(self, result, error):
-        self.refine_button.disabled = False
-        self.cancel_button.disabled = True
-        if error is not None:
-            self.progress.value = ""
-            self.state.show_message(f"refinement failed: {error}")
+        if not self.job_buttons.ended(error, "refinement"):
             return
         self.refine_result = result
         self.progress.value = f"done: {result.nfev} model evaluations"
