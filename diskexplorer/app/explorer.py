@@ -3,15 +3,14 @@ from __future__ import annotations
 
 import math
 import time
-from dataclasses import dataclass, field
 
 import ipywidgets as w
-import numpy as np
 
 from ..physics.parameters import ParameterSpec
 from .controls.model_panels import ExtendedPanel, GeometryPanel, StarPanel
 from .controls.param_control import ParamControl
 from .pages.data_page import DataPage
+from .pages.lazy_page import LazyPage
 from .state.data_sets import bandpass_choice, data_sets_from
 from .state.data_view import DataView
 from .state.debounce import Debouncer
@@ -21,8 +20,8 @@ from .figures import (Chi2Table, ClosureFigure, CorrelatedFluxFigure, CorrFluxPo
                       ImageFigure, ProfilesFigure, SedFigure, SpectrumFigure, VisAmpFigure, Vis2Figure)
 from .figures.figure_set import FigureSet
 from .figures.base import DOTS_CSS
-from .figures.sed import spectrum_wavelengths
-from .state.model_views import image, profiles, sed_curves, vis2_curve
+from .state.frames import Frame, make_frame, model_curve
+from .state.model_views import image, profiles
 from .palette import ACCENT, INK, MUTED, PAPER
 from .pages.pins_page import PinBoard, pin_colour
 from .controls.ring_cards import RingDeck
@@ -53,77 +52,6 @@ _CSS = f"""
 .dx-message {{ font-size: 12px; color: {INK}; }}
 {DOTS_CSS}
 </style>"""
-
-
-@dataclass
-class Frame:
-    """What one recomputation produced for one scene.
-
-    Attributes
-    ----------
-    scene : Scene
-    result : ComparisonResult or None
-        None without data.
-    sed : dict
-        SED components (Jy) on :data:`~diskexplorer.app.state.model_views.SED_WAVELENGTHS`.
-    spectrum : dict
-        SED components (Jy) at the spectrum figure's wavelengths.
-    curve : tuple
-        (spatial frequency Mλ, V² (nwl, n), wavelengths µm, position angle deg).
-    profiles : xarray.Dataset or None
-    image : xarray.DataArray or None
-    wavelength_vis2 : ndarray
-        Wavelengths of the V² points (µm), for correlated-flux spectra.
-    """
-
-    scene: object
-    result: object = None
-    sed: dict = field(default_factory=dict)
-    spectrum: dict = field(default_factory=dict)
-    curve: tuple = None
-    profiles: object = None
-    image: object = None
-    wavelength_vis2: np.ndarray = None
-
-
-class _LazyPage(w.VBox):
-    """A tab's page whose content is built the first time it is needed.
-
-    Parameters
-    ----------
-    build : callable
-        Returns ``(widget, parts)``: the page's content and a dict of the objects the
-        explorer exposes as attributes (its panels).
-
-    Notes
-    -----
-    Every widget created in a kernel is sent to a browser page that opens, drawn or not
-    (about 0.5 ms each in Chromium, plus the drawing): the hidden pages held about half of
-    the app's ~1300 widgets.
-    """
-
-    def __init__(self, build):
-        super().__init__()
-        self._build = build
-        self._parts = None
-
-    @property
-    def built(self):
-        """Whether the content exists."""
-        return self._parts is not None
-
-    def build(self):
-        """Build the content now (once); returns the parts."""
-        if self._parts is None:
-            self._parts = {}   # set first: a builder that reads its own parts must not recurse
-            widget, parts = self._build()
-            self._parts.update(parts)
-            self.children = [widget]
-        return self._parts
-
-    def part(self, name):
-        """One of the parts, building the page first if needed."""
-        return self.build()[name]
 
 
 class Explorer(w.VBox):
@@ -203,13 +131,13 @@ class Explorer(w.VBox):
         # Long jobs (refinement, scans) run in background threads unless ``jobs="sync"``.
         self._jobs = jobs
         # Pages other than the first of each tab bar are built when first opened or first
-        # used from code (see _LazyPage): a new browser page then receives and draws
+        # used from code (see LazyPage): a new browser page then receives and draws
         # only the widgets it shows.
-        self._lazy = {"data": _LazyPage(self._build_data_page), "pins": _LazyPage(self._build_pins_page),
-                      "spectra": _LazyPage(self._build_spectra_page),
-                      "structure": _LazyPage(self._build_structure_page),
-                      "start": _LazyPage(self._build_start_page), "scan": _LazyPage(self._build_scan_page),
-                      "derived": _LazyPage(self._build_derived_page)}
+        self._lazy = {"data": LazyPage(self._build_data_page), "pins": LazyPage(self._build_pins_page),
+                      "spectra": LazyPage(self._build_spectra_page),
+                      "structure": LazyPage(self._build_structure_page),
+                      "start": LazyPage(self._build_start_page), "scan": LazyPage(self._build_scan_page),
+                      "derived": LazyPage(self._build_derived_page)}
         self.message_area = w.HTML()
         self.message_area.add_class("dx-message")
         st.observe(self._on_message, "message")
@@ -262,7 +190,7 @@ class Explorer(w.VBox):
     # Each builder returns (page widget, {attribute: object}); the objects become the
     # attributes of the same names (``app.start_page``...). A page added to the figure
     # tabs needs an entry in PAGE_ORDER / PAGE_TITLES and, unless it is the first, a
-    # _LazyPage in __init__.
+    # LazyPage in __init__.
     def _build_interferometry_page(self):
         f = self.figures
         # |V|, correlated-flux and differential-phase figures show only when the data hold them.
@@ -327,7 +255,7 @@ class Explorer(w.VBox):
     def _on_control_tab_change(self, change):
         tabs = self.control_tabs
         page = tabs.children[tabs.selected_index] if tabs.selected_index is not None else None
-        if isinstance(page, _LazyPage) and not page.built:
+        if isinstance(page, LazyPage) and not page.built:
             page.build()
             if page is self._lazy["pins"] and self.frame is not None:
                 self._show_pin_totals()
@@ -440,24 +368,10 @@ class Explorer(w.VBox):
             self._structure_stale.add(name)   # computed when their page is shown
 
     def _curve(self, scene):
-        v = self.view
-        pa = self.state.curve_position_angle
-        freq, v2 = vis2_curve(scene, pa, v.freq_max, v.curve_wavelengths)
-        return freq, v2, v.curve_wavelengths, pa
+        return model_curve(scene, self.view, self.state.curve_position_angle)
 
     def _frame(self, scene):
-        v = self.view
-        result = None
-        if v.comparison.kinds:
-            result = v.comparison.compare(scene)
-        if result is not None and result.spectrum:
-            spectrum = result.spectrum
-        else:
-            spectrum = scene.sed_components(spectrum_wavelengths(v))
-        frame = Frame(scene=scene, result=result, sed=sed_curves(scene), spectrum=spectrum,
-                      curve=self._curve(scene),
-                      wavelength_vis2=(v.vis2["wavelength"] if v.vis2 is not None else np.zeros(0)))
-        return frame
+        return make_frame(scene, self.view, self.state.curve_position_angle)
 
     @property
     def structure_visible(self):
@@ -488,7 +402,7 @@ class Explorer(w.VBox):
 
     def _on_tab_change(self, change):
         page = self.figure_tabs.children[change["new"]] if change["new"] is not None else None
-        if isinstance(page, _LazyPage) and not page.built:
+        if isinstance(page, LazyPage) and not page.built:
             page.build()
             # A panel built now catches up with the state (deferred updates arrive on_shown).
             if page is self._lazy["start"] and self.frame is not None:

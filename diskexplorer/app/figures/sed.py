@@ -6,12 +6,11 @@ import ipywidgets as w
 import numpy as np
 
 from ...observables.spectrum import NO_DUST_BAND, has_dust_opacity
-from ..state.model_views import SED_WAVELENGTHS, silicate_band
+from ..state.model_views import DEFAULT_SPECTRUM_WAVELENGTHS, SED_WAVELENGTHS, silicate_band, spectrum_wavelengths
 from ..palette import COMPONENT_COLOURS, ring_colour
 from .base import EMPTY, assign, axis, error_segments, new_figure, swap_scale
 
-__all__ = ["SedFigure", "SpectrumFigure", "component_colours", "spectrum_wavelengths", "BAND_TITLE",
-           "DEFAULT_SPECTRUM_WAVELENGTHS"]
+__all__ = ["SedFigure", "SpectrumFigure", "component_colours", "BAND_TITLE"]
 
 #: Title of the silicate-band figure; a model without dust adds :data:`NO_DUST_BAND` to it.
 BAND_TITLE = "normalised silicate band"
@@ -95,17 +94,6 @@ class SedFigure:
 
 
 #: Wavelengths (µm) of the model spectrum while no spectrum is loaded.
-DEFAULT_SPECTRUM_WAVELENGTHS = np.linspace(7.6, 13.4, 120)
-
-
-def spectrum_wavelengths(view):
-    """Wavelengths (µm) at which the model spectrum is drawn: the loaded spectrum's, else the default."""
-    sp = view.spectrum if view is not None else None
-    if sp is None or sp["wavelength"].size == 0:
-        return DEFAULT_SPECTRUM_WAVELENGTHS
-    return sp["wavelength"].values
-
-
 class SpectrumFigure:
     """The N-band spectrum (data, model total and components) and the normalised silicate band."""
 

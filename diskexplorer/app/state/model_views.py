@@ -13,7 +13,7 @@ from ...observables.image import model_image
 from ...observables.profiles import radial_profiles
 from ...observables.spectrum import normalized_silicate_band
 
-__all__ = ["SED_WAVELENGTHS", "sed_curves", "vis2_curve", "profiles", "image", "silicate_band",
+__all__ = ["SED_WAVELENGTHS", "DEFAULT_SPECTRUM_WAVELENGTHS", "spectrum_wavelengths", "sed_curves", "vis2_curve", "profiles", "image", "silicate_band",
            "ring_outline"]
 
 #: Wavelength grid of the model SED curves, µm (optical to far infrared).
@@ -83,3 +83,15 @@ def ring_outline(radius_mas, inclination, position_angle, n=120):
     across = radius_mas * np.sin(phi) * math.cos(math.radians(inclination))
     pa = math.radians(position_angle)
     return along * math.sin(pa) + across * math.cos(pa), along * math.cos(pa) - across * math.sin(pa)
+
+
+#: Wavelengths (µm) of the model spectrum without a loaded spectrum: the N band.
+DEFAULT_SPECTRUM_WAVELENGTHS = np.linspace(7.6, 13.4, 120)
+
+
+def spectrum_wavelengths(view):
+    """Wavelengths (µm) at which the model spectrum is drawn: the loaded spectrum's, else the default."""
+    sp = view.spectrum if view is not None else None
+    if sp is None or sp["wavelength"].size == 0:
+        return DEFAULT_SPECTRUM_WAVELENGTHS
+    return sp["wavelength"].values
