@@ -55,7 +55,8 @@ INSTRUMENTS = {
 RESOLUTION = {"QT-HK": 35.0, "QT-LM": 30.0, "QT-N": 30.0}
 #: Instruments that also deliver OI_VIS (AMPTYP "correlated flux", PHITYP "differential"
 #: against every channel of the row): name -> (relative and absolute (Jy) correlated-flux
-#: error, differential-phase error in degrees).
+#: error, differential-phase error floor in degrees; the error grows as the absolute
+#: correlated-flux error over the amplitude, see :func:`simulate_observations`).
 VIS_ERRORS = {"QT-LM": (0.03, 0.02, 0.7), "QT-N": (0.05, 0.05, 2.0)}
 PHOTOMETRY_BANDS = ("B", "V", "R", "I", "J", "H", "Ks", "W1", "W2", "W3", "W4")
 SAMPLE_FILES = {
@@ -163,10 +164,14 @@ def simulate_observations(scene, rng=None):
             dphi = np.degrees(np.angle(coherent * np.conj(coherent.sum(axis=1, keepdims=True))))
             cf = np.abs(coherent)
             cf_err = cf_rel * cf + cf_abs
+            # As for closure phases: the phase of a weak coherent flux is poorly known
+            # (σ_φ ≈ σ_F / |F| rad for the additive noise), on top of the instrument's floor,
+            # so phases near a null of the correlated flux carry large errors.
+            dphi_e = np.minimum(np.hypot(dphi_err, np.degrees(cf_abs / np.maximum(cf, 1e-9))), 90.0)
             vis = dict(u=base[:, 0], v=base[:, 1], wavelength=wl, bandwidth=bw, **rows,
                        visamp=cf + rng.normal(0.0, 1.0, cf.shape) * cf_err, visamp_err=cf_err,
-                       visphi=(dphi + rng.normal(0.0, dphi_err, dphi.shape) + 180.0) % 360.0 - 180.0,
-                       visphi_err=np.full(dphi.shape, dphi_err),
+                       visphi=(dphi + rng.normal(0.0, 1.0, dphi.shape) * dphi_e + 180.0) % 360.0 - 180.0,
+                       visphi_err=dphi_e,
                        amptyp="correlated flux", phityp="differential")
         obs = ObservationSet.from_arrays(
             vis2=dict(u=base[:, 0], v=base[:, 1], wavelength=wl, bandwidth=bw, vis2=v2_obs, vis2_err=v2_err,

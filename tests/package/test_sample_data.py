@@ -58,3 +58,41 @@ def test_regeneration_is_deterministic_and_refuses_to_overwrite(tmp_path, sample
         np.testing.assert_allclose(first, committed, rtol=1e-11, atol=1e-13)
     with pytest.raises(FileExistsError, match="refusing to overwrite"):
         write_sample_data(tmp_path / "a", progress=lambda s: None)
+
+
+def test_phase_errors_follow_the_coherent_flux(sample):
+    # Real pipelines give phases of a weak coherent flux large errors (σ_φ ≈ σ_F/|F| rad);
+    # the sample's differential phases do so, as its closure phases do.
+    from scipy.stats import spearmanr
+
+    obs = sample["observations"]
+    for insname in ("QT-LM", "QT-N"):
+        vis = obs.select_instrument(insname).vis
+        amp, phi_err = vis["visamp"].values.ravel(), vis["visphi_err"].values.ravel()
+        ok = np.isfinite(amp) & np.isfinite(phi_err)
+        amp, phi_err = amp[ok], phi_err[ok]
+        # the weaker the correlated flux, the larger the phase error (σ_φ falls as |F| rises)
+        assert spearmanr(amp, phi_err).statistic < -0.9, insname
+        weak, strong = amp < np.percentile(amp, 5), amp > np.percentile(amp, 50)
+        assert np.median(phi_err[weak]) > np.median(phi_err[strong]), insname
+    # L/M has correlated fluxes near nulls: their phases are nearly unknown there
+    lm = obs.select_instrument("QT-LM").vis
+    assert np.nanmax(lm["visphi_err"].values) > 30.0
+    phi_err = obs.vis["visphi_err"].values
+    phi_err = phi_err[np.isfinite(phi_err)]
+    assert phi_err.min() >= 0.7 - 1e-9 and phi_err.max() <= 90.0
+
+
+def test_a_small_temperature_step_moves_every_reduced_chi2_by_little(sample):
+    # A 5 K step of the inner rim is well inside what the data allow; with phase errors
+    # that ignored the coherent flux, four phases near nulls flipped by ~180° and the
+    # differential-phase χ²/N jumped from 1.0 to 15.9.
+    comparison = Comparison(sample["observations"], sample["photometry"], sample["spectrum"])
+    scene = demo_scene()
+    base = comparison.compare(scene)
+    for step in (-5.0, 5.0):
+        moved = comparison.compare(scene.with_ring(0, t_in=scene.rings[0].t_in + step))
+        for kind, n in base.npoints.items():
+            if n:
+                change = abs(moved.chi2[kind] - base.chi2[kind]) / n
+                assert change < 0.3, (kind, step, change)
