@@ -121,3 +121,65 @@ def test_dust_modules_import_each_other_one_way():
             visit(m, [m])
     assert not cycles, cycles
 
+
+
+WIDGET_LIBRARIES = ("ipywidgets", "bqplot", "anywidget", "bqscales")
+HEADLESS_ROOMS = ("app/state", "app/serving/server.py")
+
+
+def _imported_libraries(path):
+    """Top-level names of every module ``path`` imports, deferred imports included."""
+    found = set()
+    for node in ast.walk(ast.parse(path.read_text())):
+        if isinstance(node, ast.ImportFrom) and node.level == 0 and node.module:
+            found.add(node.module.split(".")[0])
+        elif isinstance(node, ast.Import):
+            found.update(a.name.split(".")[0] for a in node.names)
+    return found
+
+
+def test_the_explorers_headless_room_imports_no_widget_library():
+    files = [p for room in HEADLESS_ROOMS for p in ((PACKAGE / room).rglob("*.py") if (PACKAGE / room).is_dir()
+                                                    else [PACKAGE / room])]
+    assert len(files) >= 10, files   # the room exists and the walk found it
+    offenders = {str(p.relative_to(PACKAGE)): sorted(_imported_libraries(p) & set(WIDGET_LIBRARIES)) for p in files}
+    assert not {k: v for k, v in offenders.items() if v}
+    # Imported for real, with everything they import in turn (the package's __init__ too).
+    code = ("import sys, diskexplorer.app, diskexplorer.app.state, diskexplorer.app.serving.server\n"
+            "import diskexplorer.app.state.explorer_state, diskexplorer.app.state.sessions\n"
+            "import diskexplorer.app.state.data_view, diskexplorer.app.state.jobs\n"
+            f"print(','.join(m for m in sys.modules if m.split('.')[0] in {WIDGET_LIBRARIES!r}))")
+    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True)
+    assert out.stdout.strip() == ""
+
+
+def _scene_assignments(path):
+    """Lines of ``path`` that assign ``<something>.scene = ...`` (or setattr(..., "scene", ...))."""
+    lines = []
+    for node in ast.walk(ast.parse(path.read_text())):
+        targets = node.targets if isinstance(node, ast.Assign) else [node.target] if isinstance(
+            node, (ast.AugAssign, ast.AnnAssign)) else []
+        for t in targets:
+            if isinstance(t, ast.Attribute) and t.attr == "scene" and not (
+                    isinstance(t.value, ast.Name) and t.value.id == "self"):
+                lines.append(node.lineno)
+        if isinstance(node, ast.Call) and getattr(node.func, "id", None) == "setattr" and len(node.args) >= 2 \
+                and isinstance(node.args[1], ast.Constant) and node.args[1].value == "scene":
+            lines.append(node.lineno)
+    return lines
+
+
+def test_only_the_state_assigns_its_scene():
+    # Every change of the scene goes through an ExplorerState method (which builds a new,
+    # validated scene); pages, controls and the explorer call those methods.
+    state_module = PACKAGE / "app" / "state" / "explorer_state.py"
+    assert "self.scene = " in state_module.read_text()
+    offenders = {str(p.relative_to(PACKAGE)): _scene_assignments(p) for p in (PACKAGE / "app").rglob("*.py")
+                 if p != state_module}
+    assert not {k: v for k, v in offenders.items() if v}, offenders
+
+
+def test_scene_assignment_finder_finds_one(tmp_path):
+    probe = tmp_path / "probe.py"
+    probe.write_text("def f(state, s):\n    state.scene = s\n    setattr(state, 'scene', s)\n    self.scene = s\n")
+    assert _scene_assignments(probe) == [2, 3]
