@@ -12,6 +12,7 @@ from __future__ import annotations
 import argparse
 import os
 import sys
+import warnings
 from pathlib import Path
 
 __all__ = ["main"]
@@ -312,7 +313,11 @@ def main(argv=None):
     args = build_parser().parse_args(argv)
     command = args.command
     try:
-        return args.func(args)
+        with warnings.catch_warnings():
+            # A reader's warning already names its file and table: one line, without the
+            # Python source line that the default display adds.
+            warnings.showwarning = lambda message, category, *rest, **kw: _warn(command, message, category)
+            return args.func(args)
     except FileExistsError as exc:
         print(f"diskexplorer {command}: {_one_line(exc)}", file=sys.stderr)
         return 2
@@ -320,6 +325,17 @@ def main(argv=None):
         # ValueError: numpy/astropy refusing a file's content after our own checks passed.
         print(f"diskexplorer {command}: {_one_line(exc)}", file=sys.stderr)
         return 1
+
+
+def _warn(command, message, category):
+    """Print one warning as one line on stderr: ``diskexplorer COMMAND: warning: ...``."""
+    from .errors import DiskExplorerError
+
+    text = " ".join(str(message).split())
+    # Our own warnings speak for themselves; a library's says which kind it is.
+    ours = category.__module__.split(".")[0] == "diskexplorer" or issubclass(category, DiskExplorerError)
+    kind = "warning" if ours else f"warning ({category.__name__})"
+    print(f"diskexplorer {command}: {kind}: {text}", file=sys.stderr, flush=True)
 
 
 def _one_line(exc):
