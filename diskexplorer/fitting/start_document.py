@@ -42,16 +42,11 @@ import math
 import os
 
 from ..errors import SeedError
-from ..physics.parameters import parameter_specs
-from ..physics.ring import Ring
-from ..physics.star import Star
 from .data_description import describe_data
-from .dust_codec import dust_to_document
-from .paths import canonical_path, get_value, parameter_paths, spec_for, sublimation_species
-from .priors import as_prior, default_prior
-from .quantities import quantity
+from .scene_codec import scene_entries
+from .paths import canonical_path
 from .start_schema import SCHEMA_ID
-from .vector import FreeParameter, default_bounds, validate_bounds
+from .vector import FreeParameter
 
 __all__ = ["export_start", "write_start", "document_entry"]
 
@@ -63,48 +58,6 @@ def _version():
         return version("diskexplorer")
     except Exception:  # not installed (running from a checkout)
         return "unknown"
-
-
-def _entry(scene, path, free, bounds, priors):
-    spec = spec_for(path)
-    value = get_value(scene, path)
-    if path in bounds:
-        lo, hi = (float(b) for b in bounds[path])
-    else:
-        lo, hi = default_bounds(spec, value)
-    validate_bounds(spec, lo, hi, path)
-    if not lo <= value <= hi:
-        unit = f" {spec.unit}" if spec.unit else ""
-        raise SeedError(f"{path}: value {value:g}{unit} is outside its bounds [{lo:g}, {hi:g}]{unit}")
-    prior = as_prior(priors[path]) if path in priors else default_prior(spec, lo)
-    prior.check_bounds(lo, hi, f"{path}: ")
-    return {"value": value, "unit": spec.unit, "free": path in free, "bounds": [lo, hi],
-            "prior": prior.as_dict()}
-
-
-def _equilibrium_entries(scene, k, entries):
-    """The temperature settings of ring ``k`` (nothing for a power-law ring: documents unchanged).
-
-    An equilibrium ring records its mode, its inner-edge choice, each species'
-    sublimation temperature as a parameter entry (``rings.<k>.sublimation.<species>``) and,
-    when its inner edge follows the front, the front's radius for the reader (derived:
-    not read back).
-    """
-    ring = scene.rings[k]
-    if not ring.is_equilibrium:
-        return {}
-    out = {"temperature_mode": ring.temperature_mode, "inner_edge": ring.inner_edge,
-           "sublimation": {name: entries[f"rings.{k}.sublimation.{name}"] for name in sublimation_species(ring)}}
-    if ring.inner_edge == "sublimation" and scene.star is not None:
-        out["sublimation_front"] = quantity(ring.sublimation_front(scene.star), "au")
-    return out
-
-
-def _photosphere(table):
-    if table is None:
-        return None
-    return {"wavelength": [float(x) for x in table.wavelength], "flux": [float(x) for x in table.flux],
-            "reference_distance": quantity(table.reference_distance, "pc"), "label": table.label}
 
 
 def _judgement(result):
@@ -174,30 +127,7 @@ def export_start(scene, free=(), bounds=None, priors=None, data=None, comparison
     bounds, priors = given_bounds, given_priors
     if not (isinstance(accuracy, int) and accuracy >= 1):
         raise SeedError(f"settings.accuracy: {accuracy!r}; expected an integer ≥ 1")
-    entries = {p: _entry(scene, p, free, bounds, priors) for p in parameter_paths(scene)}
-    doc_scene = {}
-    for path, entry in entries.items():
-        head, _, rest = path.partition(".")
-        if head in ("star", "rings"):
-            continue
-        if rest:
-            doc_scene.setdefault(head, {})[rest] = entry
-        else:
-            doc_scene[head] = entry
-    star = scene.star
-    if star is None:
-        doc_scene["star"] = None
-    else:
-        doc_scene["star"] = {**{n: entries[f"star.{n}"] for n in parameter_specs(Star)},
-                             "uniform_disk": bool(star.uniform_disk),
-                             "photosphere": _photosphere(star.photosphere)}
-    rings = []
-    for k, ring in enumerate(scene.rings):
-        rings.append({"name": ring.name, "enabled": bool(ring.enabled),
-                      **{n: entries[f"rings.{k}.{n}"] for n in parameter_specs(Ring)},
-                      "dust": dust_to_document(ring.dust, f"rings.{k}.dust"),
-                      **_equilibrium_entries(scene, k, entries)})
-    doc_scene["rings"] = rings
+    doc_scene = scene_entries(scene, free, bounds, priors)
     doc = {"schema": SCHEMA_ID,
            "created": _dt.datetime.now(_dt.timezone.utc).replace(microsecond=0).isoformat().replace("+00:00", "Z"),
            "software": f"diskexplorer {_version()}"}

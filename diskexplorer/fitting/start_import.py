@@ -15,25 +15,18 @@ from __future__ import annotations
 
 import copy
 import json
-import math
 import os
 import re
 from dataclasses import dataclass, field
 
-from ..errors import DustError, ParameterError, SeedError
+from ..errors import SeedError
 from ..observables.scene import Scene
-from ..physics.parameters import parameter_specs
-from ..physics.ring import SUBLIMATION_TEMPERATURE_SPEC, Ring
-from ..physics.star import PhotosphereTable, Star
 from .data_description import DataDescription
-from .dust_codec import dust_from_document
-from .paths import SCENE_GROUPS, sublimation_species
-from .priors import Prior, as_prior, default_prior
+from .scene_codec import scene_from_entries
 from .probability import make_log_probability
-from .quantities import to_internal, unit_factor
 from .start_schema import SCHEMA_ID, SCHEMA_VERSION, load_schema
-from .vector import (FreeParameter, default_bounds, initial_walkers, log_prior, scene_from_vector,
-                     validate_bounds, vector_from_scene)
+from .vector import (initial_walkers, log_prior, scene_from_vector,
+                     vector_from_scene)
 
 __all__ = ["StartingPoint", "read_start", "validate_document"]
 
@@ -205,113 +198,6 @@ def validate_document(doc, where="document"):
 
 
 # --------------------------------------------------------------------------- meaning
-def _fmt(x):
-    return f"{x:g}"
-
-
-def _parameter(entry, path, spec):
-    """FreeParameter (with the free flag) of one entry, values converted to declared units."""
-    unit = entry["unit"]
-    shown = f" {unit}" if unit else ""
-    value = to_internal(entry["value"], unit, spec.unit, path)
-    if not (math.isfinite(value) and spec.contains(value)):
-        raise SeedError(f"{path}: value {_fmt(entry['value'])}{shown} is outside the physically allowed "
-                        f"range {spec.describe_range()} ({spec.description})")
-    if "bounds" in entry:
-        lo, hi = to_internal(entry["bounds"], unit, spec.unit, path)
-        blo, bhi = entry["bounds"]
-    else:
-        lo, hi = default_bounds(spec, value)
-        blo, bhi = lo, hi
-        shown = f" {spec.unit}" if spec.unit else ""
-        if unit != spec.unit:
-            blo, bhi = to_internal([lo, hi], spec.unit, unit, path)
-            shown = f" {unit}" if unit else ""
-    validate_bounds(spec, lo, hi, path)
-    if not lo <= value <= hi:
-        raise SeedError(f"{path}: value {_fmt(entry['value'])}{shown} is outside its bounds "
-                        f"[{_fmt(blo)}, {_fmt(bhi)}]{shown}")
-    if "prior" in entry:
-        p = dict(entry["prior"])
-        if p.get("kind") == "normal":
-            mean = to_internal(p["mean"], unit, spec.unit, f"{path}.prior.mean")
-            sigma = unit_factor(p["mean"], p["sigma"], unit, spec.unit, f"{path}.prior.sigma")
-            prior = Prior("normal", mean, sigma)
-        else:
-            prior = as_prior(p)
-    else:
-        prior = default_prior(spec, lo)
-    prior.check_bounds(lo, hi, f"{path}.prior: ")
-    return FreeParameter(path, value, spec.unit, lo, hi, prior, spec.scale), bool(entry.get("free", False))
-
-
-def _photosphere(entry, where):
-    if entry is None:
-        return None
-    ref = to_internal(entry["reference_distance"]["value"], entry["reference_distance"]["unit"], "pc",
-                      f"{where}.reference_distance")
-    try:
-        return PhotosphereTable(entry["wavelength"], entry["flux"], ref,
-                                label=entry.get("label", "photosphere table"))
-    except ParameterError as exc:
-        raise SeedError(f"{where}: {exc}") from None
-
-
-def _build(doc, base_dir):
-    sdoc = doc["scene"]
-    params, free_paths = {}, []
-
-    def take(entry, path, spec):
-        fp, is_free = _parameter(entry, path, spec)
-        params[path] = fp
-        if is_free:
-            free_paths.append(path)
-        return fp.value
-
-    scene_kw = {}
-    for name, spec in parameter_specs(Scene).items():
-        path = SCENE_GROUPS.get(name, name)
-        head, _, rest = path.partition(".")
-        entry = sdoc[head][rest] if rest else sdoc[head]
-        scene_kw[name] = take(entry, path, spec)
-    star = None
-    if sdoc["star"] is not None:
-        st = sdoc["star"]
-        kw = {n: take(st[n], f"star.{n}", s) for n, s in parameter_specs(Star).items()}
-        try:
-            star = Star(**kw, uniform_disk=st["uniform_disk"],
-                        photosphere=_photosphere(st["photosphere"], "star.photosphere"))
-        except ParameterError as exc:
-            raise SeedError(f"star: {exc}") from None
-    rings = []
-    for k, rd in enumerate(sdoc["rings"]):
-        kw = {n: take(rd[n], f"rings.{k}.{n}", s) for n, s in parameter_specs(Ring).items()}
-        if not kw["r_in"] < kw["r_out"]:
-            raise SeedError(f"rings.{k}.r_in: {_fmt(rd['r_in']['value'])} {rd['r_in']['unit']} must be "
-                            f"smaller than rings.{k}.r_out = {_fmt(rd['r_out']['value'])} {rd['r_out']['unit']}")
-        dust = dust_from_document(rd["dust"], f"rings.{k}.dust", base_dir)
-        # Temperature settings of an equilibrium ring; absent: the power law.
-        kw["temperature_mode"] = rd.get("temperature_mode", "power_law")
-        kw["inner_edge"] = rd.get("inner_edge", "fixed")
-        kw["sublimation"] = {name: take(entry, f"rings.{k}.sublimation.{name}", SUBLIMATION_TEMPERATURE_SPEC)
-                             for name, entry in rd.get("sublimation", {}).items()}
-        try:
-            rings.append(Ring(**kw, dust=dust, name=rd["name"], enabled=rd["enabled"]))
-        except (ParameterError, DustError) as exc:
-            raise SeedError(f"rings.{k}: {exc}") from None
-        known = sublimation_species(rings[-1])
-        for name in kw["sublimation"]:
-            if name not in known:
-                raise SeedError(f"rings.{k}.sublimation.{name}: the ring's dust has no such species "
-                                f"(species with sublimation temperatures: {', '.join(known) or 'none'}; "
-                                "an entry needs temperature_mode 'equilibrium')")
-    try:
-        scene = Scene(**scene_kw, star=star, rings=rings)
-    except ParameterError as exc:
-        raise SeedError(f"scene: {exc}") from None
-    return scene, params, [params[p] for p in free_paths]
-
-
 def read_start(path_or_dict):
     """Read and check a starting-point document.
 
@@ -340,7 +226,7 @@ def read_start(path_or_dict):
     doc, base_dir, where = _load(path_or_dict)
     validate_document(doc, where)
     try:
-        scene, params, free = _build(doc, base_dir)
+        scene, params, free = scene_from_entries(doc["scene"], base_dir)
     except SeedError as exc:
         if where != "document":
             raise SeedError(f"{where}: {exc}") from None

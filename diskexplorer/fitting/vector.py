@@ -15,7 +15,7 @@ from ..errors import ParameterError, SeedError
 from .paths import canonical_path, get_value, set_values, spec_for
 from .priors import Prior, as_prior, default_prior
 
-__all__ = ["FreeParameter", "default_bounds", "validate_bounds", "free_parameters", "vector_from_scene",
+__all__ = ["FreeParameter", "default_bounds", "validate_bounds", "resolve_limits", "free_parameters", "vector_from_scene",
            "scene_from_vector", "log_prior", "initial_walkers", "in_bounds"]
 
 
@@ -93,6 +93,61 @@ def validate_bounds(spec, lo, hi, where):
                         f"{spec.describe_range()}")
 
 
+def resolve_limits(spec, value, bounds=None, prior=None, path="", check=True):
+    """The bounds and prior of one parameter: the ones given, else the declared defaults.
+
+    The one rule that starting-point documents, free-parameter lists and the explorer's
+    starting-point page share.
+
+    Parameters
+    ----------
+    spec : ParameterSpec
+    value : float
+        The current value, in the declared unit.
+    bounds : (float, float), optional
+        Given bounds in the declared unit. Default: the declared bounds widened to hold
+        ``value`` (:func:`default_bounds`).
+    prior : prior, optional
+        Anything :func:`~diskexplorer.fitting.priors.as_prior` reads. Default: log-uniform
+        for parameters declared on a log scale, else uniform, on the bounds.
+    path : str
+        For messages.
+    check : bool
+        Refuse bounds outside the valid range, a value outside the bounds and a prior that
+        does not fit them (documents); False only resolves (a page showing a set-up).
+
+    Returns
+    -------
+    (float, float, Prior)
+
+    Raises
+    ------
+    SeedError
+        With ``check``, as listed above.
+    """
+    if bounds is not None:
+        lo, hi = (float(b) for b in bounds)
+    else:
+        lo, hi = default_bounds(spec, value)
+    if check:
+        validate_bounds(spec, lo, hi, path)
+        if not lo <= value <= hi:
+            unit = f" {spec.unit}" if spec.unit else ""
+            raise SeedError(f"{path}: value {value:g}{unit} is outside its bounds [{lo:g}, {hi:g}]{unit}")
+    if prior is not None:
+        try:
+            prior = as_prior(prior)
+        except SeedError:
+            if check:
+                raise
+            prior = None   # shown as the default; the document built from it says what is wrong
+    if prior is None:
+        prior = default_prior(spec, lo)
+    if check:
+        prior.check_bounds(lo, hi, f"{path}: ")
+    return lo, hi, prior
+
+
 def free_parameters(scene, free, bounds=None, priors=None):
     """Describe the free parameters of a fit of ``scene``.
 
@@ -130,23 +185,9 @@ def free_parameters(scene, free, bounds=None, priors=None):
         _check_used(scene, path)
         spec = spec_for(path)
         value = get_value(scene, path)
-        if path in bounds:
-            lo, hi = (float(b) for b in bounds[path])
-        elif given is not None:
-            lo, hi = given.lo, given.hi
-        else:
-            lo, hi = default_bounds(spec, value)
-        validate_bounds(spec, lo, hi, path)
-        if not lo <= value <= hi:
-            unit = f" {spec.unit}" if spec.unit else ""
-            raise SeedError(f"{path}: value {value:g}{unit} is outside its bounds [{lo:g}, {hi:g}]{unit}")
-        if path in priors:
-            prior = as_prior(priors[path])
-        elif given is not None:
-            prior = given.prior
-        else:
-            prior = default_prior(spec, lo)
-        prior.check_bounds(lo, hi, f"{path}: ")
+        given_bounds = bounds.get(path, (given.lo, given.hi) if given is not None else None)
+        given_prior = priors.get(path, given.prior if given is not None else None)
+        lo, hi, prior = resolve_limits(spec, value, given_bounds, given_prior, path)
         out.append(FreeParameter(path, value, spec.unit, lo, hi, prior, spec.scale))
     unused = (set(bounds) | set(priors)) - seen
     if unused:

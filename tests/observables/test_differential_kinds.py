@@ -256,7 +256,7 @@ def test_report_tables_hold_only_their_points_and_figures_follow_the_kinds(tmp_p
 def test_weights_must_name_known_kinds():
     from diskexplorer.errors import ParameterError
     from diskexplorer.fitting.data_description import DataDescription
-    from diskexplorer.fitting.start_import import SeedError
+    from diskexplorer.errors import SeedError
 
     with pytest.raises(ParameterError, match="'visphi'.*known: vis2"):
         Comparison(differential_set(lopsided_scene()), weights={"visphi": 2.0})

@@ -19,8 +19,8 @@ import ipywidgets as w
 from ...errors import DiskExplorerError
 from ...fitting.data_description import DataDescription
 from ...fitting.paths import get_value, parameter_paths, spec_for
-from ...fitting.priors import PRIOR_KINDS, default_prior
-from ...fitting.vector import default_bounds
+from ...fitting.priors import PRIOR_KINDS
+from ...fitting.vector import resolve_limits
 from ..state.jobs import JobRunner, Throttle
 from ..controls.param_control import unit_text
 from ..figures.base import assign as _assign
@@ -233,17 +233,16 @@ class StartPage(w.VBox):
 
     def bounds_for(self, path):
         """(lo, hi) of ``path``: the user's, else the declared default around the current value."""
-        b = self.setup["bounds"].get(path)
-        if b is not None:
-            return float(b[0]), float(b[1])
-        return default_bounds(spec_for(path), get_value(self.state.scene, path))
+        return self._limits(path)[:2]
 
     def prior_for(self, path):
         """The prior of ``path`` as a dict (the user's, else the declared default)."""
-        p = self.setup["priors"].get(path)
-        if p is not None:
-            return dict(p)
-        return default_prior(spec_for(path), self.bounds_for(path)[0]).as_dict()
+        return self._limits(path)[2].as_dict()
+
+    def _limits(self, path):
+        setup = self.setup
+        return resolve_limits(spec_for(path), get_value(self.state.scene, path), setup["bounds"].get(path),
+                              setup["priors"].get(path), path, check=False)
 
     def _set_setup(self, **changes):
         self.state.set_fit_setup({**self.setup, **changes})
