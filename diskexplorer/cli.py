@@ -106,7 +106,11 @@ def _add_species(args):
 
 
 def _read_session_inputs(path):
-    """Scene and data description of an explorer session file, or None if ``path`` is not one."""
+    """Scene and data description of an explorer session file, or None if ``path`` is not one.
+
+    The data are described as the explorer judged them: its files with their band,
+    instrument and baseline filters and channel-bandpass switches.
+    """
     import json
 
     try:
@@ -116,24 +120,13 @@ def _read_session_inputs(path):
         return None  # let the starting-point reader report what is wrong
     if not (isinstance(doc, dict) and str(doc.get("schema", "")).startswith("diskexplorer-session/")):
         return None
-    # Deferred and only for sessions: the app package imports the widget libraries.
-    from .app.state.sessions import read_session, scene_from_dict
-    from .fitting.data_description import DataDescription
+    from .fitting.data_description import describe_loaded_data
+    from .fitting.session_document import decode_session, read_session
 
-    doc = read_session(path)
-    data = dict(doc.get("data") or {})
-    filters = doc.get("filters") or {}
-    oifits = data.get("oifits") or []
-    if isinstance(oifits, str):
-        oifits = [oifits]
-    data["oifits"] = [{"path": p, "bands": list(filters.get("bands") or []) or None,
-                       "instruments": list(filters.get("instruments") or []) or None} for p in oifits]
-    desc = DataDescription.from_dict({k: v for k, v in data.items() if k in ("oifits", "photometry", "spectrum")
-                                      and v})
-    lo, hi = (filters.get("baseline_range_m") or [0.0, None])
-    if (lo or 0.0) > 0.0 or hi is not None:
-        print("diskexplorer evaluate: note: the session's baseline filter is not applied", flush=True)
-    return scene_from_dict(doc["scene"]), desc
+    session = decode_session(read_session(path), base_dir=Path(path).resolve().parent, where=f"session {path}")
+    desc = describe_loaded_data({k: v for k, v in session.data.items() if v}, session.bands, session.instruments,
+                                session.baseline_range, session.bandpass_off)
+    return session.scene, desc
 
 
 def _cmd_evaluate(args):

@@ -16,7 +16,8 @@ from .data.bands import band_range
 from .data.observations import KINDS, ObservationSet
 from .data.oifits_write import write_oifits
 
-__all__ = ["make_observations", "make_oifits", "assert_observations_equal", "synthetic_scene", "synthetic_data"]
+__all__ = ["make_observations", "make_oifits", "assert_observations_equal", "assert_scenes_equal",
+           "synthetic_scene", "synthetic_data"]
 
 # An invented, non-redundant station layout (east, north, up; m) for synthetic arrays.
 _STATIONS = np.array([[0.0, 0.0, 0.0], [32.0, 14.0, 0.0], [-21.0, 47.0, 0.0], [58.0, -36.0, 0.0],
@@ -293,3 +294,43 @@ def synthetic_data(scene=None, seed: int = 1) -> dict:
     spec = truth.sed(spec_wl)
     spectrum = spectrum_dataset(spec_wl, spec * (1 + rng.normal(0, 0.02, spec.shape)), 0.03 * spec)
     return {"observations": observations, "photometry": photometry, "spectrum": spectrum}
+
+
+def assert_scenes_equal(actual, expected, where="scene"):
+    """Assert that two scenes hold the same model, naming the first field that differs.
+
+    Scenes, stars, rings and mixtures compare field by field; tabulated opacities and
+    photospheres (which compare by identity) by their columns, label and reference
+    distance. Numbers must be equal exactly: a codec that loses a bit fails.
+
+    Raises
+    ------
+    AssertionError
+        ``"<path>: <actual> != <expected>"`` for the first difference.
+    """
+    import dataclasses
+
+    def same(a, b, at):
+        if type(a) is not type(b):
+            raise AssertionError(f"{at}: {type(a).__name__} != {type(b).__name__}")
+        if dataclasses.is_dataclass(a):
+            for f in dataclasses.fields(a):
+                same(getattr(a, f.name), getattr(b, f.name), f"{at}.{f.name}")
+        elif isinstance(a, (tuple, list)):
+            if len(a) != len(b):
+                raise AssertionError(f"{at}: {len(a)} items != {len(b)} items")
+            for k, (x, y) in enumerate(zip(a, b)):
+                same(x, y, f"{at}[{k}]")
+        elif isinstance(a, dict):
+            same(sorted(a.items()), sorted(b.items()), at)
+        elif hasattr(a, "wavelength") and not isinstance(a, np.ndarray):   # κ or photosphere table
+            for name in ("wavelength", "values", "flux", "label", "reference_distance"):
+                if hasattr(a, name):
+                    same(getattr(a, name), getattr(b, name), f"{at}.{name}")
+        elif isinstance(a, np.ndarray):
+            if a.shape != b.shape or not np.array_equal(a, b):
+                raise AssertionError(f"{at}: arrays differ ({a!r} != {b!r})")
+        elif a != b:
+            raise AssertionError(f"{at}: {a!r} != {b!r}")
+
+    same(actual, expected, where)

@@ -33,7 +33,7 @@ from dataclasses import dataclass, field
 
 from ..errors import SeedError
 
-__all__ = ["DataDescription", "ERROR_FLOOR_KEYS", "describe_data"]
+__all__ = ["describe_loaded_data", "DataDescription", "ERROR_FLOOR_KEYS", "describe_data"]
 
 #: Keyword arguments of :meth:`ObservationSet.with_error_floor` a document may set.
 ERROR_FLOOR_KEYS = ("vis2_relative", "vis2_absolute", "phase", "amplitude_relative", "combine")
@@ -87,6 +87,44 @@ def _baseline_range(value, where):
     if not (math.isfinite(lo) and lo >= 0) or (hi is not None and not (math.isfinite(hi) and hi > lo)):
         raise bad
     return [lo, hi]
+
+
+def describe_loaded_data(sources, bands=(), instruments=(), baseline_range=(0.0, math.inf), bandpass_off=(),
+                         weights=None):
+    """The description of data loaded from files and filtered as the explorer does it.
+
+    The one translation of the explorer's data (its files, band, instrument and baseline
+    filters and per-file channel-bandpass switches) into a :class:`DataDescription`: the
+    starting-point page writes it into documents and ``diskexplorer evaluate`` reads a
+    session through it.
+
+    Parameters
+    ----------
+    sources : dict
+        ``{"oifits": [paths], "photometry": path or None, "spectrum": path or None}``.
+    bands, instruments : sequence of str
+        Kept for every OIFITS file (empty keeps all).
+    baseline_range : (float, float)
+        Projected baselines kept, m; ``(0, inf)`` keeps all.
+    bandpass_off : collection of str
+        OIFITS paths whose model is taken at the channel centres.
+    weights : dict, optional
+        Weight per data kind.
+
+    Returns
+    -------
+    DataDescription
+    """
+    lo, hi = (float(b) for b in baseline_range)
+    baselines = [lo, hi if math.isfinite(hi) else None] if (lo > 0 or math.isfinite(hi)) else None
+    off = {str(p) for p in bandpass_off}
+    oifits = sources.get("oifits") or []
+    oifits = [oifits] if isinstance(oifits, str) else oifits
+    return DataDescription.from_dict({
+        "oifits": [{"path": str(p), "bands": list(bands) or None, "instruments": list(instruments) or None,
+                    "baseline_range": baselines, "bandpass": str(p) not in off} for p in oifits],
+        "photometry": sources.get("photometry"), "spectrum": sources.get("spectrum"),
+        "weights": dict(weights or {})})
 
 
 @dataclass(frozen=True)

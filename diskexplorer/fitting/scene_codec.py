@@ -23,6 +23,7 @@ bounds, naming the entry's path in each error.
 """
 from __future__ import annotations
 
+import dataclasses
 import math
 
 from ..errors import DustError, ParameterError, SeedError
@@ -243,6 +244,12 @@ def scene_from_entries(sdoc, base_dir=None):
                 raise SeedError(f"rings.{k}.sublimation.{name}: the ring's dust has no such species "
                                 f"(species with sublimation temperatures: {', '.join(known) or 'none'}; "
                                 "an entry needs temperature_mode 'equilibrium')")
+        # Every species' temperature is written (a fit may free any of them); one equal to
+        # the species' declared value is not an override, so the scene reads back equal.
+        declared = {s.name: s.sublimation_temperature for s in rings[-1].species()}
+        overrides = {n: v for n, v in kw["sublimation"].items() if v != declared.get(n)}
+        if len(overrides) != len(kw["sublimation"]):
+            rings[-1] = dataclasses.replace(rings[-1], sublimation=overrides)
     try:
         scene = Scene(**scene_kw, star=star, rings=rings)
     except ParameterError as exc:

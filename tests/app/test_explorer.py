@@ -289,15 +289,16 @@ def test_session_save_confirm_restore(app, tmp_path):
     app.geometry_panel.controls["inclination"].slider.value = 33.0
     assert panel.save()
     doc = json.loads(path.read_text())
-    assert doc["scene"]["inclination"] == pytest.approx(33.0) and doc["pins"][0]["name"] == "first"
+    assert doc["scene"]["geometry"]["inclination"]["value"] == pytest.approx(33.0)
+    assert doc["pins"][0]["name"] == "first"
     app.geometry_panel.controls["inclination"].slider.value = 12.0
     assert not panel.save()  # exists: asks first, file untouched
     assert panel.confirm.layout.display != "none"
-    assert json.loads(path.read_text())["scene"]["inclination"] == pytest.approx(33.0)
+    assert json.loads(path.read_text())["scene"]["geometry"]["inclination"]["value"] == pytest.approx(33.0)
     panel.cancel_button.click()
     assert panel.confirm.layout.display == "none"
     panel.overwrite_button.click()
-    assert json.loads(path.read_text())["scene"]["inclination"] == pytest.approx(12.0)
+    assert json.loads(path.read_text())["scene"]["geometry"]["inclination"]["value"] == pytest.approx(12.0)
     panel.path.value = str(path)
     path.write_text(json.dumps(doc))
     assert panel.restore()

@@ -91,18 +91,17 @@ def test_start_page_weighs_the_new_kinds_and_exports_them(app):
 
 
 def test_a_session_keeps_the_bandpass_switch(tmp_path):
-    from diskexplorer.app.state.sessions import read_session, session_to_dict, write_session
-    from diskexplorer.app.pages.session_box import restore_session
+    from diskexplorer.app.state.sessions import decode_session, read_session, session_of_state, write_session
 
     a = explore(scheduler=ManualScheduler(), workdir=tmp_path)
     a.flush()
     a.data_page.set_bandpass(1, False)
     a.flush()
     off = a.judgement().total
-    write_session(tmp_path / "s.json", session_to_dict(a.state))
+    write_session(tmp_path / "s.json", session_of_state(a.state))
     b = explore(scheduler=ManualScheduler(), workdir=tmp_path)
     b.flush()
-    restore_session(b.state, read_session(tmp_path / "s.json"))
+    b.state.restore_session(decode_session(read_session(tmp_path / "s.json")))
     b.flush()
     assert [d.bandpass for d in b.state.data_sets if d.kind == "oifits"] == [True, False, True]
     assert b.judgement().total == pytest.approx(off, rel=1e-12)

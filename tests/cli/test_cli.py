@@ -265,22 +265,44 @@ def test_sample_data_writes_and_refuses_overwrite(tmp_path, capsys):
 
 
 # --------------------------------------------------------------------------- sessions
-def test_evaluate_reads_an_explorer_session(tmp_path, capsys):
-    import json
+def _session_file(tmp_path, baseline_range=(0.0, float("inf")), bandpass_off=()):
+    from diskexplorer.fitting.session_document import session_document, write_session
 
-    session = pytest.importorskip("diskexplorer.app.state.sessions")
-    doc = {"schema": session.SESSION_SCHEMA, "scene": session.scene_to_dict(demo_scene()),
-           "data": {"oifits": [str(SAMPLE / SAMPLE_FILES["oifits"][0])],
-                    "photometry": str(SAMPLE / SAMPLE_FILES["photometry"])},
-           "filters": {"bands": [], "instruments": [], "baseline_range_m": [0.0, None]}, "view": {}, "pins": []}
-    path = tmp_path / "session.json"
-    path.write_text(json.dumps(doc))
+    doc = session_document(demo_scene(), data={"oifits": [str(SAMPLE / SAMPLE_FILES["oifits"][0])],
+                                               "photometry": str(SAMPLE / SAMPLE_FILES["photometry"])},
+                           baseline_range=baseline_range, bandpass_off=bandpass_off)
+    return write_session(tmp_path / "session.json", doc)
+
+
+def test_evaluate_reads_an_explorer_session(tmp_path, capsys):
+    path = _session_file(tmp_path)
     out = tmp_path / "r"
     code = main(["evaluate", str(path), "--out", str(out), "--image-wavelengths", "10", "--npix", "32"])
     assert code == 0
     text = capsys.readouterr().out
     assert "reading the session" in text and "photometry" in text
     assert (out / "residuals_vis2.csv").exists() and not (out / "residuals_spectrum.csv").exists()
+
+
+def test_evaluate_applies_a_sessions_baseline_filter_and_bandpass_switch(tmp_path):
+    # The session is judged as the explorer judged it: its baseline filter and its
+    # channel-bandpass switches reach the data description (no second, partial copy).
+    import pandas as pd
+
+    rows = {}
+    for name, kw in (("all", {}), ("short", {"baseline_range": (0.0, 40.0)})):
+        folder = tmp_path / name
+        folder.mkdir()
+        path = _session_file(folder, **kw)
+        assert main(["evaluate", str(path), "--out", str(folder / "r"), "--image-wavelengths", "10",
+                     "--npix", "32"]) == 0
+        rows[name] = len(pd.read_csv(folder / "r" / "residuals_vis2.csv", comment="#"))
+    assert 0 < rows["short"] < rows["all"]
+    from diskexplorer.cli import _read_session_inputs
+
+    oifits = str(SAMPLE / SAMPLE_FILES["oifits"][0])
+    scene, desc = _read_session_inputs(_session_file(tmp_path, bandpass_off=[oifits]))
+    assert scene == demo_scene() and desc.oifits[0]["bandpass"] is False
 
 
 # --------------------------------------------------------------------------- evaluate: your own data

@@ -7,7 +7,7 @@ import pytest
 
 import diskexplorer.dust  # noqa: F401
 from diskexplorer import Ring, Scene, Star, export_start, read_start, refine
-from diskexplorer.app.state.sessions import scene_from_dict, scene_to_dict
+from diskexplorer.fitting.scene_codec import scene_entries, scene_from_entries
 from diskexplorer.errors import SeedError
 from diskexplorer.fitting.paths import canonical_path, get_value, parameter_paths, set_values
 from diskexplorer.fitting.vector import free_parameters
@@ -123,6 +123,6 @@ def test_scan_over_a_sublimation_temperature_finds_the_truth():
 
 def test_session_round_trip_keeps_temperature_settings():
     scene = _scene()
-    restored = scene_from_dict(json.loads(json.dumps(scene_to_dict(scene))))
+    restored = scene_from_entries(json.loads(json.dumps(scene_entries(scene))))[0]
     assert restored.rings == scene.rings
-    assert "temperature_mode" not in scene_to_dict(scene)["rings"][1]
+    assert "temperature_mode" not in scene_entries(scene)["rings"][1]

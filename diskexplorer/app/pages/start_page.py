@@ -17,7 +17,6 @@ import math
 import ipywidgets as w
 
 from ...errors import DiskExplorerError
-from ...fitting.data_description import DataDescription
 from ...fitting.paths import get_value, parameter_paths, spec_for
 from ...fitting.priors import PRIOR_KINDS
 from ...fitting.vector import resolve_limits
@@ -28,9 +27,9 @@ from ..state.echo_guard import EchoGuard
 from ..palette import ACCENT, INK, MUTED, OKABE_ITO
 from .job_buttons import JobButtons
 from .save_box import SaveBox
-from ..state.fit_setup import clean_fit_setup, doc_free
+from ..state.fit_setup import clean_fit_setup, describe_state_data, doc_free
 
-__all__ = ["StartPage", "describe_state_data", "WEIGHT_KINDS"]
+__all__ = ["StartPage", "WEIGHT_KINDS"]
 
 #: Data kinds whose weight the panel sets, with the words shown for them.
 WEIGHT_KINDS = (("vis2", "V²"), ("t3phi", "closure phase"), ("visamp", "|V|"), ("corrflux", "correlated flux"),
@@ -40,43 +39,6 @@ _PRE = (f"margin:0;padding:6px 8px;font-size:11px;line-height:1.35;background:#f
         "border:1px solid #e6e4de;max-height:560px;overflow:auto;white-space:pre")
 _W = {"name": "196px", "value": "62px", "free": "30px", "lo": "76px", "hi": "76px", "prior": "100px",
       "mean": "66px", "sigma": "60px"}
-
-
-def describe_state_data(state, weights=None):
-    """The data the explorer judges the model against, as a :class:`DataDescription`.
-
-    Parameters
-    ----------
-    state : ExplorerState
-        Its ``data_sources`` name the files; ``band_filter``, ``instrument_filter`` and
-        ``baseline_range`` become each OIFITS entry's ``bands``, ``instruments`` and
-        ``baseline_range``, and each data set's channel-bandpass switch its ``bandpass``.
-    weights : dict, optional
-        Weight per data kind.
-
-    Returns
-    -------
-    (DataDescription, list of str)
-        The description and notes on what it cannot record (data that were not read
-        from files).
-    """
-    src = state.data_sources or {}
-    notes = []
-    lo, hi = state.baseline_range
-    baselines = [lo, hi if math.isfinite(hi) else None] if (lo > 0 or math.isfinite(hi)) else None
-    # The channel-bandpass switch of each file's row in the data tab.
-    bandpass = {d.source: bool(d.bandpass) for d in getattr(state, "data_sets", ()) if d.kind == "oifits"}
-    oifits = [{"path": str(p), "bands": list(state.band_filter) or None,
-               "instruments": list(state.instrument_filter) or None, "baseline_range": baselines,
-               "bandpass": bandpass.get(str(p), True)}
-              for p in src.get("oifits", []) or []]
-    d = {"oifits": oifits, "photometry": src.get("photometry"), "spectrum": src.get("spectrum"),
-         "weights": dict(weights or {})}
-    for kind, present in (("oifits", state.observations is not None), ("photometry", state.photometry is not None),
-                          ("spectrum", state.spectrum is not None)):
-        if present and not src.get(kind):
-            notes.append(f"the loaded {kind} data were not read from a file and are not named")
-    return DataDescription.from_dict(d), notes
 
 
 def _fmt(x):

@@ -449,20 +449,26 @@ class ExplorerState(t.HasTraits):
         contents : SessionContents
             As :func:`~diskexplorer.app.state.sessions.decode_session` returns it.
 
+        Returns
+        -------
+        list of str
+            Why data files of the session were not loaded (empty when all were).
+
         Notes
         -----
         The data become exactly the session's: whatever was loaded before is dropped, so a
         kind the session lacks cannot go on counting in χ². Data files that cannot be
-        read leave a message; everything else is still restored.
+        read are listed in the result; everything else is still restored.
         """
         data = contents.data
+        problems = []
         with self.hold_trait_notifications():
             self.set_data_sets(())
-            if data.get("oifits"):
-                self.load_files(data["oifits"], "oifits")
-            for kind in ("photometry", "spectrum"):
-                if data.get(kind):
-                    self.load_files([data[kind]], kind)
+            loads = [(data["oifits"], "oifits")] if data.get("oifits") else []
+            loads += [([data[kind]], kind) for kind in ("photometry", "spectrum") if data.get(kind)]
+            for paths, kind in loads:
+                if not self.load_files(paths, kind):
+                    problems.append(self.message)
             off = set(contents.bandpass_off)
             if off:
                 self.set_data_sets([dataclasses.replace(d, bandpass=False) if d.source in off else d
@@ -472,6 +478,7 @@ class ExplorerState(t.HasTraits):
             self.pins = [{"name": name, "scene": scene} for name, scene in contents.pins]
             self.scene = contents.scene
             self.fit_setup = clean_fit_setup(contents.fit_setup or {})
+        return problems
 
     # ------------------------------------------------------------------ messages
     def show_message(self, text):

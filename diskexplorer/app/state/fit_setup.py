@@ -5,9 +5,10 @@ functions keep it well formed and read documents built from it. No widget librar
 """
 from __future__ import annotations
 
+from ...fitting.data_description import describe_loaded_data
 from ...fitting.priors import PRIOR_KINDS
 
-__all__ = ["clean_fit_setup", "doc_free"]
+__all__ = ["clean_fit_setup", "describe_state_data", "doc_free"]
 
 
 def clean_fit_setup(setup):
@@ -70,3 +71,30 @@ def doc_free(doc):
 
     walk(doc.get("scene", {}), "")
     return out
+
+
+def describe_state_data(state, weights=None):
+    """The data the explorer judges the model against, as a :class:`~diskexplorer.fitting.DataDescription`.
+
+    Parameters
+    ----------
+    state : ExplorerState
+        Its ``data_sources`` name the files; its band, instrument and baseline filters and
+        each OIFITS data set's channel-bandpass switch are recorded per file
+        (:func:`~diskexplorer.fitting.data_description.describe_loaded_data`).
+    weights : dict, optional
+        Weight per data kind.
+
+    Returns
+    -------
+    (DataDescription, list of str)
+        The description and notes on what it cannot record (data that were not read
+        from files).
+    """
+    src = state.data_sources or {}
+    off = [d.source for d in state.data_sets if d.kind == "oifits" and not d.bandpass]
+    notes = [f"the loaded {kind} data were not read from a file and are not named"
+             for kind, held in (("oifits", state.observations), ("photometry", state.photometry),
+                                ("spectrum", state.spectrum)) if held is not None and not src.get(kind)]
+    return describe_loaded_data(src, state.band_filter, state.instrument_filter, state.baseline_range, off,
+                                weights), notes

@@ -1,0 +1,241 @@
+"""Explorer sessions as JSON documents: the scene, the data's paths, filters, view, pins, set-up.
+
+Layout (``"schema": "diskexplorer-session/2"``)::
+
+    {"schema": "diskexplorer-session/2",
+     "scene": {...},                     # the scene codec's entries (scene_codec.py)
+     "data": {"oifits": [paths], "photometry": path or null, "spectrum": path or null},
+     "bandpass_off": [OIFITS paths whose channel average is switched off],
+     "filters": {"bands": [...], "instruments": [...], "baseline_range_m": [lo, hi or null]},
+     "view": {setting: value},           # VIEW_SETTINGS
+     "pins": [{"name": str, "scene": {...}}],
+     "fit_setup": {"free": [...], "bounds": {...}, "priors": {...}, "weights": {...}}}
+
+The scene and each pin are written with the same codec as starting points, so a session
+keeps every dust form (mixtures with per-component sizes and shapes, κ tables by path or
+inline, power-law opacities, registered species by name), photosphere tables and the
+temperature settings of equilibrium rings. Data are stored as paths, not copies:
+restoring re-reads the files. Sessions of the first layout (``diskexplorer-session/1``,
+a plain scene form that kept mixtures only) are still read.
+"""
+from __future__ import annotations
+
+import json
+import math
+import os
+from dataclasses import dataclass, field
+from pathlib import Path
+
+from ..errors import DiskExplorerError, DustError, ParameterError, SeedError
+from ..observables.scene import Scene
+from ..physics.ring import Ring
+from ..physics.star import Star
+from .scene_codec import scene_entries, scene_from_entries
+
+__all__ = ["SESSION_SCHEMA", "VIEW_SETTINGS", "SessionContents", "session_document", "write_session",
+           "read_session", "decode_session"]
+
+#: Version of the session document; bump when its layout changes.
+SESSION_SCHEMA = "diskexplorer-session/2"
+_READABLE = ("diskexplorer-session/1", SESSION_SCHEMA)
+
+#: The explorer's view settings a session keeps (with the derived quantities' assumptions).
+VIEW_SETTINGS = ("curve_position_angle", "image_wavelength", "profile_wavelength", "log_sed_x",
+                 "log_sed_y", "log_vis2", "log_freq", "log_profiles",
+                 "t_sub", "q_r", "gap_aspect_ratio", "gap_alpha")
+
+
+@dataclass(frozen=True)
+class SessionContents:
+    """What a session document holds, decoded.
+
+    Attributes
+    ----------
+    scene : Scene
+    pins : tuple of (str, Scene)
+        Pinned states by name.
+    data : dict
+        ``{"oifits": [paths], "photometry": path or None, "spectrum": path or None}``.
+    bandpass_off : tuple of str
+        OIFITS paths whose model is taken at the channel centres.
+    bands, instruments : tuple of str
+        Filters (empty keeps all).
+    baseline_range : (float, float)
+        Projected baselines kept, m (``(0, inf)``: all).
+    view : dict
+        Values of :data:`VIEW_SETTINGS`.
+    fit_setup : dict
+        The starting-point set-up as stored (cleaned by the explorer).
+    """
+
+    scene: Scene
+    pins: tuple = ()
+    data: dict = field(default_factory=dict)
+    bandpass_off: tuple = ()
+    bands: tuple = ()
+    instruments: tuple = ()
+    baseline_range: tuple = (0.0, math.inf)
+    view: dict = field(default_factory=dict)
+    fit_setup: dict = field(default_factory=dict)
+
+
+def _finite(x):
+    return None if isinstance(x, float) and math.isinf(x) else x
+
+
+def session_document(scene, *, data=None, bandpass_off=(), bands=(), instruments=(),
+                     baseline_range=(0.0, math.inf), view=None, pins=(), fit_setup=None):
+    """A session document (a JSON-ready dict; see the module docstring).
+
+    Parameters
+    ----------
+    scene : Scene
+    data : dict, optional
+        Paths of the data (``oifits`` list, ``photometry``, ``spectrum``).
+    bandpass_off : sequence of str
+    bands, instruments : sequence of str
+    baseline_range : (float, float)
+        m; an infinite upper end is written as null.
+    view : dict, optional
+        View settings (only :data:`VIEW_SETTINGS` are kept).
+    pins : sequence of (str, Scene)
+    fit_setup : dict, optional
+
+    Raises
+    ------
+    SeedError
+        Dust or values the codec cannot write.
+    """
+    return {
+        "schema": SESSION_SCHEMA,
+        "scene": scene_entries(scene),
+        "data": dict(data or {}),
+        "bandpass_off": list(bandpass_off),
+        "filters": {"bands": list(bands), "instruments": list(instruments),
+                    "baseline_range_m": [_finite(float(b)) for b in baseline_range]},
+        "view": {k: v for k, v in (view or {}).items() if k in VIEW_SETTINGS},
+        "pins": [{"name": name, "scene": scene_entries(s)} for name, s in pins],
+        "fit_setup": dict(fit_setup or {}),
+    }
+
+
+def write_session(path, document, overwrite=False):
+    """Write ``document`` as JSON to ``path``.
+
+    Raises
+    ------
+    FileExistsError
+        If ``path`` exists and ``overwrite`` is False (the explorer then asks first).
+    SeedError
+        If the document holds non-finite numbers (JSON has none).
+    """
+    path = Path(path).expanduser()
+    try:
+        text = json.dumps(document, indent=2, ensure_ascii=False, allow_nan=False)
+    except ValueError as exc:
+        raise SeedError(f"session {path}: cannot write it: {exc}") from None
+    with open(path, "w" if overwrite else "x", encoding="utf-8") as fh:
+        fh.write(text + "\n")
+    return path
+
+
+def read_session(path):
+    """Read a session document and check its schema.
+
+    Raises
+    ------
+    DiskExplorerError
+        If the file cannot be read, is not JSON or not a session of a known schema.
+    """
+    path = Path(path).expanduser()
+    try:
+        doc = json.loads(path.read_text(encoding="utf-8"))
+    except (OSError, UnicodeDecodeError, ValueError) as exc:
+        raise DiskExplorerError(f"session {path}: cannot read JSON ({exc})") from None
+    schema = doc.get("schema") if isinstance(doc, dict) else None
+    if schema not in _READABLE:
+        raise DiskExplorerError(f"session {path}: schema {schema!r} is not one of {', '.join(map(repr, _READABLE))}")
+    return doc
+
+
+def decode_session(document, base_dir=None, where="session"):
+    """The contents of a session document (either layout).
+
+    Parameters
+    ----------
+    document : dict
+        As :func:`read_session` returns it.
+    base_dir : str or os.PathLike, optional
+        Folder that relative κ-table paths refer to (the session file's folder).
+    where : str
+        Names the document in messages (its path).
+
+    Returns
+    -------
+    SessionContents
+
+    Raises
+    ------
+    SeedError
+        A scene, pin, filter or setting that cannot be read; the message names the
+        document and the path of the bad entry.
+    """
+    base_dir = None if base_dir is None else os.fspath(base_dir)
+    legacy = document.get("schema") == "diskexplorer-session/1"
+
+    def scene_of(entry, at):
+        try:
+            if legacy:
+                return _legacy_scene(entry)
+            return scene_from_entries(entry, base_dir)[0]
+        except SeedError as exc:
+            raise SeedError(f"{where}: {at}: {exc}") from None
+        except (KeyError, TypeError, ValueError, AttributeError, IndexError, ParameterError, DustError) as exc:
+            raise SeedError(f"{where}: {at}: cannot be read ({type(exc).__name__}: {exc})") from None
+
+    scene = scene_of(document.get("scene"), "scene")
+    pins = tuple((str(p.get("name", f"pin {k + 1}")), scene_of(p.get("scene"), f"pins.{k}.scene"))
+                 for k, p in enumerate(document.get("pins") or []))
+    data = dict(document.get("data") or {})
+    oifits = data.get("oifits") or []
+    data = {"oifits": [oifits] if isinstance(oifits, str) else list(oifits),
+            "photometry": data.get("photometry"), "spectrum": data.get("spectrum")}
+    filters = document.get("filters") or {}
+    try:
+        lo, hi = filters.get("baseline_range_m") or (0.0, None)
+        baseline_range = (float(lo or 0.0), math.inf if hi is None else float(hi))
+    except (TypeError, ValueError):
+        raise SeedError(f"{where}: filters.baseline_range_m: {filters.get('baseline_range_m')!r}; "
+                        "expected [shortest, longest or null] in m") from None
+    view = {k: v for k, v in (document.get("view") or {}).items() if k in VIEW_SETTINGS}
+    return SessionContents(scene=scene, pins=pins, data=data,
+                           bandpass_off=tuple(document.get("bandpass_off") or ()),
+                           bands=tuple(filters.get("bands") or ()), instruments=tuple(filters.get("instruments") or ()),
+                           baseline_range=baseline_range, view=view, fit_setup=dict(document.get("fit_setup") or {}))
+
+
+# Fields of the first layout's plain scene form (sessions written before the codec).
+_LEGACY_RING_FIELDS = ("r_in", "r_out", "t_in", "q", "sigma_in", "p", "c1", "s1", "name", "enabled",
+                       "temperature_mode", "inner_edge", "sublimation")
+
+
+def _legacy_scene(d):
+    """The scene of a ``diskexplorer-session/1`` document (mixtures or opaque rings only)."""
+    from ..dust import DustMix
+
+    def dust(entry):
+        if entry is None:
+            return None
+        if entry.get("kind") != "mixture":
+            raise SeedError(f"dust {entry.get('label', entry)!r} was not saved by this older session layout")
+        fractions = [(tuple(k) if isinstance(k, list) else k, f) for k, f in entry["fractions"]]
+        return DustMix(fractions, grain_size=entry["grain_size"], shape=entry["shape"])
+
+    star = d.get("star")
+    rings = tuple(Ring(**{f: r[f] for f in _LEGACY_RING_FIELDS if f in r}, dust=dust(r.get("dust")))
+                  for r in d.get("rings", ()))
+    return Scene(distance=d["distance"], inclination=d["inclination"], position_angle=d["position_angle"],
+                 extended_fraction=d.get("extended_fraction", 0.0),
+                 star=None if star is None else Star(star["t_eff"], star["radius"], mass=star["mass"],
+                                                     uniform_disk=star.get("uniform_disk", True)),
+                 rings=rings)
