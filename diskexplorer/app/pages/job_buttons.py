@@ -3,7 +3,7 @@ from __future__ import annotations
 
 import ipywidgets as w
 
-__all__ = ["JobButtons"]
+__all__ = ["JobButtons", "comparison_to_judge"]
 
 
 class JobButtons:
@@ -72,3 +72,14 @@ class JobButtons:
         self.progress.value = progress
         self.state.show_message(f"{failure} failed: {error}")
         return False
+
+
+def comparison_to_judge(state, comparison, refusal):
+    """``comparison`` if it holds data to judge against, else None after saying ``refusal``.
+
+    A background job that needs data (refinement, a scan) checks this before it starts.
+    """
+    if comparison is None or not comparison.kinds:
+        state.show_message(refusal)
+        return None
+    return comparison

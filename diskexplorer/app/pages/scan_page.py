@@ -21,7 +21,7 @@ import traitlets as t
 from ...errors import DiskExplorerError
 from ...fitting.paths import get_value, parameter_paths, spec_for
 from ..state.jobs import JobRunner
-from .job_buttons import JobButtons
+from .job_buttons import JobButtons, comparison_to_judge
 from ..controls.param_control import unit_text
 from ..figures.base import EMPTY, assign, axis, new_figure
 from ..palette import DELTA_CHI2_SCHEME, INK, MUTED, OKABE_ITO
@@ -300,9 +300,8 @@ class ScanPage(w.VBox):
         if px == py:
             self.state.show_message("scan: choose two different parameters")
             return False
-        comparison = self._comparison()
-        if comparison is None or not comparison.kinds:
-            self.state.show_message("scan: load data first")
+        comparison = comparison_to_judge(self.state, self._comparison(), "scan: load data first")
+        if comparison is None:
             return False
         try:
             xs = axis_values(self.x_axis.spec())

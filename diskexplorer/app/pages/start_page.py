@@ -25,7 +25,7 @@ from ..controls.param_control import unit_text
 from ..figures.base import assign as _assign
 from ..state.echo_guard import EchoGuard
 from ..palette import ACCENT, INK, MUTED, OKABE_ITO
-from .job_buttons import JobButtons
+from .job_buttons import JobButtons, comparison_to_judge
 from .save_box import SaveBox
 from ..state.fit_setup import clean_fit_setup, describe_state_data, doc_free
 
@@ -418,9 +418,8 @@ class StartPage(w.VBox):
         if not free:
             self.state.show_message("tick at least one parameter as free to refine it")
             return False
-        comparison = self._comparison()
-        if comparison is None or not comparison.kinds:
-            self.state.show_message("load data to refine against")
+        comparison = comparison_to_judge(self.state, self._comparison(), "load data to refine against")
+        if comparison is None:
             return False
         scene = self.state.scene
         bounds = {p: self.bounds_for(p) for p in free}
