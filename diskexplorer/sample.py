@@ -19,10 +19,8 @@ from pathlib import Path
 import numpy as np
 
 from .data.observations import ObservationSet
-from .data.oifits import read_oifits
 from .data.oifits_write import write_oifits
-from .data.photometry import read_photometry
-from .data.spectrum import read_spectrum
+from .data.readers import read_data_file
 from .dust.mixture import DustMix
 from .observables.scene import Scene
 from .physics.ring import Ring
@@ -347,9 +345,9 @@ def load_sample_data(folder=None):
     folder = Path(folder) if folder is not None else sample_data_dir()
     paths = [folder / n for n in SAMPLE_FILES["oifits"]]
     return {
-        "observations": read_oifits([str(p) for p in paths]),
-        "photometry": read_photometry(folder / SAMPLE_FILES["photometry"]),
-        "spectrum": read_spectrum(folder / SAMPLE_FILES["spectrum"]),
+        "observations": read_data_file([str(p) for p in paths], "oifits"),
+        "photometry": read_data_file(folder / SAMPLE_FILES["photometry"], "photometry"),
+        "spectrum": read_data_file(folder / SAMPLE_FILES["spectrum"], "spectrum"),
         "paths": {"oifits": [str(p) for p in paths],
                   "photometry": str(folder / SAMPLE_FILES["photometry"]),
                   "spectrum": str(folder / SAMPLE_FILES["spectrum"])},

@@ -17,6 +17,9 @@ from .bands import (AB_ZERO_POINT_JY, INTERFEROMETRIC_BANDS, PHOTOMETRIC_BANDS, 
 # Recognising files by content
 from .classify import DataFiles, NotADataFile, SkippedFile, classify_data_file, collect_data_files
 
+# One reader per kind of file
+from .readers import FILE_KINDS, read_data_file
+
 # Photometry, spectra, extinction
 from .photometry import photometry_dataset, read_photometry
 from .spectrum import read_spectrum, spectrum_dataset
@@ -31,6 +34,8 @@ __all__ = [
     "band_range", "photometric_band", "magnitude_to_jy",
     # recognising files
     "classify_data_file", "collect_data_files", "DataFiles", "SkippedFile", "NotADataFile",
+    # one reader per kind of file
+    "read_data_file", "FILE_KINDS",
     # photometry, spectra
     "read_photometry", "photometry_dataset", "read_spectrum", "spectrum_dataset", "deredden",
 ]

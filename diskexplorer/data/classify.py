@@ -27,6 +27,7 @@ from dataclasses import dataclass, field
 from typing import NamedTuple
 
 from ..errors import DataError
+from .readers import FILE_KINDS
 from .fits_tables import fits_layout, is_gzip, looks_like_fits_bytes, read_fits_bytes
 from .text_tables import split_name_unit
 
@@ -34,7 +35,7 @@ __all__ = ["classify_data_file", "collect_data_files", "DataFiles", "SkippedFile
            "NotADataFile"]
 
 #: The kinds of data file, in the order they are listed.
-DATA_KINDS = ("oifits", "photometry", "spectrum")
+DATA_KINDS = FILE_KINDS
 
 # Column names the spectrum reader accepts (diskexplorer.data.spectrum), lower case.
 _WAVE_NAMES = ("wavelength", "wave", "lambda", "wavelength_um", "wl")

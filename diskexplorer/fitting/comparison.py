@@ -9,25 +9,10 @@ from scipy import sparse
 
 from ..errors import DataError, ParameterError
 from ..observables.observer import Observer
+from .data_kinds import DATA_KINDS, KIND_LABELS
 
 __all__ = ["Comparison", "ComparisonResult", "DATA_KINDS", "KIND_LABELS", "phase_residual",
            "channel_widths", "differential_phase"]
-
-#: Data kinds a comparison can judge, in display order.
-#: ``visamp``: OI_VIS amplitudes with AMPTYP "absolute" (normalised |V|);
-#: ``corrflux``: AMPTYP "correlated flux" (|V| F_ν, Jy); ``diffphi``: VISPHI with PHITYP
-#: "differential" (degrees, see :func:`differential_phase`). Differential amplitudes and
-#: absolute VISPHI are drawn but not judged (a pipeline's normalisation of the former is not
-#: recorded in the file, and the latter carries the atmosphere's phase).
-DATA_KINDS = ("vis2", "t3phi", "t3amp", "visamp", "corrflux", "diffphi", "photometry", "spectrum", "flux")
-
-#: Short descriptions of the kinds, with units, for tables.
-KIND_LABELS = {
-    "vis2": "squared visibility", "t3phi": "closure phase (deg)", "t3amp": "triple amplitude",
-    "visamp": "visibility amplitude", "corrflux": "correlated flux (Jy)",
-    "diffphi": "differential phase (deg)", "photometry": "photometry (Jy)",
-    "spectrum": "spectrum (Jy)", "flux": "OI_FLUX (Jy)",
-}
 
 
 def phase_residual(data_deg, model_deg, error_deg):

@@ -230,11 +230,11 @@ class DataDescription:
 
     def _load(self, base_dir):
         """``load``'s tuple and the per-file bandpass choices ``{file: False}`` of the entries."""
-        from ..data import ObservationSet, read_oifits, read_photometry, read_spectrum
+        from ..data import ObservationSet, read_data_file
 
         sets, bandpass = [], {}
         for e in self.oifits:
-            obs = read_oifits(self.resolve(e["path"], base_dir), target=e["target"])
+            obs = read_data_file(self.resolve(e["path"], base_dir), "oifits", target=e["target"])
             if e["bands"]:
                 obs = obs.select_band(*e["bands"])
             if e["wavelength_range"]:
@@ -253,10 +253,10 @@ class DataDescription:
         photometry = spectrum = None
         if self.photometry is not None:
             p = self.photometry
-            photometry = read_photometry(self.resolve(p["path"], base_dir), a_v=p["a_v"], r_v=p["r_v"])
+            photometry = read_data_file(self.resolve(p["path"], base_dir), "photometry", a_v=p["a_v"], r_v=p["r_v"])
         if self.spectrum is not None:
             s = self.spectrum
-            spectrum = read_spectrum(self.resolve(s["path"], base_dir), a_v=s["a_v"], r_v=s["r_v"])
+            spectrum = read_data_file(self.resolve(s["path"], base_dir), "spectrum", a_v=s["a_v"], r_v=s["r_v"])
             if s["wavelength_range"]:
                 lo, hi = s["wavelength_range"]
                 spectrum = spectrum.sel(wavelength=slice(lo, hi))

@@ -37,11 +37,11 @@ from .evaluation import EvaluationReport, evaluate
 from .figures import write_figures
 from .inputs import classify_data_file, data_description_with, load_start
 from .outputs import DEFAULT_DPI, DEFAULT_IMAGE_WAVELENGTHS, FIGURE_SIZES_IN, FIGURES, FORMATS, planned_outputs
-from .tables import chi2_rows, format_chi2_table, residual_tables, write_residual_tables
+from .tables import chi2_breakdown, format_chi2_table, residual_tables, write_residual_tables
 
 __all__ = [
     "EvaluationReport", "evaluate", "load_start", "classify_data_file", "data_description_with",
-    "planned_outputs", "chi2_rows", "format_chi2_table", "residual_tables", "write_residual_tables",
+    "planned_outputs", "chi2_breakdown", "format_chi2_table", "residual_tables", "write_residual_tables",
     "model_cube", "write_model_cube", "write_figures", "FIGURES", "FIGURE_SIZES_IN", "DEFAULT_DPI",
     "DEFAULT_IMAGE_WAVELENGTHS", "FORMATS",
 ]

@@ -9,7 +9,7 @@ from .figures import write_figures
 from .inputs import data_description_with, load_start
 from .outputs import DEFAULT_DPI, DEFAULT_IMAGE_WAVELENGTHS, FORMATS, MIN_NPIX, StagedOutput, _quiet, \
     _refuse_existing, check_image_wavelengths, check_output_folder, figure_formats, planned_outputs
-from .tables import chi2_rows, format_chi2_table, residual_tables, write_csv, write_residual_tables
+from .tables import chi2_breakdown, format_chi2_table, residual_tables, write_csv, write_residual_tables
 
 __all__ = ["EvaluationReport", "evaluate"]
 
@@ -27,7 +27,7 @@ class EvaluationReport:
     result : ComparisonResult
         Model, residuals and χ² per data kind.
     chi2 : list of dict
-        Rows of :func:`chi2_rows` (per kind, per instrument, total).
+        Rows of :func:`chi2_breakdown` (per kind, per instrument, total).
     files : list of pathlib.Path
         Everything written, in order.
     cube : xarray.Dataset or None
@@ -145,7 +145,7 @@ def evaluate(source, out="evaluation", data=None, formats=("png",), force=False,
     say("computing the model at the data (" + ", ".join(comparison.kinds) + ")")
     result = comparison.compare(scene)
     tables = residual_tables(comparison, result)
-    rows = chi2_rows(result, tables)
+    rows = chi2_breakdown(result, tables)
     with StagedOutput(out) as staging:
         tmp = planned_outputs(staging.path, comparison.kinds, fmts or ("png",), figures=figures, cube=cube)
         written = []

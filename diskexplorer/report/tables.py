@@ -6,7 +6,7 @@ import math
 
 import numpy as np
 
-__all__ = ["residual_tables", "chi2_rows", "format_chi2_table", "write_residual_tables", "write_csv"]
+__all__ = ["residual_tables", "chi2_breakdown", "format_chi2_table", "write_residual_tables", "write_csv"]
 
 
 def _mlambda(u, v, wavelength):
@@ -104,7 +104,7 @@ def residual_tables(comparison, result):
     return tables
 
 
-def chi2_rows(result, tables=None):
+def chi2_breakdown(result, tables=None):
     """χ² per data kind, per instrument within each kind, and in total.
 
     Parameters
@@ -150,7 +150,7 @@ def _number(x, decimals):
 
 
 def format_chi2_table(rows):
-    """The χ² rows of :func:`chi2_rows` as an aligned text table.
+    """The χ² rows of :func:`chi2_breakdown` as an aligned text table.
 
     Column widths follow the content, so large χ² never run into the next column (values
     of 10⁷ and more are written in scientific notation). A kind with no usable point
@@ -160,7 +160,7 @@ def format_chi2_table(rows):
     Parameters
     ----------
     rows : list of dict
-        From :func:`chi2_rows`.
+        From :func:`chi2_breakdown`.
 
     Returns
     -------

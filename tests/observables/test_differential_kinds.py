@@ -222,7 +222,7 @@ def test_concatenation_pads_references_of_different_lengths():
 
 
 def test_report_tables_hold_only_their_points_and_figures_follow_the_kinds(tmp_path):
-    from diskexplorer.report import chi2_rows, residual_tables
+    from diskexplorer.report import chi2_breakdown, residual_tables
     from diskexplorer.report.figures import write_figures
     from diskexplorer.report.outputs import planned_outputs
 
@@ -241,7 +241,7 @@ def test_report_tables_hold_only_their_points_and_figures_follow_the_kinds(tmp_p
     assert len(tables["visamp"]["data"]) == 120 and len(tables["corrflux"]["data"]) == 120
     assert set(tables["diffphi"]["instrument"]) == {"TEST-N"}
     np.testing.assert_allclose(tables["visamp"]["residual"], 0.5)   # 0.01 / 0.02
-    rows = {(r["kind"], r["subset"]): r for r in chi2_rows(result, tables)}
+    rows = {(r["kind"], r["subset"]): r for r in chi2_breakdown(result, tables)}
     assert rows[("diffphi", "all")]["chi2"] == pytest.approx(result.chi2["diffphi"])
     assert rows[("visamp", "all")]["chi2"] == pytest.approx(120 * 0.25)
     plan = planned_outputs(tmp_path, comparison.kinds, ("png",), cube=False)

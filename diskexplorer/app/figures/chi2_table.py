@@ -6,21 +6,18 @@ import html
 import ipywidgets as w
 import numpy as np
 
+from ...fitting.data_kinds import KIND_NAMES
 from ..palette import INK, MUTED
 
-__all__ = ["Chi2Table", "chi2_rows"]
-
-_NAMES = {"vis2": "V²", "t3phi": "closure phase", "t3amp": "triple amplitude", "visamp": "|V|",
-          "corrflux": "correlated flux", "diffphi": "differential phase",
-          "photometry": "photometry", "spectrum": "spectrum", "flux": "OI_FLUX"}
+__all__ = ["Chi2Table", "summary_rows"]
 
 
-def chi2_rows(result):
+def summary_rows(result):
     """(label, N, χ², χ²/N, weight) rows of a ComparisonResult, then the total."""
     rows = []
     for k, c in result.chi2.items():
         n = result.npoints[k]
-        rows.append((_NAMES.get(k, k), n, c, c / n if n else np.nan, result.weights.get(k, 1.0)))
+        rows.append((KIND_NAMES.get(k, k), n, c, c / n if n else np.nan, result.weights.get(k, 1.0)))
     n = result.n_total
     rows.append(("total", n, result.total, result.total / n if n else np.nan, None))
     return rows
@@ -44,8 +41,8 @@ class Chi2Table:
         if self.live is None:
             self.widget.value = f"<div style='color:{MUTED}'>no data loaded: no χ²</div>"
             return
-        rows = chi2_rows(self.live)
-        pin_rows = [(name, colour, {r[0]: r for r in chi2_rows(res)}) for name, colour, res in self.pins]
+        rows = summary_rows(self.live)
+        pin_rows = [(name, colour, {r[0]: r for r in summary_rows(res)}) for name, colour, res in self.pins]
         head = "".join(f"<th style='color:{c}'>{html.escape(n)}<br>χ²/N</th>" for n, c, _ in pin_rows)
         body, left_out = [], []
         for label, n, c, red, weight in rows:

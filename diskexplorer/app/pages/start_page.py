@@ -17,6 +17,7 @@ import math
 import ipywidgets as w
 
 from ...errors import DiskExplorerError
+from ...fitting.data_kinds import KIND_NAMES, WEIGHTED_KINDS
 from ...fitting.paths import get_value, parameter_paths, spec_for
 from ...fitting.priors import PRIOR_KINDS
 from ...fitting.vector import resolve_limits
@@ -32,8 +33,7 @@ from ..state.fit_setup import clean_fit_setup, describe_state_data, doc_free
 __all__ = ["StartPage", "WEIGHT_KINDS"]
 
 #: Data kinds whose weight the panel sets, with the words shown for them.
-WEIGHT_KINDS = (("vis2", "V²"), ("t3phi", "closure phase"), ("visamp", "|V|"), ("corrflux", "correlated flux"),
-                ("diffphi", "differential phase"), ("photometry", "photometry"), ("spectrum", "spectrum"))
+WEIGHT_KINDS = tuple((k, KIND_NAMES[k]) for k in WEIGHTED_KINDS)
 
 _PRE = (f"margin:0;padding:6px 8px;font-size:11px;line-height:1.35;background:#f4f2ec;color:{INK};"
         "border:1px solid #e6e4de;max-height:560px;overflow:auto;white-space:pre")

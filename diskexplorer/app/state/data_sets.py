@@ -14,6 +14,7 @@ from pathlib import Path
 
 import numpy as np
 
+from ...data.readers import FILE_KIND_NAMES, FILE_KINDS, read_data_file
 from ...errors import DataError, DiskExplorerError
 from .workdir import resolve_user_path
 
@@ -21,11 +22,11 @@ __all__ = ["DataSet", "describe_loaded", "read_data_set", "read_data_sets", "dat
            "bandpass_choice", "DATA_SET_KINDS", "SINGLE_KINDS"]
 
 #: The kinds of data set, in the order they are listed.
-DATA_SET_KINDS = ("oifits", "photometry", "spectrum")
+DATA_SET_KINDS = FILE_KINDS
 #: Kinds of which the explorer holds one at a time (a new one replaces the old one).
 SINGLE_KINDS = ("photometry", "spectrum")
 
-_KIND_LABEL = {"oifits": "OIFITS", "photometry": "photometry", "spectrum": "spectrum"}
+_KIND_LABEL = FILE_KIND_NAMES
 _POINT_LABEL = {"vis2": "V²", "vis": "visibilities", "t3": "closure phases", "flux": "OI_FLUX",
                 "photometry": "photometric points", "spectrum": "spectral samples"}
 
@@ -133,13 +134,11 @@ def read_data_set(path, kind=None) -> DataSet:
     path = os.path.abspath(os.fspath(path))
     if kind is None:
         kind = classify_data_file(path)
-    if kind not in DATA_SET_KINDS:
-        raise DataError(f"{path}: unknown data kind {kind!r}; expected one of {', '.join(DATA_SET_KINDS)}")
     with warnings.catch_warnings(record=True) as caught:
         # Every warning of this read belongs to this file, also one already shown once.
         warnings.simplefilter("always")
         try:
-            data = _read(kind, path)
+            data = read_data_file(path, kind)
         except DiskExplorerError:
             raise
         except (OSError, ValueError, TypeError, KeyError, IndexError) as exc:
@@ -149,17 +148,6 @@ def read_data_set(path, kind=None) -> DataSet:
     if kind == "oifits":
         notes += [n for n in _messages(data.notes, path) if n not in notes]
     return DataSet(kind, data, source=path, warnings=tuple(notes))
-
-
-def _read(kind, path):
-    if kind == "oifits":
-        from ...data.oifits import read_oifits
-        return read_oifits(path)
-    if kind == "photometry":
-        from ...data.photometry import read_photometry
-        return read_photometry(path)
-    from ...data.spectrum import read_spectrum
-    return read_spectrum(path)
 
 
 def read_data_sets(paths, kind=None):
