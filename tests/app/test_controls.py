@@ -6,9 +6,7 @@ import ipywidgets as w
 import numpy as np
 import pytest
 
-from diskexplorer.app import explore
 from diskexplorer.app.controls.param_control import ParamControl, nice_step
-from diskexplorer.app.state.debounce import ManualScheduler
 from diskexplorer.app.figures.sed import BAND_TITLE
 from diskexplorer.app.controls.ring_cards import NORMALISATION_NOTE
 from diskexplorer.observables.spectrum import NO_DUST_BAND
@@ -16,18 +14,15 @@ from diskexplorer.physics.parameters import DEFAULT_DIGITS, parameter_specs, rou
 from diskexplorer.physics.ring import Ring
 from diskexplorer.observables.scene import Scene
 from diskexplorer.sample import demo_scene
+from explorer_helpers import make_app, settle
 
 SPECTRUM_PAGE = 1
 
 
 @pytest.fixture
 def app(material):
-    scene, data = material
-    return explore(data=dict(data), scene=demo_scene(), scheduler=ManualScheduler())
+    return make_app(material, scene=demo_scene())
 
-
-def settle(app):
-    app.debouncer.scheduler.advance(1.0)
 
 
 def all_controls(app):

@@ -22,6 +22,7 @@ from diskexplorer.fitting.comparison import Comparison
 from diskexplorer.sample import demo_scene, load_sample_data
 from diskexplorer.testing import make_oifits
 from diskexplorer.app.figures.base import drawn_dots
+from explorer_helpers import settle
 
 # An invented K-band instrument with 8 channels at 2.0–2.35 µm and an L-band one with 6, on
 # an array of its own (the sample has neither these wavelengths nor this array).
@@ -36,9 +37,6 @@ SPECTRUM = ("# invented N-band spectrum of a synthetic source\n"
             + "".join(f"{w:.2f},{2.0 + 0.3 * np.exp(-((w - 9.8) / 0.8) ** 2):.4f},0.05\n"
                       for w in np.linspace(8.0, 13.0, 26)))
 
-
-def settle(app):
-    app.debouncer.scheduler.advance(1.0)
 
 
 @pytest.fixture(scope="module")

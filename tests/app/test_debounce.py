@@ -88,3 +88,59 @@ def test_tiers():
     assert tiers_for({"message"}) == set()
     assert tiers_for({"scene", "curve_position_angle"}) == {"model", "curve"}
     assert "data" in tiers_for({"band_filter"})
+
+
+# --------------------------------------------------------------------------- on a real loop
+def test_loop_scheduler_runs_calls_on_the_running_loop_in_time_order():
+    import asyncio
+
+    from diskexplorer.app.state.debounce import LoopScheduler
+
+    sched = LoopScheduler()
+    ran = []
+
+    async def main():
+        loop = asyncio.get_running_loop()
+        t0 = sched.now()
+        assert abs(t0 - loop.time()) < 0.05   # the loop's own clock, in seconds
+        sched.call_later(0.10, lambda: ran.append(("late", sched.now() - t0)))
+        sched.call_later(0.02, lambda: ran.append(("early", sched.now() - t0)))
+        sched.call_later(0.05, lambda: ran.append(("cancelled", 0.0))).cancel()
+        await asyncio.sleep(0.4)
+
+    asyncio.run(main())
+    assert [name for name, _ in ran] == ["early", "late"]
+    early, late = (dt for _, dt in ran)
+    assert 0.02 <= early < late and late >= 0.10
+
+
+def test_loop_scheduler_outside_a_loop_calls_at_once():
+    from diskexplorer.app.state.debounce import LoopScheduler
+
+    ran = []
+    LoopScheduler().call_later(5.0, lambda: ran.append(1))
+    assert ran == [1]
+
+
+def test_a_burst_on_a_real_loop_makes_a_leading_call_and_one_merged_call():
+    import asyncio
+
+    from diskexplorer.app.state.debounce import LoopScheduler
+
+    calls = []
+
+    async def main():
+        deb = Debouncer(lambda names: calls.append(set(names)), delay=0.2, scheduler=LoopScheduler())
+        deb.trigger("t_in")             # leading: at the loop's next turn
+        await asyncio.sleep(0)
+        await asyncio.sleep(0)
+        assert calls == [{"t_in"}]
+        for k in range(10):             # a burst within the window: merged into one call
+            deb.trigger(f"n{k % 3}")
+            await asyncio.sleep(0.005)
+        assert len(calls) == 1 and deb.pending
+        await asyncio.sleep(1.0)
+        assert not deb.pending
+
+    asyncio.run(main())
+    assert calls == [{"t_in"}, {"n0", "n1", "n2"}]

@@ -2,22 +2,13 @@
 
 import pytest
 
-from diskexplorer.app import explore
-from diskexplorer.app.state.debounce import ManualScheduler
 from diskexplorer.physics import derived
+from explorer_helpers import settle
 
 DERIVED_PAGE = 5
 
 
-@pytest.fixture
-def app(material):
-    scene, data = material
-    app = explore(data=dict(data), scene=scene, scheduler=ManualScheduler(), jobs="sync")
-    return app
 
-
-def settle(app):
-    app.debouncer.scheduler.advance(1.0)
 
 
 def test_hidden_until_shown(app):

@@ -5,18 +5,12 @@ import pytest
 from diskexplorer.app import explore
 from diskexplorer.app.state.debounce import ManualScheduler
 from diskexplorer.physics import derived
+from explorer_helpers import settle
 
 STRUCTURE_PAGE, DERIVED_PAGE = 2, 5
 
 
-@pytest.fixture
-def app(material):
-    scene, data = material
-    return explore(data=dict(data), scene=scene, scheduler=ManualScheduler(), jobs="sync")
 
-
-def settle(app):
-    app.debouncer.scheduler.advance(1.0)
 
 
 def test_card_switches_temperature_mode(app):

@@ -6,13 +6,12 @@ import ipywidgets as w
 import numpy as np
 import pytest
 
-from diskexplorer.app import explore
-from diskexplorer.app.state.debounce import ManualScheduler
 from diskexplorer.sample import demo_scene, load_sample_data
 from diskexplorer.physics.parameters import parameter_specs
 from diskexplorer.physics.ring import Ring
 from diskexplorer.app.figures.base import drawn_dots
 from diskexplorer.app.figures.interferometry import MAX_DRAWN
+from explorer_helpers import settle
 
 @pytest.fixture(scope="module")
 def material():
@@ -20,14 +19,7 @@ def material():
     return demo_scene(), load_sample_data()
 
 
-@pytest.fixture
-def app(material):
-    scene, data = material
-    return explore(data=dict(data), scene=scene, scheduler=ManualScheduler())
 
-
-def settle(app):
-    app.debouncer.scheduler.advance(1.0)
 
 
 def ring_sed(app, index):
@@ -165,18 +157,23 @@ def test_bad_upload_shows_message_and_changes_nothing(app):
     assert np.array_equal(np.asarray(app.figures["vis2"].data.y), marks, equal_nan=True)
 
 
-def test_bad_path_and_good_path(app, tmp_path, material):
+def test_bad_path_and_good_path(app, tmp_path):
+    # A photometry table of the user's, copied out of the sample into a folder of their own.
+    from diskexplorer.sample import copy_sample_data, SAMPLE_FILES
+
+    copy_sample_data(tmp_path / "mine")
+    good = tmp_path / "mine" / SAMPLE_FILES["photometry"]
+    before = app.state.data_sets
     app.data_page.kind.value = "photometry"
     app.data_page.path.value = str(tmp_path / "missing.csv")
     app.data_page.load_button.click()
-    assert "missing.csv" in app.message_area.value
-    paths = material[1].get("paths")
-    if not paths:
-        pytest.skip("sample data paths not available")
-    app.data_page.path.value = paths["photometry"]
+    assert "missing.csv" in app.message_area.value and "not loaded" in app.message_area.value
+    assert app.state.data_sets == before   # a refused load changes nothing
+    app.data_page.path.value = str(good)
     app.data_page.load_button.click()
     assert "loaded photometry" in app.message_area.value
-    assert app.state.data_sources["photometry"] == paths["photometry"]
+    assert app.state.data_sources["photometry"] == str(good)
+    assert [d.source for d in app.state.data_sets if d.kind == "photometry"] == [str(good)]
 
 
 def test_filters_select_points(app):

@@ -3,22 +3,17 @@ the data, model and pins of that moment."""
 import numpy as np
 import pytest
 
-from diskexplorer.app import explore
-from diskexplorer.app.state.debounce import ManualScheduler
 from diskexplorer.app.state.model_views import sed_curves
 from diskexplorer.sample import demo_scene
+from explorer_helpers import make_app, settle
 
 HIDDEN = ("sed", "spectrum", "image", "profiles")
 
 
 @pytest.fixture
 def app(material):
-    scene, data = material
-    return explore(data=dict(data), scene=demo_scene(), scheduler=ManualScheduler())
+    return make_app(material, scene=demo_scene())
 
-
-def settle(app):
-    app.debouncer.scheduler.advance(1.0)
 
 
 def test_only_the_first_pages_figures_exist_at_start(app):

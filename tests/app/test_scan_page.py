@@ -4,26 +4,21 @@ import time
 import numpy as np
 import pytest
 
-from diskexplorer.app import explore
-from diskexplorer.app.state.debounce import ManualScheduler
 from diskexplorer.app.pages.scan_page import cell_edges, default_range
 from diskexplorer.fitting import Comparison
+from explorer_helpers import make_app, settle
 
 SCAN_PAGE = 4
 
 
 def _app(material, jobs="sync", warm=False):
-    scene, data = material
-    app = explore(data=dict(data), scene=scene, scheduler=ManualScheduler(), jobs=jobs)
+    app = make_app(material, jobs=jobs)
     # The live app (jobs="thread") warms the local cluster when the page opens: only the
     # tests of that warming do.
     app.scan_page.warm = warm
     app.figure_tabs.selected_index = SCAN_PAGE
     return app
 
-
-def settle(app):
-    app.debouncer.scheduler.advance(1.0)
 
 
 def _set_axes(panel, n=3):

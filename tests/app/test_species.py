@@ -2,17 +2,15 @@
 import numpy as np
 import pytest
 
-from diskexplorer.app import explore
-from diskexplorer.app.state.debounce import ManualScheduler
 from diskexplorer.sample import demo_scene, load_sample_data
 from diskexplorer.dust import unregister_species
+from explorer_helpers import make_app, settle
 
 
 @pytest.fixture
 def app():
-    scene, data = demo_scene(), load_sample_data()
-    a = explore(data=dict(data), scene=scene, scheduler=ManualScheduler())
-    a.debouncer.scheduler.advance(1.0)
+    a = make_app((demo_scene(), load_sample_data()))
+    settle(a)
     yield a
     for name in ("grey_test_dust",):
         try:

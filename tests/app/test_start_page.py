@@ -4,16 +4,14 @@ import time
 
 import pytest
 
-from diskexplorer.app import explore
-from diskexplorer.app.state.debounce import ManualScheduler
 from diskexplorer.fitting import Comparison, read_start
+from explorer_helpers import make_app, settle
 
 START_PAGE = 3
 
 
 def _app(material, jobs="sync"):
-    scene, data = material
-    app = explore(data=dict(data), scene=scene, scheduler=ManualScheduler(), jobs=jobs)
+    app = make_app(material, jobs=jobs)
     app.figure_tabs.selected_index = START_PAGE
     return app
 
@@ -22,9 +20,6 @@ def _app(material, jobs="sync"):
 def app(material):
     return _app(material)
 
-
-def settle(app):
-    app.debouncer.scheduler.advance(1.0)
 
 
 def test_rows_follow_the_parameter_declarations(app):
