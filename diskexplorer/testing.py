@@ -17,6 +17,7 @@ from .data.observations import KINDS, ObservationSet
 from .data.oifits_write import write_oifits
 
 __all__ = ["make_observations", "make_oifits", "assert_observations_equal", "assert_scenes_equal",
+           "make_uncalibrated_night",
            "synthetic_scene", "synthetic_data"]
 
 # An invented, non-redundant station layout (east, north, up; m) for synthetic arrays.
@@ -334,3 +335,36 @@ def assert_scenes_equal(actual, expected, where="scene"):
             raise AssertionError(f"{at}: {a!r} != {b!r}")
 
     same(actual, expected, where)
+
+
+def make_uncalibrated_night(folder):
+    """Write a K-band night file whose OI_FLUX is uncalibrated, and the same file without it.
+
+    The invented demo star and array of :mod:`diskexplorer.sample`: calibrated V² and
+    closure phases of its H/K instrument, plus one OI_FLUX table left uncalibrated
+    (CALSTAT 'U', counts in ADU, 2·10⁴ counts per Jy) as pipelines deliver raw total
+    fluxes. For tests of what the comparison must not judge as Jy.
+
+    Returns
+    -------
+    (Path, Path, int)
+        The file with the OI_FLUX table, the one without it, and the number of OI_FLUX points.
+    """
+    from .sample import STATIONS, demo_scene, simulate_observations
+
+    folder = Path(folder)
+    folder.mkdir(parents=True, exist_ok=True)
+    scene = demo_scene()
+    hk = simulate_observations(scene)["QT-HK"]
+    wl = np.unique(hk.vis2["wavelength"].values)
+    counts = 2.0e4 * scene.sed(wl)
+    flux = ObservationSet.from_arrays(
+        flux=dict(wavelength=wl, bandwidth=wl / 35.0, mjd=np.array([61000.2]), int_time=60.0,
+                  flux=counts[None, :], flux_err=0.02 * counts[None, :], calstat="U", flux_unit="adu",
+                  sta_index=np.array([1])),
+        insname="QT-HK", arrname="QUARTET", target="Aurelis", stations=dict(STATIONS), diameter=1.8)
+    with_flux = folder / "night_uncalibrated_flux.fits"
+    write_oifits(with_flux, ObservationSet.concat([hk, flux]))
+    without = folder / "night_interferometry_only.fits"
+    write_oifits(without, hk)
+    return with_flux, without, wl.size

@@ -161,8 +161,11 @@ class Explorer(w.VBox):
         st.observe(self._on_state_change)
         self._recompute({"observations", "scene", "pins", "log_sed_x", "log_vis2", "log_profiles"})
         warned = [f"{d.label}: {x}" for d in data_sets for x in d.warnings] + notes
-        if warned:
-            st.show_message(f"{len(warned)} warning(s) about the data: " + " | ".join(warned))
+        left_out = [str(x) for d in data_sets for x in d.not_judged]
+        said = ([f"{len(warned)} warning(s) about the data: " + " | ".join(warned)] if warned else []) + (
+            ["not judged: " + " | ".join(left_out)] if left_out else [])
+        if said:
+            st.show_message("; ".join(said))
 
     # ------------------------------------------------------------------ layout
     def _layout(self):

@@ -47,6 +47,8 @@ INK = "#1d2430"
 MUTED = "#6b7280"
 PAPER = "#fbfaf7"
 ACCENT = OKABE_ITO["blue"]
+#: Text that warns (reader warnings, points left out of χ²): a dark orange that reads on paper.
+WARNING = "#9a5b00"
 
 
 def ring_colour(index):

@@ -10,6 +10,7 @@ from scipy import sparse
 from ..errors import DataError, ParameterError
 from ..observables.observer import Observer
 from .data_kinds import DATA_KINDS, KIND_LABELS
+from .not_judged import judged_flux, not_judged
 
 __all__ = ["Comparison", "ComparisonResult", "DATA_KINDS", "KIND_LABELS", "phase_residual",
            "channel_widths", "differential_phase"]
@@ -96,6 +97,9 @@ class ComparisonResult:
         SED components at the photometry wavelengths (Jy).
     spectrum : dict of ndarray
         SED components at the spectrum wavelengths (Jy).
+    left_out : tuple of LeftOut
+        Points of the data that no kind judges, with the reason
+        (:func:`~diskexplorer.fitting.not_judged.not_judged`); :meth:`summary` lists them.
     """
 
     prediction: object
@@ -106,6 +110,7 @@ class ComparisonResult:
     weights: dict = field(default_factory=dict)
     sed: dict = field(default_factory=dict)
     spectrum: dict = field(default_factory=dict)
+    left_out: tuple = ()
 
     @property
     def total(self) -> float:
@@ -141,6 +146,7 @@ class ComparisonResult:
         lines.append(f"{'total':<11}{n:>8d}{self.total:>14.2f}{(self.total / n if n else float('nan')):>10.3f}")
         if left_out:
             lines.append(f"* weight 0: {', '.join(left_out)} left out of the total")
+        lines += [f"not judged: {x}" for x in self.left_out]
         return "\n".join(lines)
 
 
@@ -239,6 +245,10 @@ class Comparison:
         self.weights = {"t3amp": 0.0}
         self.weights.update(weights or {})
         obs = observations
+        #: Groups of points left out of χ² and why (:mod:`~diskexplorer.fitting.not_judged`).
+        self.left_out = tuple(not_judged(obs))
+        flux_ds = getattr(obs, "flux", None)
+        self._flux_judged = judged_flux(flux_ds) if flux_ds is not None else None
         vis2 = getattr(obs, "vis2", None)
         t3 = getattr(obs, "t3", None)
         vis = getattr(obs, "vis", None)
@@ -342,7 +352,10 @@ class Comparison:
                 out.append("corrflux")
             if self._ref_index is not None:
                 out.append("diffphi")
-        out += [k for k in ("photometry", "spectrum", "flux") if k in self._sed_slices]
+        out += [k for k in ("photometry", "spectrum") if k in self._sed_slices]
+        # OI_FLUX counts only if some of it can be compared in Jy (see not_judged).
+        if "flux" in self._sed_slices and self._flux_judged is not None and self._flux_judged.any():
+            out.append("flux")
         return out
 
     def compare(self, scene) -> ComparisonResult:
@@ -394,6 +407,8 @@ class Comparison:
                     resid["diffphi"] = phase_residual(ds["visphi"].values, m, ds["visphi_err"].values)
         sed, spec = {}, {}
         for name, sl in self._sed_slices.items():
+            if name not in kinds:
+                continue
             comps = {k: v[sl] for k, v in pred.sed.items()}
             ds = {"photometry": self.photometry, "spectrum": self.spectrum,
                   "flux": getattr(obs, "flux", None)}[name]
@@ -409,6 +424,8 @@ class Comparison:
                 sed = comps
                 upper = ds["upper_limit"].values.astype(bool)
                 r = np.where(upper, np.where(total > flux, (total - flux) / err, 0.0), r)
+            if name == "flux":
+                r = np.where(self._flux_judged, r, np.nan)   # uncalibrated: never judged as Jy
             resid[name] = r
         chi2, npts = {}, {}
         for k, r in resid.items():
@@ -417,7 +434,7 @@ class Comparison:
             npts[k] = int(good.sum())
         weights = {k: float(self.weights.get(k, 1.0)) for k in chi2}
         return ComparisonResult(prediction=pred, model=model, residuals=resid, chi2=chi2, npoints=npts,
-                                weights=weights, sed=sed, spectrum=spec)
+                                weights=weights, sed=sed, spectrum=spec, left_out=self.left_out)
 
 
 def _join_widths(widths, wavelengths):

@@ -42,8 +42,9 @@ class EvaluationReport:
     cube: object = None
 
     def chi2_text(self) -> str:
-        """The χ² table as aligned text."""
-        return format_chi2_table(self.chi2)
+        """The χ² table as aligned text, then the points left out of χ² and why."""
+        notes = [f"not judged: {x}" for x in getattr(self.result, "left_out", ())]
+        return "\n".join([format_chi2_table(self.chi2)] + notes)
 
 
 def evaluate(source, out="evaluation", data=None, formats=("png",), force=False, progress=None, *,
@@ -140,6 +141,8 @@ def evaluate(source, out="evaluation", data=None, formats=("png",), force=False,
                         "(--data PATH ...)")
     say("reading the data")
     comparison = desc.comparison(base_dir, accuracy=accuracy)
+    for group in comparison.left_out:
+        say(f"not judged: {group}")
     plan = planned_outputs(out, comparison.kinds, fmts or ("png",), figures=figures, cube=cube)
     _refuse_existing(plan, force)
     say("computing the model at the data (" + ", ".join(comparison.kinds) + ")")

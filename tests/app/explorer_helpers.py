@@ -18,7 +18,8 @@ def make_app(material, scene=None, jobs="sync", **kwargs):
         Refinements and scans at once (default) or in background threads.
     """
     start, data = material
-    return explore(data=dict(data), scene=start if scene is None else scene, scheduler=ManualScheduler(),
+    return explore(data=dict(data) if isinstance(data, dict) else data, scene=start if scene is None else scene,
+                   scheduler=ManualScheduler(),
                    jobs=jobs, **kwargs)
 
 

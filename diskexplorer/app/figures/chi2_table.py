@@ -7,7 +7,7 @@ import ipywidgets as w
 import numpy as np
 
 from ...fitting.data_kinds import KIND_NAMES
-from ..palette import INK, MUTED
+from ..palette import INK, MUTED, WARNING
 
 __all__ = ["Chi2Table", "summary_rows"]
 
@@ -58,6 +58,9 @@ class Chi2Table:
                         f"<td>{_fmt(red)}</td><td>{w_cell}</td>{pins}</tr>")
         note = (f"<div style='color:{MUTED};font-size:11px'>weight 0, left out of the total: "
                 f"{html.escape(', '.join(left_out))}</div>" if left_out else "")
+        # Points no kind judges (uncalibrated OI_FLUX, unknown AMPTYP …) are named, never dropped silently.
+        note += "".join(f"<div class='dx-not-judged' style='color:{WARNING};font-size:11px'>not judged: "
+                        f"{html.escape(str(x))}</div>" for x in getattr(self.live, "left_out", ()))
         # Numbers right-aligned with room between columns: a large χ² must never run
         # into its neighbours.
         self.widget.value = (

@@ -17,7 +17,7 @@ import numpy as np
 from ...data.bands import INTERFEROMETRIC_BANDS
 from ...errors import DiskExplorerError
 from ..state.echo_guard import EchoGuard
-from ..palette import MUTED
+from ..palette import MUTED, WARNING
 from ..state.workdir import resolve_user_path, state_folder
 
 __all__ = ["DataPage", "DataSetRow", "KINDS"]
@@ -25,8 +25,6 @@ __all__ = ["DataPage", "DataSetRow", "KINDS"]
 #: What a path or upload is read as, as shown on the kind selector ("auto": by its content).
 KINDS = (("by content", "auto"), ("OIFITS", "oifits"), ("photometry", "photometry"), ("spectrum", "spectrum"))
 
-#: Colour of reader warnings beside their data set (the message area's accent).
-WARNING_COLOUR = "#9a5b00"
 
 
 class DataSetRow(w.VBox):
@@ -43,8 +41,11 @@ class DataSetRow(w.VBox):
         self.remove_button = w.Button(description="remove", tooltip=f"remove {d.label}", layout={"width": "70px"})
         self.remove_button.add_class("dx-remove-data")
         self.remove_button.on_click(lambda b: on_remove(self.data_set))
-        self.warnings = w.HTML("".join(f"<div style='font-size:11px;color:{WARNING_COLOUR}'>⚠ {html.escape(x)}</div>"
-                                       for x in d.warnings))
+        # Reader warnings, then the points χ² leaves out and why (never silently).
+        self.warnings = w.HTML("".join(f"<div style='font-size:11px;color:{WARNING}'>⚠ {html.escape(x)}</div>"
+                                       for x in d.warnings)
+                               + "".join(f"<div class='dx-not-judged' style='font-size:11px;color:{WARNING}'>"
+                                         f"not judged: {html.escape(str(x))}</div>" for x in d.not_judged))
         line = [self.text, self.remove_button]
         self.bandpass = None
         if d.kind == "oifits":

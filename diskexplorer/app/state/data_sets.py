@@ -72,6 +72,15 @@ class DataSet:
             object.__setattr__(self, "label", Path(self.source).name if self.source else f"{self.kind} (in memory)")
 
     @property
+    def not_judged(self):
+        """Groups of this data set's points that χ² leaves out, with the reason (list of LeftOut)."""
+        if self.kind != "oifits":
+            return []
+        from ...fitting.not_judged import not_judged
+
+        return not_judged(self.data)
+
+    @property
     def n_points(self) -> dict:
         """Points by observable (``vis2``, ``t3``, …, or ``photometry`` / ``spectrum``); empty ones left out."""
         if self.kind == "oifits":

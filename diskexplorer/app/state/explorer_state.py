@@ -386,6 +386,9 @@ class ExplorerState(t.HasTraits):
         warned = [f"{d.label}: {w}" for d in sets for w in d.warnings] + list(combine_warnings)
         if warned:
             parts.append(f"{len(warned)} warning(s): " + " | ".join(warned))
+        left_out = [str(x) for d in sets for x in d.not_judged]
+        if left_out:
+            parts.append("not judged: " + " | ".join(left_out))
         if notes:
             parts.append(" | ".join(notes))
         self.show_message("; ".join(parts))

@@ -1,0 +1,58 @@
+"""Night files: what cannot be compared in Jy is not compared in Jy, and every consumer says so.
+
+The files are written with the project's own writer for an invented star and array (the
+sample's): calibrated V² and closure phases, plus an OI_FLUX table left uncalibrated
+(CALSTAT 'U', counts in ADU) as many pipelines deliver it, and OI_VIS amplitudes of
+AMPTYP 'differential'. OIFITS v2 (Duvert et al. 2017, A&A 597, A8) defines CALSTAT 'C'
+(calibrated) and 'U' (uncalibrated) and the AMPTYP values.
+"""
+import numpy as np
+import pytest
+
+from diskexplorer.data import ObservationSet, read_oifits
+from diskexplorer.fitting import Comparison
+from diskexplorer.fitting.not_judged import not_judged
+from diskexplorer.sample import demo_scene
+from diskexplorer.testing import make_uncalibrated_night
+
+
+@pytest.fixture(scope="module")
+def night(tmp_path_factory):
+    return make_uncalibrated_night(tmp_path_factory.mktemp("night"))
+
+
+def test_an_uncalibrated_flux_is_read_in_its_own_unit_and_left_out_of_chi2(night):
+    with_flux, without, n_flux = night
+    obs = read_oifits(with_flux)
+    assert set(obs.flux["flux_unit"].values) == {"adu"} and set(obs.flux["calstat"].values) == {"U"}
+    comparison = Comparison(obs)
+    assert "flux" not in comparison.kinds
+    result = comparison.compare(demo_scene())
+    reference = Comparison(read_oifits(without)).compare(demo_scene())
+    # the total is exactly that of the interferometry alone: no ADU enters χ²
+    assert result.total == pytest.approx(reference.total, rel=1e-12)
+    assert result.n_total == reference.n_total
+    (group,) = result.left_out
+    assert (group.table, group.file, group.n) == ("OI_FLUX", "night_uncalibrated_flux.fits", n_flux)
+    assert "CALSTAT 'U'" in group.reason and "'adu'" in group.reason and "not compared in Jy" in group.reason
+    assert "not judged: night_uncalibrated_flux.fits" in result.summary()
+
+
+def test_a_calibrated_flux_in_jy_is_judged(night):
+    obs = read_oifits(night[0])
+    flux = obs.flux.assign_coords(calstat=("point", np.full(obs.flux.sizes["point"], "C")),
+                                  flux_unit=("point", np.full(obs.flux.sizes["point"], "Jy")))
+    obs = ObservationSet(vis2=obs.vis2, t3=obs.t3, flux=flux, targets=obs.targets, arrays=obs.arrays,
+                         files=obs.files)
+    comparison = Comparison(obs)
+    assert "flux" in comparison.kinds and comparison.left_out == ()
+
+
+def test_visibility_amplitudes_of_another_amptyp_are_named():
+    obs = ObservationSet.from_arrays(vis=dict(
+        u=np.array([20.0, 40.0]), v=np.array([5.0, 0.0]), wavelength=np.array([3.5, 3.8]),
+        visamp=np.full((2, 2), 1.02), visamp_err=np.full((2, 2), 0.01), visphi=np.zeros((2, 2)),
+        visphi_err=np.ones((2, 2)), amptyp="differential", phityp="differential"), file="diffamp.fits")
+    groups = not_judged(obs)
+    assert [(g.table, g.file, g.n) for g in groups] == [("OI_VIS amplitudes", "diffamp.fits", 4)]
+    assert "AMPTYP 'differential'" in groups[0].reason
