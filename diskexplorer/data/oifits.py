@@ -366,9 +366,11 @@ def _read_table(kind, h, path, waves, tnames, wanted_ids, keep_flagged):
             out["visamp"], out["visamp_err"], unit_out = _flux_to_jy(out["visamp"], out["visamp_err"],
                                                                      unit_str, out["wavelength"])
             if unit_out != "Jy":
+                # Kept in their own unit and marked, so that no comparison takes them for Jy.
+                out["amptyp"] = np.full(n, f"correlated flux [{unit_out}]", dtype=object)
                 warnings.warn(OifitsWarning(f"{os.fspath(path)}: {h.name} (INSNAME {ins!r}): correlated "
-                                            f"fluxes in {unit_str!r}, not a flux density; they are compared "
-                                            "with the model as if in Jy"), stacklevel=2)
+                                            f"fluxes in {unit_str!r}, not a flux density; they are read in "
+                                            "that unit and not compared with the model"), stacklevel=2)
         if "differential" in (out["amptyp"][:1].tolist() + out["phityp"][:1].tolist()):
             refmap = np.asarray(d["VISREFMAP"]) if "VISREFMAP" in names else None
             if refmap is None or refmap.size != nrow * nw * nw:

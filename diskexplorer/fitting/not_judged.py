@@ -10,7 +10,9 @@ report's tables) shows the reasons this module gives:
   would add an arbitrary χ² (OIFITS v2, Duvert et al. 2017, A&A 597, A8, defines
   CALSTAT 'C' calibrated and 'U' uncalibrated);
 * OI_VIS amplitudes whose AMPTYP is neither 'absolute' nor 'correlated flux' (e.g.
-  'differential', whose normalisation a pipeline does not record, or none given);
+  'differential', whose normalisation a pipeline does not record, or none given), and
+  correlated fluxes whose unit is not a flux density (the reader marks their AMPTYP
+  ``"correlated flux [unit]"``);
 * OI_VIS phases whose PHITYP is not 'differential' (an absolute VISPHI carries the
   atmosphere's phase).
 """
@@ -113,8 +115,12 @@ def not_judged(observations):
         phityp = _strings(vis, "phityp", "")
         amp_ok = np.array([a in ("absolute", "correlated flux") for a in amptyp], dtype=bool)
         has_amp = np.isfinite(np.asarray(vis["visamp"].values, float)) if "visamp" in vis else np.zeros(amp_ok.size, bool)
-        out += _group(vis, has_amp & ~amp_ok, "OI_VIS amplitudes",
-                      lambda k: f"AMPTYP {amptyp[k] or 'none'!r}: neither 'absolute' nor 'correlated flux'")
+        def amp_reason(k):
+            if amptyp[k].startswith("correlated flux ["):
+                return f"correlated fluxes in {amptyp[k][17:-1]!r}, not a flux density: not compared in Jy"
+            return f"AMPTYP {amptyp[k] or 'none'!r}: neither 'absolute' nor 'correlated flux'"
+
+        out += _group(vis, has_amp & ~amp_ok, "OI_VIS amplitudes", amp_reason)
         has_phi = np.isfinite(np.asarray(vis["visphi"].values, float)) if "visphi" in vis else np.zeros(amp_ok.size, bool)
         out += _group(vis, has_phi & np.array([p != "differential" for p in phityp], dtype=bool), "OI_VIS phases",
                       lambda k: f"PHITYP {phityp[k] or 'none'!r}: only differential phases are judged")

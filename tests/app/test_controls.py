@@ -14,14 +14,15 @@ from diskexplorer.physics.parameters import DEFAULT_DIGITS, parameter_specs, rou
 from diskexplorer.physics.ring import Ring
 from diskexplorer.observables.scene import Scene
 from diskexplorer.sample import demo_scene
-from explorer_helpers import make_app, settle
+from explorer_helpers import settle
 
 SPECTRUM_PAGE = 1
 
 
 @pytest.fixture
-def app(material):
-    return make_app(material, scene=demo_scene())
+def app_scene():
+    """The ``app`` fixture starts from the sample's scene (its rings and dust), on ``material``'s data."""
+    return demo_scene()
 
 
 

@@ -12,9 +12,7 @@ import numpy as np
 import pytest
 
 from _reference import oifits_path
-from diskexplorer.app import explore
 from diskexplorer.app.state.data_sets import DataSet, read_data_set
-from diskexplorer.app.state.debounce import ManualScheduler
 from diskexplorer.app.figures.interferometry import wavelength_colours
 from diskexplorer.data.oifits import read_oifits
 from diskexplorer.errors import DataError
@@ -22,7 +20,7 @@ from diskexplorer.fitting.comparison import Comparison
 from diskexplorer.sample import demo_scene, load_sample_data
 from diskexplorer.testing import make_oifits
 from diskexplorer.app.figures.base import drawn_dots
-from explorer_helpers import settle
+from explorer_helpers import build_app, settle
 
 # An invented K-band instrument with 8 channels at 2.0–2.35 µm and an L-band one with 6, on
 # an array of its own (the sample has neither these wavelengths nor this array).
@@ -70,14 +68,10 @@ def other(tmp_path_factory):
     return path
 
 
-def _app(data, **kw):
-    return explore(data=data, scheduler=ManualScheduler(), jobs="sync", **kw)
-
-
 # ---------------------------------------------------------------- explore(data=...)
 def test_one_oifits_file_loads_nothing_of_the_sample(files):
     path = files / "night_k.fits"
-    app = _app(str(path))
+    app = build_app(str(path))
     st = app.state
     assert [d.label for d in st.data_sets] == ["night_k.fits"]
     assert st.photometry is None and st.spectrum is None
@@ -91,7 +85,7 @@ def test_one_oifits_file_loads_nothing_of_the_sample(files):
 
 
 def test_a_folder_is_read_by_content_and_its_note_is_skipped(files):
-    app = _app(files)
+    app = build_app(files)
     kinds = sorted((d.kind, d.label) for d in app.state.data_sets)
     assert kinds == [("oifits", "night_k.fits"), ("oifits", "night_n.fits"), ("photometry", "sed.csv"),
                      ("spectrum", "nband.txt")]
@@ -105,7 +99,7 @@ def test_a_folder_is_read_by_content_and_its_note_is_skipped(files):
 
 
 def test_a_list_of_paths_relative_to_the_working_folder(files):
-    app = _app(["night_n.fits", "sed.csv"], workdir=files)
+    app = build_app(["night_n.fits", "sed.csv"], workdir=files)
     assert [(d.kind, d.source) for d in app.state.data_sets] == [
         ("oifits", str(files / "night_n.fits")), ("photometry", str(files / "sed.csv"))]
     assert app.state.spectrum is None
@@ -116,23 +110,23 @@ def test_gzip_compressed_public_file(tmp_path):
     gz = tmp_path / "alp_vic.fits.gz"
     with open(src, "rb") as fin, gzip.open(gz, "wb") as fout:
         shutil.copyfileobj(fin, fout)
-    app = _app(gz)
+    app = build_app(gz)
     assert app.judgement().npoints["vis2"] == read_oifits(str(src)).n_points("vis2")
 
 
 def test_an_observation_set_and_an_empty_list(files):
     obs = read_oifits(str(files / "night_k.fits"))
-    app = _app(obs)
+    app = build_app(obs)
     assert len(app.state.data_sets) == 1 and app.state.data_sets[0].source == str(files / "night_k.fits")
     assert app.state.photometry is None and app.judgement().npoints["vis2"] == 600
-    empty = _app([])
+    empty = build_app([])
     assert empty.state.data_sets == () and empty.judgement() is None
     assert "no data" in empty.chi2.widget.value
 
 
 def test_the_sample_dict_gives_one_data_set_per_file():
     data = load_sample_data()
-    app = _app(dict(data), scene=demo_scene())
+    app = build_app(dict(data), scene=demo_scene())
     labels = [d.label for d in app.state.data_sets]
     assert labels == ["aurelis_QT-HK.fits", "aurelis_QT-LM.fits", "aurelis_QT-N.fits", "aurelis_photometry.csv",
                       "aurelis_nband_spectrum.csv"]
@@ -150,18 +144,18 @@ def test_bad_data_arguments_are_refused(tmp_path, bad, match):
     if isinstance(bad, str):
         bad = tmp_path / bad
     with pytest.raises(DataError, match=match):
-        _app(bad)
+        build_app(bad)
 
 
 def test_two_photometry_tables_are_refused_by_name(files, tmp_path):
     (tmp_path / "a.csv").write_text(PHOTOMETRY)
     (tmp_path / "b.csv").write_text(PHOTOMETRY)
     with pytest.raises(DataError, match=r"2 photometry files .*a\.csv.*b\.csv"):
-        _app(tmp_path)
+        build_app(tmp_path)
 
 
 def test_judgement_follows_the_model_and_the_filters(files):
-    app = _app(files)
+    app = build_app(files)
     res0 = app.judgement()
     assert res0 is app.chi2.live
     app.ring_deck.cards[0].controls["t_in"].slider.value = app.state.scene.rings[0].t_in + 250.0
@@ -182,7 +176,7 @@ def _row(app, label):
 
 
 def test_rows_list_file_kind_points_and_remove_updates_everything(files):
-    app = _app(files)
+    app = build_app(files)
     rows = app.data_page.rows.children
     assert [r.data_set.label for r in rows] == ["night_k.fits", "night_n.fits", "sed.csv", "nband.txt"]
     text = _row(app, "night_k.fits").text.value
@@ -214,7 +208,7 @@ def test_rows_list_file_kind_points_and_remove_updates_everything(files):
 
 
 def test_adding_files_from_the_path_box(files, other):
-    app = _app(files / "night_n.fits")
+    app = build_app(files / "night_n.fits")
     panel = app.data_page
     panel.path.value = f"{other}, {files / 'sed.csv'}"
     assert panel.load_paths()
@@ -240,7 +234,7 @@ def test_adding_files_from_the_path_box(files, other):
 
 
 def test_upload_is_recognised_by_content(files):
-    app = _app([])
+    app = build_app([])
     content = (files / "night_k.fits").read_bytes()
     import datetime
     app.data_page.upload.value = ({"name": "upload.fits", "type": "application/fits", "size": len(content),
@@ -253,7 +247,7 @@ def test_upload_is_recognised_by_content(files):
 
 def test_reader_warnings_show_in_the_notice_and_stay_beside_their_data_set(files):
     reversed_file = oifits_path("v2/bad_wave_reversed.fits")
-    app = _app(files / "night_k.fits")
+    app = build_app(files / "night_k.fits")
     app.data_page.path.value = str(reversed_file)
     assert app.data_page.load_paths()
     notice = app.message_area.value
@@ -270,13 +264,13 @@ def test_reader_warnings_show_in_the_notice_and_stay_beside_their_data_set(files
 
 
 def test_warnings_of_data_given_to_explore_reach_the_notice():
-    app = _app(oifits_path("v2/bad_wave_reversed.fits"))
+    app = build_app(oifits_path("v2/bad_wave_reversed.fits"))
     assert "warning" in app.message_area.value and "reversed" in app.message_area.value
     assert "reversed" in app.data_page.rows.children[0].warnings.value
 
 
 def test_a_failed_load_keeps_the_earlier_data_and_the_app_usable(files, tmp_path):
-    app = _app(files)
+    app = build_app(files)
     settle(app)
     before = app.state.data_sets
     obs, result = app.state.observations, app.judgement()
@@ -309,7 +303,7 @@ def _load_message(app, path):
 
 
 def test_a_file_forced_to_the_wrong_kind_is_refused_with_its_name(files):
-    app = _app(files / "night_k.fits")
+    app = build_app(files / "night_k.fits")
     before = app.state.data_sets
     app.data_page.kind.value = "spectrum"
     app.data_page.path.value = str(files / "sed.csv")
@@ -318,7 +312,7 @@ def test_a_file_forced_to_the_wrong_kind_is_refused_with_its_name(files):
 
 
 def test_filters_drop_values_whose_data_are_gone(files, other):
-    app = _app([files / "night_n.fits", other])
+    app = build_app([files / "night_n.fits", other])
     app.data_page.bands.value = ("L",)
     app.data_page.instruments.value = ("ARRAY3_L",)
     settle(app)
@@ -347,7 +341,7 @@ def _check_colours(app):
 
 
 def test_point_colours_after_loads_and_removals(files, other):
-    app = _app(files / "night_n.fits")
+    app = build_app(files / "night_n.fits")
     _check_colours(app)
     app.data_page.path.value = str(other)
     app.data_page.load_paths()

@@ -2,10 +2,8 @@
 import numpy as np
 import pytest
 
-from diskexplorer.app import explore
-from diskexplorer.app.state.debounce import ManualScheduler
 from diskexplorer.physics import derived
-from explorer_helpers import settle
+from explorer_helpers import make_app, settle
 
 STRUCTURE_PAGE, DERIVED_PAGE = 2, 5
 
@@ -48,8 +46,7 @@ def test_card_switches_temperature_mode(app):
 
 
 def test_equilibrium_refused_without_a_star(material):
-    scene, data = material
-    app = explore(data=dict(data), scene=scene.replace(star=None), scheduler=ManualScheduler(), jobs="sync")
+    app = make_app(material, scene=material[0].replace(star=None))
     card = app.ring_deck.cards[0]
     card.temperature.mode.value = "equilibrium"
     assert app.state.scene.rings[0].temperature_mode == "power_law"

@@ -2,17 +2,16 @@
 import numpy as np
 import pytest
 
-from diskexplorer.app import explore
-from diskexplorer.app.state.debounce import ManualScheduler
 from diskexplorer.app.pages.start_page import describe_state_data
 from diskexplorer.sample import load_sample_data
 from diskexplorer.testing import synthetic_data, synthetic_scene
 from diskexplorer.app.figures.base import drawn_dots
+from explorer_helpers import build_app
 
 
 @pytest.fixture(scope="module")
 def app():
-    a = explore(scheduler=ManualScheduler())
+    a = build_app()
     a.flush()
     return a
 
@@ -45,7 +44,7 @@ def test_chi2_table_lists_the_kinds_with_their_weights(app):
 
 
 def test_bandpass_switch_per_file_changes_chi2_and_is_exported():
-    a = explore(scheduler=ManualScheduler())
+    a = build_app()
     a.flush()
     before = a.judgement()
     rows = [r for r in a.data_page.rows.children if getattr(r, "bandpass", None) is not None]
@@ -68,7 +67,7 @@ def test_bandpass_switch_per_file_changes_chi2_and_is_exported():
 
 
 def test_data_without_the_new_kinds_hide_their_figures():
-    a = explore(data=synthetic_data(), scene=synthetic_scene(), scheduler=ManualScheduler())
+    a = build_app(synthetic_data(), synthetic_scene())
     a.flush()
     assert all(a.figures[k].widget.layout.display == "none" for k in ("visamp", "corrflux_data", "diffphi"))
     assert "differential phase" not in a.chi2.widget.value
@@ -93,13 +92,13 @@ def test_start_page_weighs_the_new_kinds_and_exports_them(app):
 def test_a_session_keeps_the_bandpass_switch(tmp_path):
     from diskexplorer.app.state.sessions import decode_session, read_session, session_of_state, write_session
 
-    a = explore(scheduler=ManualScheduler(), workdir=tmp_path)
+    a = build_app(workdir=tmp_path)
     a.flush()
     a.data_page.set_bandpass(1, False)
     a.flush()
     off = a.judgement().total
     write_session(tmp_path / "s.json", session_of_state(a.state))
-    b = explore(scheduler=ManualScheduler(), workdir=tmp_path)
+    b = build_app(workdir=tmp_path)
     b.flush()
     b.state.restore_session(decode_session(read_session(tmp_path / "s.json")))
     b.flush()

@@ -5,14 +5,15 @@ import pytest
 
 from diskexplorer.app.state.model_views import sed_curves
 from diskexplorer.sample import demo_scene
-from explorer_helpers import make_app, settle
+from explorer_helpers import settle
 
 HIDDEN = ("sed", "spectrum", "image", "profiles")
 
 
 @pytest.fixture
-def app(material):
-    return make_app(material, scene=demo_scene())
+def app_scene():
+    """The ``app`` fixture starts from the sample's scene (its rings and dust), on ``material``'s data."""
+    return demo_scene()
 
 
 

@@ -5,8 +5,6 @@ import math
 import numpy as np
 import pytest
 
-from diskexplorer.app import explore
-from diskexplorer.app.state.debounce import ManualScheduler
 from diskexplorer.app.state.sessions import (SESSION_SCHEMA, decode_session, read_session, session_of_state,
                                              write_session)
 from diskexplorer.dust import DustMix
@@ -17,6 +15,7 @@ from diskexplorer.physics.ring import Ring
 from diskexplorer.physics.star import PhotosphereTable, Star
 from diskexplorer.sample import SAMPLE_FILES, load_sample_data, sample_data_dir
 from diskexplorer.testing import assert_scenes_equal
+from explorer_helpers import build_app
 
 
 def _scene(kappa_path):
@@ -41,8 +40,7 @@ def kappa_path(tmp_path):
 
 
 def _app(scene, folder, data=None):
-    return explore(data=data if data is not None else load_sample_data(), scene=scene,
-                   scheduler=ManualScheduler(), jobs="sync", workdir=folder)
+    return build_app(load_sample_data() if data is None else data, scene, workdir=folder)
 
 
 def test_a_session_of_table_power_law_and_photosphere_round_trips_equal(kappa_path, tmp_path):

@@ -36,7 +36,7 @@ def test_added_species_appears_in_mixtures_and_changes_the_model(app, tmp_path):
     assert "grey_test_dust" in editor.fraction_controls
     before = app.state.scene.rings[card.index].dust
     editor.fraction_controls["grey_test_dust"].slider.value = 0.5
-    app.debouncer.scheduler.advance(1.0)
+    settle(app)
     after = app.state.scene.rings[card.index].dust
     assert after != before
     names = {k if isinstance(k, str) else k[0] for k, _ in after.fractions}

@@ -5,18 +5,13 @@ from pathlib import Path
 import pytest
 
 import diskexplorer
-from diskexplorer.app import explore
 from diskexplorer.app.state.debounce import ManualScheduler
 from diskexplorer.app.state.workdir import resolve_user_path, working_folder, writable_user_path
 from diskexplorer.errors import DiskExplorerError
 from diskexplorer.fitting import read_start
+from explorer_helpers import build_app, make_app
 
 PACKAGE = Path(diskexplorer.__file__).resolve().parent
-
-
-def _app(material, workdir):
-    scene, data = material
-    return explore(data=dict(data), scene=scene, scheduler=ManualScheduler(), jobs="sync", workdir=workdir)
 
 
 def test_relative_names_resolve_against_the_working_folder(tmp_path):
@@ -43,7 +38,7 @@ def test_saves_land_in_the_working_folder_with_the_full_path_shown(material, tmp
     monkeypatch.chdir(elsewhere)  # the process's folder is not the user's working folder
     work = tmp_path / "work"
     work.mkdir()
-    app = _app(material, work)
+    app = make_app(material, workdir=work)
     assert app.state.workdir == str(work.resolve())
 
     panel = app.start_page
@@ -70,7 +65,7 @@ def test_saves_land_in_the_working_folder_with_the_full_path_shown(material, tmp
 
 
 def test_a_save_into_the_package_is_refused_and_nothing_is_written(material, tmp_path):
-    app = _app(material, tmp_path)
+    app = make_app(material, workdir=tmp_path)
     before = sorted(os.listdir(PACKAGE / "app"))
     app.start_page.path.value = str(PACKAGE / "app" / "start.json")
     assert not app.start_page.save()
@@ -91,7 +86,7 @@ def test_loads_and_species_files_resolve_against_the_working_folder(material, tm
     monkeypatch.chdir(tmp_path)
     work = tmp_path / "work"
     copy_sample_data(work / "obs")
-    app = _app(material, work)
+    app = make_app(material, workdir=work)
     assert app.state.load_files([f"obs/{SAMPLE_FILES['photometry']}"], "auto")
     assert str(work.resolve() / "obs" / SAMPLE_FILES["photometry"]) in str(app.state.data_sources)
     lam = np.geomspace(0.2, 200.0, 40)
@@ -122,7 +117,7 @@ def test_restoring_a_session_leaves_exactly_its_data(tmp_path):
     from diskexplorer.sample import SAMPLE_FILES, copy_sample_data
 
     copy_sample_data(tmp_path / "obs")
-    app = explore(data=tmp_path / "obs", scheduler=ManualScheduler(), jobs="sync", workdir=tmp_path)
+    app = build_app(tmp_path / "obs", workdir=tmp_path)
     assert {d.kind for d in app.state.data_sets} == {"oifits", "photometry", "spectrum"}
     # a session that names only one OIFITS file and the photometry
     app.state.set_data_sets([d for d in app.state.data_sets

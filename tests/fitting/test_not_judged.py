@@ -56,3 +56,26 @@ def test_visibility_amplitudes_of_another_amptyp_are_named():
     groups = not_judged(obs)
     assert [(g.table, g.file, g.n) for g in groups] == [("OI_VIS amplitudes", "diffamp.fits", 4)]
     assert "AMPTYP 'differential'" in groups[0].reason
+
+
+def test_correlated_fluxes_in_counts_are_read_as_counts_and_not_judged(tmp_path):
+    # An N-band file of the invented sample whose correlated fluxes are given in ADU.
+    from astropy.io import fits
+
+    from diskexplorer.sample import SAMPLE_FILES, sample_data_dir
+
+    path = tmp_path / "counts.fits"
+    with fits.open(sample_data_dir() / SAMPLE_FILES["oifits"][2]) as hdul:
+        for h in hdul:
+            if h.name == "OI_VIS":
+                for k, name in enumerate(h.columns.names, start=1):
+                    if name in ("VISAMP", "VISAMPERR"):
+                        h.header[f"TUNIT{k}"] = "adu"
+        hdul.writeto(path, checksum=True)   # a file written anew, with its own checksums
+    with pytest.warns(UserWarning, match="not compared with the model"):
+        obs = read_oifits(path)
+    comparison = Comparison(obs)
+    assert "corrflux" not in comparison.kinds and "diffphi" in comparison.kinds
+    (group,) = comparison.left_out
+    assert group.table == "OI_VIS amplitudes" and group.file == "counts.fits"
+    assert "'adu'" in group.reason and "not compared in Jy" in group.reason
