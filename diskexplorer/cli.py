@@ -156,7 +156,7 @@ def _cmd_evaluate(args):
 
     session = _read_session_inputs(args.start)
     common = dict(out=out, formats=formats, force=args.force, progress=say,
-                  image_wavelengths=wavelengths, npix=args.npix)
+                  image_wavelengths=wavelengths, npix=args.npix, lenient=args.lenient)
     if session is not None:
         scene, desc = session
         say(f"reading the session {args.start}")
@@ -253,6 +253,9 @@ def build_parser():
                    help="data files or folders to use instead (OIFITS, one photometry table, one spectrum; "
                         "recognised by content, a folder's other files skipped with a note); each kind given "
                         "replaces the document's data of that kind, other kinds are kept")
+    p.add_argument("--lenient", action="store_true",
+                   help="read what conforms in OIFITS files that do not conform to the standard (each defect "
+                        "is printed as a warning) instead of refusing them")
     p.add_argument("--out", metavar="DIR", help="output folder (default START_evaluation); the report is written "
                                                 "beside it and moved in only when complete")
     p.add_argument("--formats", default="png", help="figure formats, comma-separated: png, pdf (default png)")

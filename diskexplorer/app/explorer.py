@@ -93,9 +93,9 @@ class Explorer(w.VBox):
     #: Figure-tab index of each page (the structure page is also used by ``structure_visible``).
     PAGES = {name: k for k, name in enumerate(PAGE_ORDER)}
 
-    def __init__(self, scene, data=None, scheduler=None, delay=0.04, jobs="thread", workdir=None):
+    def __init__(self, scene, data=None, scheduler=None, delay=0.04, jobs="thread", workdir=None, lenient=False):
         folder = working_folder(workdir)
-        data_sets, notes = data_sets_from(() if data is None else data, workdir=folder)
+        data_sets, notes = data_sets_from(() if data is None else data, workdir=folder, lenient=lenient)
         # Relative names typed into any panel resolve against ``workdir`` (app/state/workdir.py).
         self.state = ExplorerState(scene=scene, curve_position_angle=float(scene.position_angle % 180.0),
                                    workdir=str(folder))
@@ -443,7 +443,7 @@ class Explorer(w.VBox):
                                     else None for _, _, fr in pins])
 
 
-def explore(data=None, scene=None, *, scheduler=None, delay=0.04, jobs="thread", workdir=None):
+def explore(data=None, scene=None, *, scheduler=None, delay=0.04, jobs="thread", workdir=None, lenient=False):
     """Open the explorer.
 
     Parameters
@@ -477,6 +477,10 @@ def explore(data=None, scene=None, *, scheduler=None, delay=0.04, jobs="thread",
         Folder that relative file names typed in the app refer to; saves show the full path.
         Default: the current folder (the notebook's); ``diskexplorer demo`` passes the folder
         it was started from.
+    lenient : bool
+        Read what conforms in OIFITS files that do not conform to the standard (each defect
+        is listed as a warning of the file) instead of refusing them. Either way, a file that
+        cannot be read is listed with its defects and the others are loaded.
 
     Returns
     -------
@@ -501,4 +505,4 @@ def explore(data=None, scene=None, *, scheduler=None, delay=0.04, jobs="thread",
         data = sample.load_sample_data()
     if scene is None:
         scene = sample.demo_scene()
-    return Explorer(scene, data, scheduler=scheduler, delay=delay, jobs=jobs, workdir=workdir)
+    return Explorer(scene, data, scheduler=scheduler, delay=delay, jobs=jobs, workdir=workdir, lenient=lenient)

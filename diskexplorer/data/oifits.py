@@ -304,9 +304,16 @@ def _read_file(hdul, path, wanted, keep_flagged):
 
 def _read_table(kind, h, path, waves, tnames, wanted_ids, keep_flagged):
     """Flatten one data table to per-point columns; None if it cannot be resolved."""
-    hdr, names = h.header, h.columns.names
+    hdr, names = h.header, list(h.columns.names)
     data_cols, uv_cols = _COLUMNS[kind]
     ins = _strip(hdr.get("INSNAME", ""))
+    # Drafts before OIFITS v2 named OI_FLUX's data column FLUX; only lenient reading gets
+    # here without FLUXDATA (the validator reports it), and then reads the old name.
+    alias = {"FLUXDATA": "FLUX"} if kind == "flux" and "FLUXDATA" not in names and "FLUX" in names else {}
+    if alias:
+        warnings.warn(OifitsWarning(f"{os.fspath(path)}: {h.name} (INSNAME {ins!r}): read the pre-standard "
+                                    "column FLUX as FLUXDATA"), stacklevel=2)
+        names = [("FLUXDATA" if n == "FLUX" else n) for n in names]
     if ins not in waves or any(c not in names for c in data_cols + uv_cols):
         return None  # reported by the validator; nothing sensible to load
     wave, band = waves[ins]
@@ -318,7 +325,7 @@ def _read_table(kind, h, path, waves, tnames, wanted_ids, keep_flagged):
     for c in data_cols + ("FLAG",):
         if c not in names:
             continue
-        a = np.asarray(d[c])
+        a = np.asarray(d[alias.get(c, c)])
         if a.size != nrow * nw:
             return None
         chan[c] = a.reshape(nrow, nw)
@@ -381,7 +388,7 @@ def _read_table(kind, h, path, waves, tnames, wanted_ids, keep_flagged):
                 refmap.reshape(nrow, nw, nw).astype(bool), wave, band, r, c)
     if kind == "flux":
         out["calstat"] = np.full(n, _strip(hdr.get("CALSTAT", "C")), dtype=object)
-        unit_str = _strip(h.columns["FLUXDATA"].unit or "")
+        unit_str = _strip(h.columns[alias.get("FLUXDATA", "FLUXDATA")].unit or "")
         out["flux"], out["flux_err"], unit_out = _flux_to_jy(out["flux"], out["flux_err"],
                                                              unit_str, out["wavelength"])
         out["flux_unit"] = np.full(n, unit_out, dtype=object)

@@ -208,13 +208,16 @@ class DataDescription:
             return path
         return os.path.join(os.fspath(base_dir), path)
 
-    def load(self, base_dir=None):
+    def load(self, base_dir=None, lenient=False):
         """Read and select the data: ``(observations, photometry, spectrum)``.
 
         Parameters
         ----------
         base_dir : str or os.PathLike, optional
             Directory that relative paths are relative to.
+        lenient : bool
+            Read what conforms in OIFITS files that do not conform to the standard, each
+            defect a warning (``read_oifits(strict=False)``).
 
         Returns
         -------
@@ -225,16 +228,16 @@ class DataDescription:
         DataError
             From the readers (missing or malformed files).
         """
-        loaded, _ = self._load(base_dir)
+        loaded, _ = self._load(base_dir, lenient)
         return loaded
 
-    def _load(self, base_dir):
+    def _load(self, base_dir, lenient=False):
         """``load``'s tuple and the per-file bandpass choices ``{file: False}`` of the entries."""
         from ..data import ObservationSet, read_data_file
 
         sets, bandpass = [], {}
         for e in self.oifits:
-            obs = read_data_file(self.resolve(e["path"], base_dir), "oifits", target=e["target"])
+            obs = read_data_file(self.resolve(e["path"], base_dir), "oifits", target=e["target"], strict=not lenient)
             if e["bands"]:
                 obs = obs.select_band(*e["bands"])
             if e["wavelength_range"]:
@@ -262,11 +265,12 @@ class DataDescription:
                 spectrum = spectrum.sel(wavelength=slice(lo, hi))
         return (observations, photometry, spectrum), bandpass
 
-    def comparison(self, base_dir=None, accuracy=1):
-        """A :class:`~diskexplorer.fitting.Comparison` of the loaded data with these weights."""
+    def comparison(self, base_dir=None, accuracy=1, lenient=False):
+        """A :class:`~diskexplorer.fitting.Comparison` of the loaded data with these weights
+        (``lenient``: see :meth:`load`)."""
         from .comparison import Comparison
 
-        (obs, phot, spec), bandpass = self._load(base_dir)
+        (obs, phot, spec), bandpass = self._load(base_dir, lenient)
         return Comparison(obs, phot, spec, weights=self.weights or None, accuracy=accuracy,
                           bandpass=bandpass or True)
 

@@ -49,7 +49,7 @@ class EvaluationReport:
 
 def evaluate(source, out="evaluation", data=None, formats=("png",), force=False, progress=None, *,
              base_dir=None, image_wavelengths=DEFAULT_IMAGE_WAVELENGTHS, npix=256, dpi=DEFAULT_DPI,
-             figures=True, cube=True):
+             figures=True, cube=True, lenient=False):
     """Evaluate a model against its data and write tables, a model cube and figures.
 
     Parameters
@@ -84,6 +84,9 @@ def evaluate(source, out="evaluation", data=None, formats=("png",), force=False,
         Resolution of raster figures (dots per inch, > 0).
     figures, cube : bool
         Whether to draw figures and write the netCDF cube.
+    lenient : bool
+        Read what conforms in OIFITS files that do not conform to the standard (each
+        defect a warning) instead of refusing them.
 
     Returns
     -------
@@ -140,7 +143,7 @@ def evaluate(source, out="evaluation", data=None, formats=("png",), force=False,
         raise DataError("no data to evaluate against: the starting point names none; give data files "
                         "(--data PATH ...)")
     say("reading the data")
-    comparison = desc.comparison(base_dir, accuracy=accuracy)
+    comparison = desc.comparison(base_dir, accuracy=accuracy, lenient=lenient)
     for group in comparison.left_out:
         say(f"not judged: {group}")
     plan = planned_outputs(out, comparison.kinds, fmts or ("png",), figures=figures, cube=cube)

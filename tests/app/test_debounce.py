@@ -4,10 +4,14 @@ from diskexplorer.app.state.debounce import Debouncer, ImmediateScheduler, Manua
 from diskexplorer.app.state.explorer_state import tiers_for
 
 
+def _by_hand(delay):
+    """A debouncer on a ManualScheduler, with the list of the name sets it calls back with."""
+    sched, seen = ManualScheduler(), []
+    return sched, seen, Debouncer(seen.append, delay=delay, scheduler=sched)
+
+
 def test_changes_of_one_turn_make_one_immediate_call():
-    sched = ManualScheduler()
-    seen = []
-    d = Debouncer(seen.append, delay=0.05, scheduler=sched)
+    sched, seen, d = _by_hand(0.05)
     for k in range(10):   # one message's changes: no time passes between them
         d.trigger("scene" if k % 2 else "pins")
     assert seen == [] and d.pending       # not inside the message's own handler...
@@ -16,9 +20,7 @@ def test_changes_of_one_turn_make_one_immediate_call():
 
 
 def test_first_change_after_quiet_is_not_delayed():
-    sched = ManualScheduler()
-    seen = []
-    d = Debouncer(seen.append, delay=0.04, scheduler=sched)
+    sched, seen, d = _by_hand(0.04)
     d.trigger("scene")
     sched.advance(0.0)
     sched.advance(1.0)                    # quiet for longer than the window
@@ -28,9 +30,7 @@ def test_first_change_after_quiet_is_not_delayed():
 
 
 def test_changes_within_the_window_merge_into_one_call_at_its_end():
-    sched = ManualScheduler()
-    seen = []
-    d = Debouncer(seen.append, delay=0.05, scheduler=sched)
+    sched, seen, d = _by_hand(0.05)
     d.trigger("scene")
     sched.advance(0.0)
     assert seen == [{"scene"}]

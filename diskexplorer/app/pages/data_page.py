@@ -130,6 +130,12 @@ class DataPage(w.VBox):
         self.path = w.Text(placeholder="file(s) or folder(s), comma-separated", layout={"width": "250px"})
         self.path.add_class("dx-path")
         self.load_button = w.Button(description="load", button_style="primary", layout={"width": "70px"})
+        # Off: a file that does not conform to OIFITS is refused with its defects. On: what
+        # conforms is read and each defect is listed beside the file.
+        self.lenient = w.Checkbox(value=False, description="lenient", indent=False, layout={"width": "80px"},
+                                  tooltip="read what conforms in OIFITS files that do not conform to the "
+                                          "standard; each defect is listed beside the file")
+        self.lenient.add_class("dx-lenient")
         self.load_button.add_class("dx-load-data")
         self.upload = w.FileUpload(accept=".fits,.oifits,.fit,.gz,.csv,.txt,.dat,.tbl", multiple=True,
                                    description="upload")
@@ -152,7 +158,7 @@ class DataPage(w.VBox):
         self._quiet = EchoGuard()
         super().__init__([
             w.HTML("<div class='dx-section-title'>load data</div>"), self.kind,
-            w.HBox([self.path, self.load_button]), self.upload,
+            w.HBox([self.path, self.load_button]), w.HBox([self.upload, self.lenient]),
             w.HTML("<div class='dx-section-title'>loaded data</div>"), self.rows, self.clear_button,
             w.HTML("<div class='dx-section-title'>filters</div>"), w.HBox([self.bands, self.instruments]),
             self.baselines, self.summary, self.species_form])
@@ -162,7 +168,7 @@ class DataPage(w.VBox):
 
     def load_paths(self):
         """Add the files and folders typed in the path box, read as the selected kind."""
-        return self.state.load_files(self.path.value.split(","), self.kind.value, add=True)
+        return self.state.load_files(self.path.value.split(","), self.kind.value, add=True, lenient=self.lenient.value)
 
     def load_uploaded(self, files):
         """Add uploaded files (dicts with ``name`` and ``content`` bytes), read as the selected kind."""
@@ -175,7 +181,7 @@ class DataPage(w.VBox):
             p = folder / Path(str(f["name"])).name
             p.write_bytes(bytes(f["content"]))
             paths.append(p)
-        return self.state.load_files(paths, self.kind.value, add=True)
+        return self.state.load_files(paths, self.kind.value, add=True, lenient=self.lenient.value)
 
     def remove(self, data_set):
         """Remove ``data_set`` (a DataSet held by the state, or its index)."""

@@ -117,7 +117,7 @@ def describe_loaded(data_sets):
     return "; ".join(f"{d.kind_label}: {d.label} ({d.describe_points()})" for d in data_sets)
 
 
-def read_data_set(path, kind=None) -> DataSet:
+def read_data_set(path, kind=None, lenient=False) -> DataSet:
     """Read one file into a :class:`DataSet`, keeping the reader's warnings.
 
     Parameters
@@ -127,6 +127,9 @@ def read_data_set(path, kind=None) -> DataSet:
     kind : {"oifits", "photometry", "spectrum"}, optional
         Which reader to use; default: judged from the content
         (:func:`~diskexplorer.data.classify.classify_data_file`).
+    lenient : bool
+        OIFITS only: read what conforms in a file that does not conform to the standard,
+        each defect becoming one of the data set's warnings (``read_oifits(strict=False)``).
 
     Returns
     -------
@@ -147,7 +150,7 @@ def read_data_set(path, kind=None) -> DataSet:
         # Every warning of this read belongs to this file, also one already shown once.
         warnings.simplefilter("always")
         try:
-            data = read_data_file(path, kind)
+            data = read_data_file(path, kind, **({"strict": False} if lenient and kind == "oifits" else {}))
         except DiskExplorerError:
             raise
         except (OSError, ValueError, TypeError, KeyError, IndexError) as exc:
@@ -159,7 +162,7 @@ def read_data_set(path, kind=None) -> DataSet:
     return DataSet(kind, data, source=path, warnings=tuple(notes))
 
 
-def read_data_sets(paths, kind=None):
+def read_data_sets(paths, kind=None, lenient=False):
     """Read files and folders into data sets; a folder's files are recognised by content.
 
     Parameters
@@ -169,17 +172,20 @@ def read_data_sets(paths, kind=None):
     kind : {"oifits", "photometry", "spectrum"}, optional
         Read every file with this kind's reader (folders are still sorted by content and
         only files of this kind are read). Default: each file's kind from its content.
+    lenient : bool
+        Read what conforms in OIFITS files that do not conform (see :func:`read_data_set`).
 
     Returns
     -------
     (list of DataSet, list of str)
-        The data sets (OIFITS first, in the order given) and notes on the files of folders
-        that were skipped (not data, or not of ``kind``).
+        The data sets (OIFITS first, in the order given) and notes: files of folders that
+        were skipped (not data, or not of ``kind``) and files that were refused, each with
+        its defects. One file that cannot be read does not keep the others out.
 
     Raises
     ------
     DataError
-        Any file that cannot be read (nothing is returned then), a folder without data,
+        When no file can be read (naming each with its defects), a folder without data,
         or more than one photometry table or spectrum.
     """
     from ...data.classify import collect_data_files
@@ -212,7 +218,17 @@ def read_data_sets(paths, kind=None):
         if len(several) > 1:
             raise DataError(f"{len(several)} {single} files ({', '.join(several)}): the explorer judges the model "
                             f"against one {single} table at a time; give the one you mean")
-    return [read_data_set(p, k) for k, p in todo], notes
+    sets, refused = [], []
+    for k, p in todo:
+        try:
+            sets.append(read_data_set(p, k, lenient=lenient))
+        except DataError as exc:
+            refused.append(str(exc))
+    if refused and not sets:
+        raise DataError(" | ".join(refused) if len(refused) > 1 else refused[0])
+    hint = "" if lenient else " (lenient reading may read what conforms in it)"
+    notes += [f"refused: {r}{hint if 'not a valid OIFITS file' in r else ''}" for r in refused]
+    return sets, notes
 
 
 def _split_by_file(obs):
@@ -249,7 +265,7 @@ def _observation_sets(obs):
                     label=Path(f).name, warnings=tuple(_messages(part.notes, f))) for f, part in parts]
 
 
-def data_sets_from(data, workdir=None):
+def data_sets_from(data, workdir=None, lenient=False):
     """Turn what :func:`~diskexplorer.app.explore` accepts as ``data`` into data sets.
 
     Parameters
@@ -294,7 +310,7 @@ def data_sets_from(data, workdir=None):
         kinds = sorted({type(x).__name__ for x in items})
         raise DataError(f"data: a list must hold paths (str or os.PathLike) or DataSets, got {', '.join(kinds)}")
     base = workdir if workdir is not None else Path.cwd()
-    return read_data_sets([resolve_user_path(x, base) for x in items])
+    return read_data_sets([resolve_user_path(x, base) for x in items], lenient=lenient)
 
 
 def _sets_from_dict(data):

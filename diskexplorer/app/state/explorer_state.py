@@ -341,7 +341,7 @@ class ExplorerState(t.HasTraits):
         self.set_data_sets(held)
         return gone
 
-    def load_files(self, paths, kind="auto", add=False):
+    def load_files(self, paths, kind="auto", add=False, lenient=False):
         """Read files and folders into the data; on failure only a message, nothing changes.
 
         Parameters
@@ -354,6 +354,9 @@ class ExplorerState(t.HasTraits):
             Add to the data already loaded (a file loaded again, or a second photometry
             table or spectrum, replaces its earlier version). If False, the new data
             replace every loaded data set of their kinds.
+        lenient : bool
+            Read what conforms in OIFITS files that do not conform to the standard; each
+            defect is listed as a warning of the file's data set.
 
         Returns
         -------
@@ -367,7 +370,7 @@ class ExplorerState(t.HasTraits):
             return False
         resolved = [resolve_user_path(t, state_folder(self)) for t in texts]
         try:
-            sets, notes = read_data_sets(resolved, kind=None if kind in (None, "auto") else kind)
+            sets, notes = read_data_sets(resolved, kind=None if kind in (None, "auto") else kind, lenient=lenient)
         except DiskExplorerError as exc:
             self.show_message(f"not loaded: {exc}")
             return False
