@@ -125,7 +125,7 @@ def _read_session_inputs(path):
 
     session = decode_session(read_session(path), base_dir=Path(path).resolve().parent, where=f"session {path}")
     desc = describe_loaded_data({k: v for k, v in session.data.items() if v}, session.bands, session.instruments,
-                                session.baseline_range, session.bandpass_off)
+                                session.baseline_range, session.bandpass_off, target=session.target or None)
     return session.scene, desc
 
 
@@ -156,7 +156,7 @@ def _cmd_evaluate(args):
 
     session = _read_session_inputs(args.start)
     common = dict(out=out, formats=formats, force=args.force, progress=say,
-                  image_wavelengths=wavelengths, npix=args.npix, lenient=args.lenient)
+                  image_wavelengths=wavelengths, npix=args.npix, lenient=args.lenient, target=args.target)
     if session is not None:
         scene, desc = session
         say(f"reading the session {args.start}")
@@ -253,6 +253,9 @@ def build_parser():
                    help="data files or folders to use instead (OIFITS, one photometry table, one spectrum; "
                         "recognised by content, a folder's other files skipped with a note); each kind given "
                         "replaces the document's data of that kind, other kinds are kept")
+    p.add_argument("--target", metavar="NAME",
+                   help="the target to judge (OI_TARGET name); default: the one the document names, else the "
+                        "science target (CATEGORY 'SCI'), else the one with most points")
     p.add_argument("--lenient", action="store_true",
                    help="read what conforms in OIFITS files that do not conform to the standard (each defect "
                         "is printed as a warning) instead of refusing them")

@@ -313,7 +313,7 @@ class Explorer(w.VBox):
         if "data" in tiers:
             self.view = DataView(st.observations, st.photometry, st.spectrum, bands=st.band_filter,
                                  instruments=st.instrument_filter, baseline_range=st.baseline_range,
-                                 bandpass=bandpass_choice(st.data_sets))
+                                 bandpass=bandpass_choice(st.data_sets), target=st.target)
             self._data_generation += 1
             self._pin_cache.clear()
             tiers |= {"model", "pins"}

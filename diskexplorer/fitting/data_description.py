@@ -90,7 +90,7 @@ def _baseline_range(value, where):
 
 
 def describe_loaded_data(sources, bands=(), instruments=(), baseline_range=(0.0, math.inf), bandpass_off=(),
-                         weights=None):
+                         weights=None, target=None):
     """The description of data loaded from files and filtered as the explorer does it.
 
     The one translation of the explorer's data (its files, band, instrument and baseline
@@ -110,6 +110,9 @@ def describe_loaded_data(sources, bands=(), instruments=(), baseline_range=(0.0,
         OIFITS paths whose model is taken at the channel centres.
     weights : dict, optional
         Weight per data kind.
+    target : str, optional
+        The target judged (None: chosen when the data are read, see
+        :func:`~diskexplorer.data.targets.choose_target`).
 
     Returns
     -------
@@ -121,8 +124,9 @@ def describe_loaded_data(sources, bands=(), instruments=(), baseline_range=(0.0,
     oifits = sources.get("oifits") or []
     oifits = [oifits] if isinstance(oifits, str) else oifits
     return DataDescription.from_dict({
-        "oifits": [{"path": str(p), "bands": list(bands) or None, "instruments": list(instruments) or None,
-                    "baseline_range": baselines, "bandpass": str(p) not in off} for p in oifits],
+        "oifits": [{"path": str(p), "target": target or None, "bands": list(bands) or None,
+                    "instruments": list(instruments) or None, "baseline_range": baselines,
+                    "bandpass": str(p) not in off} for p in oifits],
         "photometry": sources.get("photometry"), "spectrum": sources.get("spectrum"),
         "weights": dict(weights or {})})
 
@@ -271,8 +275,17 @@ class DataDescription:
         from .comparison import Comparison
 
         (obs, phot, spec), bandpass = self._load(base_dir, lenient)
-        return Comparison(obs, phot, spec, weights=self.weights or None, accuracy=accuracy,
-                          bandpass=bandpass or True)
+        # One target at a time: the entries' own target, else the science target, else the
+        # largest; the other targets' points are named as not judged.
+        from .not_judged import select_target
+
+        named = {e["target"] for e in self.oifits if e["target"]}
+        obs, target, why, others = select_target(obs, next(iter(named)) if len(named) == 1 else None)
+        comparison = Comparison(obs, phot, spec, weights=self.weights or None, accuracy=accuracy,
+                                bandpass=bandpass or True)
+        comparison.left_out = tuple(others) + comparison.left_out
+        comparison.target, comparison.target_reason = target, why
+        return comparison
 
 
 def describe_data(data):

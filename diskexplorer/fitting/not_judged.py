@@ -23,7 +23,7 @@ from pathlib import Path
 
 import numpy as np
 
-__all__ = ["LeftOut", "not_judged", "judged_flux", "describe_left_out"]
+__all__ = ["LeftOut", "not_judged", "judged_flux", "describe_left_out", "select_target"]
 
 
 @dataclass(frozen=True)
@@ -130,3 +130,24 @@ def not_judged(observations):
 def describe_left_out(left_out):
     """One line per group (empty list for none)."""
     return [str(x) for x in left_out]
+
+
+def select_target(observations, wanted=None):
+    """Keep one target's points: the one asked for, else the science target, else the largest.
+
+    Returns
+    -------
+    (ObservationSet or None, str or None, str, list of LeftOut)
+        The selected points, the target, why it was chosen ("" for a lone target) and a
+        group per other target whose points are not judged.
+    """
+    from ..data.targets import choose_target, target_points
+
+    name, why = choose_target(observations, wanted)
+    targets = target_points(observations)
+    if name is None or len(targets) < 2:
+        return observations, name, why, []
+    others = [LeftOut("interferometric", "", t["points"],
+                      f"target {t['name']!r}" + (f" (CATEGORY {t['category']!r})" if t["category"] else "")
+                      + f": only {name!r} is judged ({why})") for t in targets if t["name"] != name]
+    return observations.select_target(name), name, why, others

@@ -6,7 +6,8 @@ Layout (``"schema": "diskexplorer-session/2"``)::
      "scene": {...},                     # the scene codec's entries (scene_codec.py)
      "data": {"oifits": [paths], "photometry": path or null, "spectrum": path or null},
      "bandpass_off": [OIFITS paths whose channel average is switched off],
-     "filters": {"bands": [...], "instruments": [...], "baseline_range_m": [lo, hi or null]},
+     "filters": {"bands": [...], "instruments": [...], "baseline_range_m": [lo, hi or null],
+                 "target": name or ""},        # "": chosen automatically
      "view": {setting: value},           # VIEW_SETTINGS
      "pins": [{"name": str, "scene": {...}}],
      "fit_setup": {"free": [...], "bounds": {...}, "priors": {...}, "weights": {...}}}
@@ -62,6 +63,8 @@ class SessionContents:
         Filters (empty keeps all).
     baseline_range : (float, float)
         Projected baselines kept, m (``(0, inf)``: all).
+    target : str
+        The target judged ("": chosen automatically).
     view : dict
         Values of :data:`VIEW_SETTINGS`.
     fit_setup : dict
@@ -75,6 +78,7 @@ class SessionContents:
     bands: tuple = ()
     instruments: tuple = ()
     baseline_range: tuple = (0.0, math.inf)
+    target: str = ""
     view: dict = field(default_factory=dict)
     fit_setup: dict = field(default_factory=dict)
 
@@ -84,7 +88,7 @@ def _finite(x):
 
 
 def session_document(scene, *, data=None, bandpass_off=(), bands=(), instruments=(),
-                     baseline_range=(0.0, math.inf), view=None, pins=(), fit_setup=None):
+                     baseline_range=(0.0, math.inf), target="", view=None, pins=(), fit_setup=None):
     """A session document (a JSON-ready dict; see the module docstring).
 
     Parameters
@@ -96,6 +100,8 @@ def session_document(scene, *, data=None, bandpass_off=(), bands=(), instruments
     bands, instruments : sequence of str
     baseline_range : (float, float)
         m; an infinite upper end is written as null.
+    target : str
+        The target judged ("": chosen automatically).
     view : dict, optional
         View settings (only :data:`VIEW_SETTINGS` are kept).
     pins : sequence of (str, Scene)
@@ -112,7 +118,7 @@ def session_document(scene, *, data=None, bandpass_off=(), bands=(), instruments
         "data": dict(data or {}),
         "bandpass_off": list(bandpass_off),
         "filters": {"bands": list(bands), "instruments": list(instruments),
-                    "baseline_range_m": [_finite(float(b)) for b in baseline_range]},
+                    "baseline_range_m": [_finite(float(b)) for b in baseline_range], "target": str(target or "")},
         "view": {k: v for k, v in (view or {}).items() if k in VIEW_SETTINGS},
         "pins": [{"name": name, "scene": scene_entries(s)} for name, s in pins],
         "fit_setup": dict(fit_setup or {}),
@@ -211,7 +217,8 @@ def decode_session(document, base_dir=None, where="session"):
     return SessionContents(scene=scene, pins=pins, data=data,
                            bandpass_off=tuple(document.get("bandpass_off") or ()),
                            bands=tuple(filters.get("bands") or ()), instruments=tuple(filters.get("instruments") or ()),
-                           baseline_range=baseline_range, view=view, fit_setup=dict(document.get("fit_setup") or {}))
+                           baseline_range=baseline_range, target=str(filters.get("target") or ""), view=view,
+                           fit_setup=dict(document.get("fit_setup") or {}))
 
 
 # Fields of the first layout's plain scene form (sessions written before the codec).

@@ -1,6 +1,8 @@
 """The whole evaluation: read, compare, and write tables, the model cube and figures."""
 from __future__ import annotations
 
+import dataclasses
+
 from dataclasses import dataclass, field
 
 from ..errors import DataError, DiskExplorerError
@@ -49,7 +51,7 @@ class EvaluationReport:
 
 def evaluate(source, out="evaluation", data=None, formats=("png",), force=False, progress=None, *,
              base_dir=None, image_wavelengths=DEFAULT_IMAGE_WAVELENGTHS, npix=256, dpi=DEFAULT_DPI,
-             figures=True, cube=True, lenient=False):
+             figures=True, cube=True, lenient=False, target=None):
     """Evaluate a model against its data and write tables, a model cube and figures.
 
     Parameters
@@ -87,6 +89,9 @@ def evaluate(source, out="evaluation", data=None, formats=("png",), force=False,
     lenient : bool
         Read what conforms in OIFITS files that do not conform to the standard (each
         defect a warning) instead of refusing them.
+    target : str, optional
+        The target to judge in every OIFITS file. Default: the one the data description
+        names, else the science target, else the target with most points (said).
 
     Returns
     -------
@@ -142,8 +147,12 @@ def evaluate(source, out="evaluation", data=None, formats=("png",), force=False,
     if desc.empty:
         raise DataError("no data to evaluate against: the starting point names none; give data files "
                         "(--data PATH ...)")
+    if target:
+        desc = dataclasses.replace(desc, oifits=tuple({**e, "target": target} for e in desc.oifits))
     say("reading the data")
     comparison = desc.comparison(base_dir, accuracy=accuracy, lenient=lenient)
+    if getattr(comparison, "target_reason", ""):
+        say(f"judging the target {comparison.target} ({comparison.target_reason})")
     for group in comparison.left_out:
         say(f"not judged: {group}")
     plan = planned_outputs(out, comparison.kinds, fmts or ("png",), figures=figures, cube=cube)

@@ -15,6 +15,7 @@ import ipywidgets as w
 import numpy as np
 
 from ...data.bands import INTERFEROMETRIC_BANDS
+from ...data.targets import choose_target, target_points
 from ...errors import DiskExplorerError
 from ..state.echo_guard import EchoGuard
 from ..palette import MUTED, WARNING
@@ -149,6 +150,11 @@ class DataPage(w.VBox):
                                       style={"description_width": "60px"})
         self.instruments = w.SelectMultiple(description="instruments", rows=4, layout={"width": "200px"},
                                             style={"description_width": "76px"})
+        # Shown when the data hold several targets: the one the model is judged against.
+        self.target = w.Dropdown(options=[("automatic", "")], value="", description="target",
+                                 style={"description_width": "60px"}, layout={"width": "340px", "display": "none"})
+        self.target.add_class("dx-target")
+        self.target.observe(lambda ch: self._on_target(), "value")
         self.baselines = w.FloatRangeSlider(min=0.0, max=200.0, value=(0.0, 200.0), step=1.0,
                                             description="baseline [m]", continuous_update=False,
                                             style={"description_width": "86px"}, layout={"width": "340px"})
@@ -160,7 +166,7 @@ class DataPage(w.VBox):
             w.HTML("<div class='dx-section-title'>load data</div>"), self.kind,
             w.HBox([self.path, self.load_button]), w.HBox([self.upload, self.lenient]),
             w.HTML("<div class='dx-section-title'>loaded data</div>"), self.rows, self.clear_button,
-            w.HTML("<div class='dx-section-title'>filters</div>"), w.HBox([self.bands, self.instruments]),
+            w.HTML("<div class='dx-section-title'>filters</div>"), self.target, w.HBox([self.bands, self.instruments]),
             self.baselines, self.summary, self.species_form])
         self.add_class("dx-data-panel")
         state.observe(lambda ch: self.sync(), ["observations", "photometry", "spectrum", "data_sets"])
@@ -199,6 +205,11 @@ class DataPage(w.VBox):
         if change["new"]:
             self.load_uploaded(change["new"])
 
+    def _on_target(self):
+        if self._quiet:
+            return
+        self.state.set_filters(target=self.target.value)
+
     def _on_filter(self):
         if self._quiet:
             return
@@ -206,6 +217,20 @@ class DataPage(w.VBox):
         full = math.isclose(lo, self.baselines.min) and math.isclose(hi, self.baselines.max)
         self.state.set_filters(self.bands.value, self.instruments.value,
                                (0.0, math.inf) if full else (lo, hi))
+
+    def _show_targets(self, obs):
+        targets = target_points(obs)
+        if len(targets) < 2:
+            self.target.layout.display = "none"
+            return
+        chosen, why = choose_target(obs)
+        options = [(f"automatic: {chosen} ({why})", "")] + [
+            (f"{t['name']}" + (f" [{t['category']}]" if t["category"] else "") + f" · {t['points']:,} points", t["name"])
+            for t in targets]
+        if self.target.options != tuple(options):
+            self.target.options = options
+        self.target.value = self.state.target if self.state.target in [v for _, v in options] else ""
+        self.target.layout.display = None
 
     def sync(self):
         """List the data sets; offer the bands, instruments and baseline range present in the data."""
@@ -218,6 +243,7 @@ class DataPage(w.VBox):
         with self._quiet:
             if obs is None:
                 self.bands.options, self.instruments.options = (), ()
+                self.target.layout.display = "none"
                 lines = ["no interferometric data"]
             else:
                 waves = np.concatenate([ds["wavelength"].values for ds in obs.datasets().values()] or [np.zeros(0)])
@@ -235,4 +261,5 @@ class DataPage(w.VBox):
                 lo, hi = st.baseline_range
                 self.baselines.value = (min(lo, top), min(hi, top))
                 lines = [f"{k}: {n:,} points in total" for k, n in obs.n_points().items() if n]
+                self._show_targets(obs)
             self.summary.value = "<div style='font-size:11px'>" + "<br>".join(html.escape(x) for x in lines) + "</div>"

@@ -5,7 +5,9 @@ import math
 
 import numpy as np
 
+from ...errors import DiskExplorerError
 from ...fitting.comparison import Comparison
+from ...fitting.not_judged import select_target
 
 __all__ = ["DataView", "filter_observations"]
 
@@ -71,12 +73,19 @@ class DataView:
     """
 
     def __init__(self, observations=None, photometry=None, spectrum=None, *, bands=(), instruments=(),
-                 baseline_range=(0.0, math.inf), bandpass=True):
+                 baseline_range=(0.0, math.inf), bandpass=True, target=""):
+        # One target at a time: a model of one disk is not judged against a calibrator.
+        try:
+            observations, self.target, self.target_reason, others = select_target(observations, target or None)
+        except DiskExplorerError:   # the chosen target is gone with its file: choose anew
+            observations, self.target, self.target_reason, others = select_target(observations)
         obs = filter_observations(observations, bands, instruments, baseline_range)
         self.observations = obs
         self.photometry = photometry
         self.spectrum = spectrum
         self.comparison = Comparison(obs, photometry, spectrum, bandpass=bandpass)
+        # The other targets' points are named wherever the comparison's left-out points are.
+        self.comparison.left_out = tuple(others) + self.comparison.left_out
         self.vis2 = self.t3 = None
         self.visamp = self.corrflux = self.diffphi = None
         self.baselines = []

@@ -38,7 +38,7 @@ TIERS = {
     "pins": "pins",
     "scene": "model",
     "observations": "data", "photometry": "data", "spectrum": "data",
-    "band_filter": "data", "instrument_filter": "data", "baseline_range": "data",
+    "band_filter": "data", "instrument_filter": "data", "baseline_range": "data", "target": "data",
     # The starting-point set-up and the derived-quantity assumptions change no observable:
     # they refresh only their own panel.
     "fit_setup": "export",
@@ -89,6 +89,9 @@ class ExplorerState(t.HasTraits):
         Where the data came from: ``{"oifits": [paths], "photometry": path, "spectrum": path}``.
     band_filter, instrument_filter : tuple of str
         Interferometric bands and instruments to keep; empty keeps all.
+    target : str
+        The target judged ("": the science target if OI_TARGET says which, else the one
+        with most points; see :func:`~diskexplorer.data.targets.choose_target`).
     baseline_range : tuple of float
         Projected baselines to keep, m (``(0, inf)`` keeps all).
     curve_position_angle : float
@@ -122,6 +125,7 @@ class ExplorerState(t.HasTraits):
     spectrum = Held(None)
     data_sources = t.Dict()
     band_filter = t.Tuple()
+    target = t.Unicode("")
     instrument_filter = t.Tuple()
     baseline_range = t.Tuple((0.0, float("inf")))
     curve_position_angle = t.Float(0.0)
@@ -244,13 +248,16 @@ class ExplorerState(t.HasTraits):
             for name, value in settings.items():
                 setattr(self, name, value)
 
-    def set_filters(self, bands=None, instruments=None, baseline_range=None):
-        """Keep only some interferometric bands, instruments and projected baselines (m).
+    def set_filters(self, bands=None, instruments=None, baseline_range=None, target=None):
+        """Keep only some interferometric bands, instruments, projected baselines (m) and one target.
 
-        ``None`` leaves a filter as it is; empty bands or instruments keep all, and
-        ``(0, inf)`` keeps every baseline.
+        ``None`` leaves a filter as it is; empty bands or instruments keep all,
+        ``(0, inf)`` keeps every baseline and ``target=""`` chooses the target
+        automatically.
         """
         with self.hold_trait_notifications():
+            if target is not None:
+                self.target = str(target)
             if bands is not None:
                 self.band_filter = tuple(bands)
             if instruments is not None:
@@ -479,7 +486,7 @@ class ExplorerState(t.HasTraits):
             if off:
                 self.set_data_sets([dataclasses.replace(d, bandpass=False) if d.source in off else d
                                     for d in self.data_sets])
-            self.set_filters(contents.bands, contents.instruments, contents.baseline_range)
+            self.set_filters(contents.bands, contents.instruments, contents.baseline_range, contents.target)
             self.set_view(**{k: v for k, v in contents.view.items() if k in VIEW_SETTINGS})
             self.pins = [{"name": name, "scene": scene} for name, scene in contents.pins]
             self.scene = contents.scene

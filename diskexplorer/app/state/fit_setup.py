@@ -5,6 +5,7 @@ functions keep it well formed and read documents built from it. No widget librar
 """
 from __future__ import annotations
 
+from ...data.targets import choose_target, target_points
 from ...fitting.data_description import describe_loaded_data
 from ...fitting.priors import PRIOR_KINDS
 
@@ -96,5 +97,8 @@ def describe_state_data(state, weights=None):
     notes = [f"the loaded {kind} data were not read from a file and are not named"
              for kind, held in (("oifits", state.observations), ("photometry", state.photometry),
                                 ("spectrum", state.spectrum)) if held is not None and not src.get(kind)]
+    # The target judged: the one chosen, or the one chosen automatically now (so a fit
+    # judges the same target even if the files' categories are read otherwise later).
+    target = state.target or choose_target(state.observations)[0]
     return describe_loaded_data(src, state.band_filter, state.instrument_filter, state.baseline_range, off,
-                                weights), notes
+                                weights, target=target if len(target_points(state.observations)) > 1 else None), notes

@@ -22,6 +22,7 @@ def session_of_state(state):
         # OIFITS files whose channel-bandpass switch is off (the default is on).
         bandpass_off=[d.source for d in state.data_sets if d.kind == "oifits" and d.source and not d.bandpass],
         bands=state.band_filter, instruments=state.instrument_filter, baseline_range=state.baseline_range,
+        target=state.target,
         view={k: getattr(state, k) for k in VIEW_SETTINGS},
         pins=[(p["name"], p["scene"]) for p in state.pins],
         # free/fixed, bounds, priors and weights of the starting-point page
