@@ -33,8 +33,9 @@ is u / wavelength.
 
 from __future__ import annotations
 
-import warnings
 from collections.abc import Iterable, Mapping
+
+import warnings
 
 import numpy as np
 import xarray as xr
@@ -43,7 +44,7 @@ from ..errors import DataError
 from .bands import band_range
 
 __all__ = ["ObservationSet", "KINDS", "KIND_SPEC", "REFERENCE_VARIABLES", "make_point_dataset",
-           "baseline_lengths", "reference_from_map"]
+           "baseline_lengths", "reference_from_map", "distinct_arrays"]
 
 #: Observable kinds in a fixed order.
 KINDS = ("vis2", "vis", "t3", "flux")
@@ -160,6 +161,38 @@ def _as_tuple(names) -> tuple:
     if isinstance(names, str):
         return (names,)
     return tuple(names)
+
+
+def distinct_arrays(held, new):
+    """Add the station tables ``new`` to ``held`` (both ARRNAME → table), keeping different ones apart.
+
+    Parameters
+    ----------
+    held : dict
+        Tables kept so far; updated in place.
+    new : dict
+        Tables of another set or file.
+
+    Returns
+    -------
+    dict
+        ARRNAME of ``new`` → the name it has in ``held``: the same name, the name of an
+        equal table already held, or a new name ``NAME~k`` when a table of that name with
+        other stations is held already.
+    """
+    mapping = {}
+    for name, tab in new.items():
+        same = [n for n, t in held.items() if (n == name or n.startswith(f"{name}~")) and t.equals(tab)]
+        if same:
+            mapping[name] = same[0]
+            continue
+        alias, k = name, 1
+        while alias in held:
+            k += 1
+            alias = f"{name}~{k}"
+        held[alias] = tab
+        mapping[name] = alias
+    return mapping
 
 
 class ObservationSet:
@@ -342,12 +375,25 @@ class ObservationSet:
     def concat(cls, sets: Iterable["ObservationSet"]) -> "ObservationSet":
         """Concatenate several sets into one (points appended in order).
 
-        Target and array tables are merged; on a name clash the first definition wins and
-        a warning says so when the tables differ.
+        Target tables are merged (the first definition of a name wins). Station tables
+        are kept apart: an array of a name already held with other stations (another
+        configuration, another night) is given a name of its own (``NAME~2``, …) in
+        the combined set, so its points keep their own stations and the combined set can
+        be judged, filtered and written (:func:`distinct_arrays`).
         """
         sets = list(sets)
         if not sets:
             return cls()
+        arrays = {}
+        renamed = []
+        for s in sets:
+            mapping = distinct_arrays(arrays, s.arrays)
+            moved = {k: v for k, v in mapping.items() if k != v}
+            for old, new in moved.items():
+                warnings.warn(f"array {old!r} of {', '.join(map(str, s.files)) or 'a set'} has other stations than "
+                              f"the array of that name already held: kept apart as {new!r}", stacklevel=2)
+            renamed.append(s._rename_arrays(mapping) if moved else s)
+        sets = renamed
         out = {}
         for k in KINDS:
             parts = [getattr(s, k) for s in sets if getattr(s, k) is not None]
@@ -357,18 +403,25 @@ class ObservationSet:
             out[k] = (xr.concat(parts, dim="point", data_vars="all", coords="all", compat="equals",
                                 join="outer", combine_attrs="override") if len(parts) > 1
                       else (parts[0] if parts else None))
-        targets, arrays, files, notes = {}, {}, [], []
+        targets, files, notes = {}, [], []
         for s in sets:
             for name, info in s.targets.items():
                 targets.setdefault(name, info)
-            for name, tab in s.arrays.items():
-                if name in arrays and not arrays[name].equals(tab):
-                    warnings.warn(f"array {name!r} is defined differently in two sets; "
-                                  "keeping the first station table", stacklevel=2)
-                arrays.setdefault(name, tab)
             files.extend(f for f in s.files if f not in files)
             notes.extend(s.notes)
         return cls(**out, targets=targets, arrays=arrays, files=files, notes=notes)
+
+    def _rename_arrays(self, mapping):
+        """A copy whose ARRNAMEs are renamed by ``mapping`` (points and station tables)."""
+        def rename(k, ds):
+            names = np.array([mapping.get(n, n) for n in np.asarray(ds["arrname"].values).astype(object)], dtype=object)
+            if "arrname" in ds.coords:
+                return ds.assign_coords(arrname=("point", names))
+            return ds.assign(arrname=("point", names))
+
+        out = self._map(rename)
+        out.arrays = {mapping.get(n, n): tab for n, tab in self.arrays.items()}
+        return out
 
     def __add__(self, other: "ObservationSet") -> "ObservationSet":
         if not isinstance(other, ObservationSet):

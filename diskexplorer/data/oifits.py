@@ -29,7 +29,7 @@ from astropy.io import fits
 
 from ..errors import DataError
 from .fits_tables import BLOCK, fits_layout, open_simple_fits, read_fits_bytes
-from .observations import (KIND_SPEC, ObservationSet, make_array_table, make_point_dataset,
+from .observations import (KIND_SPEC, ObservationSet, distinct_arrays, make_array_table, make_point_dataset,
                            reference_from_map)
 from .oifits_validate import (ERROR_COLS, OifitsWarning, check_fits_signature, oifits_version,
                               validate_oifits)
@@ -143,13 +143,17 @@ def read_oifits(path_or_paths, target=None, strict: bool = True, *, pedantic: bo
                 warnings.warn(OifitsWarning(str(d) + suffix), stacklevel=2)
                 notes.append(str(d) + suffix)
             file_parts, file_targets, file_arrays = _read_file(hdul, path, wanted, keep_flagged)
+        # Station tables of one ARRNAME but other stations (another configuration or
+        # night) stay apart: this file's array gets a name of its own in the set.
+        mapping = distinct_arrays(arrays, file_arrays)
         for k, cols in file_parts.items():
+            for c in cols:
+                if "arrname" in c and any(a != b for a, b in mapping.items()):
+                    c["arrname"] = np.array([mapping.get(n, n) for n in c["arrname"]], dtype=object)
             parts[k].extend(cols)
         seen_targets.update(file_targets)
         for name, info in file_targets.items():
             targets.setdefault(name, info)
-        for name, tab in file_arrays.items():
-            arrays.setdefault(name, tab)
         if wanted is not None and not any(cols for cols in file_parts.values()):
             msg = f"{path}: holds no data for target(s) {sorted(wanted)}"
             warnings.warn(OifitsWarning(msg), stacklevel=2)

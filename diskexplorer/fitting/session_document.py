@@ -16,7 +16,9 @@ The scene and each pin are written with the same codec as starting points, so a 
 keeps every dust form (mixtures with per-component sizes and shapes, κ tables by path or
 inline, power-law opacities, registered species by name), photosphere tables and the
 temperature settings of equilibrium rings. Data are stored as paths, not copies:
-restoring re-reads the files. Sessions of the first layout (``diskexplorer-session/1``,
+restoring re-reads the files. A κ table read from a file is stored by its path: an
+absolute one as given, a relative one relative to the session file's folder
+(:func:`write_session`), against which :func:`decode_session` resolves it. Sessions of the first layout (``diskexplorer-session/1``,
 a plain scene form that kept mixtures only) are still read.
 """
 from __future__ import annotations
@@ -32,6 +34,7 @@ from ..observables.scene import Scene
 from ..physics.ring import Ring
 from ..physics.star import Star
 from .scene_codec import scene_entries, scene_from_entries
+from .start_import import validate_scene_entries
 
 __all__ = ["SESSION_SCHEMA", "VIEW_SETTINGS", "SessionContents", "session_document", "write_session",
            "read_session", "decode_session"]
@@ -125,8 +128,57 @@ def session_document(scene, *, data=None, bandpass_off=(), bands=(), instruments
     }
 
 
+def _table_paths_from(document, folder):
+    """``document`` with each κ table's relative path re-expressed from ``folder`` (a new dict).
+
+    A table given by a relative path was read against the current folder, while readers
+    resolve the stored path against the session file's folder: the stored path must lead
+    from there to the same file. Absolute paths are kept as given.
+    """
+    def scene(entry):
+        if not (isinstance(entry, dict) and isinstance(entry.get("rings"), list)):
+            return entry
+        rings = []
+        for ring in entry["rings"]:
+            dust = ring.get("dust") if isinstance(ring, dict) else None
+            table = isinstance(dust, dict) and dust.get("kind") == "kappa_table"
+            given = dust.get("path") if table else None
+            if isinstance(given, str) and not os.path.isabs(os.path.expanduser(given)):
+                target = os.path.abspath(os.path.expanduser(given))
+                try:
+                    stored = os.path.relpath(target, folder)
+                except ValueError:   # on another drive (Windows): no relative path leads there
+                    stored = target
+                ring = {**ring, "dust": {**dust, "path": stored}}
+            rings.append(ring)
+        return {**entry, "rings": rings}
+
+    out = {**document, "scene": scene(document.get("scene"))}
+    if isinstance(document.get("pins"), list):
+        out["pins"] = [{**p, "scene": scene(p.get("scene"))} if isinstance(p, dict) else p
+                       for p in document["pins"]]
+    return out
+
+
 def write_session(path, document, overwrite=False):
     """Write ``document`` as JSON to ``path``.
+
+    κ tables stored by a relative path (relative to the current folder, where they were
+    read) are written relative to the session file's folder, which
+    :func:`decode_session` resolves them against (``base_dir``); absolute paths stay.
+
+    Parameters
+    ----------
+    path : str or os.PathLike
+    document : dict
+        From :func:`session_document`; not modified.
+    overwrite : bool
+        Replace an existing file.
+
+    Returns
+    -------
+    pathlib.Path
+        The path written.
 
     Raises
     ------
@@ -136,6 +188,7 @@ def write_session(path, document, overwrite=False):
         If the document holds non-finite numbers (JSON has none).
     """
     path = Path(path).expanduser()
+    document = _table_paths_from(document, os.path.dirname(os.path.abspath(path)))
     try:
         text = json.dumps(document, indent=2, ensure_ascii=False, allow_nan=False)
     except ValueError as exc:
@@ -190,6 +243,9 @@ def decode_session(document, base_dir=None, where="session"):
     legacy = document.get("schema") == "diskexplorer-session/1"
 
     def scene_of(entry, at):
+        if not legacy:
+            # Names the bad entry and what was expected before anything is built.
+            validate_scene_entries(entry, f"{where}: {at}")
         try:
             if legacy:
                 return _legacy_scene(entry)
@@ -230,17 +286,19 @@ def _legacy_scene(d):
     """The scene of a ``diskexplorer-session/1`` document (mixtures or opaque rings only)."""
     from ..dust import DustMix
 
-    def dust(entry):
+    def dust(entry, where):
         if entry is None:
             return None
         if entry.get("kind") != "mixture":
-            raise SeedError(f"dust {entry.get('label', entry)!r} was not saved by this older session layout")
+            raise SeedError(f"{where}: {entry.get('label', entry)!r} was not saved by the first session layout "
+                            "(it kept mixtures and opaque rings only); give the ring its dust again and "
+                            "save the session anew")
         fractions = [(tuple(k) if isinstance(k, list) else k, f) for k, f in entry["fractions"]]
         return DustMix(fractions, grain_size=entry["grain_size"], shape=entry["shape"])
 
     star = d.get("star")
-    rings = tuple(Ring(**{f: r[f] for f in _LEGACY_RING_FIELDS if f in r}, dust=dust(r.get("dust")))
-                  for r in d.get("rings", ()))
+    rings = tuple(Ring(**{f: r[f] for f in _LEGACY_RING_FIELDS if f in r}, dust=dust(r.get("dust"), f"rings.{k}.dust"))
+                  for k, r in enumerate(d.get("rings", ())))
     return Scene(distance=d["distance"], inclination=d["inclination"], position_angle=d["position_angle"],
                  extended_fraction=d.get("extended_fraction", 0.0),
                  star=None if star is None else Star(star["t_eff"], star["radius"], mass=star["mass"],

@@ -28,7 +28,7 @@ from .start_schema import SCHEMA_ID, SCHEMA_VERSION, load_schema
 from .vector import (initial_walkers, log_prior, scene_from_vector,
                      vector_from_scene)
 
-__all__ = ["StartingPoint", "read_start", "validate_document"]
+__all__ = ["StartingPoint", "read_start", "validate_document", "validate_scene_entries"]
 
 _SCHEMA_RE = re.compile(r"^diskexplorer\.start/(\d+)$")
 
@@ -154,25 +154,41 @@ def _location(parts):
     parts = [str(p) for p in parts]
     if parts[:1] == ["scene"] and len(parts) > 1:
         parts = parts[1:]
-    return ".".join(parts) or "document"
+    return ".".join(parts)
 
 
-def _schema_message(error):
-    where = _location(error.absolute_path)
+def _schema_message(error, top="document"):
+    """The message of one violation, led by the entry's path (``top`` for the checked object itself)."""
+    where = _location(error.absolute_path) or top
     inst = error.instance
     if error.validator == "additionalProperties" and isinstance(inst, dict):
         allowed = list(error.schema.get("properties", {}))
         extra = sorted(set(inst) - set(allowed))
-        return (f"{where}: unknown key{'s' if len(extra) > 1 else ''} {', '.join(map(repr, extra))}; "
+        body = (f"unknown key{'s' if len(extra) > 1 else ''} {', '.join(map(repr, extra))}; "
                 f"allowed: {', '.join(allowed)}")
-    if error.validator == "required":
+    elif error.validator == "required":
         missing = [k for k in error.validator_value if not (isinstance(inst, dict) and k in inst)]
-        return f"{where}: missing field{'s' if len(missing) > 1 else ''} {', '.join(map(repr, missing))}"
-    if error.validator == "type":
-        return f"{where}: {inst!r:.60} is not of type {error.validator_value!r}"
-    if error.validator == "enum":
-        return f"{where}: {inst!r} is not one of {', '.join(map(repr, error.validator_value))}"
-    return f"{where}: {error.message}"
+        body = f"missing field{'s' if len(missing) > 1 else ''} {', '.join(map(repr, missing))}"
+    elif error.validator == "type":
+        body = f"{inst!r:.60} is not of type {error.validator_value!r}"
+    elif error.validator == "enum":
+        body = f"{inst!r} is not one of {', '.join(map(repr, error.validator_value))}"
+    else:
+        body = error.message
+    return f"{where}: {body}" if where else body
+
+
+def _check_schema(schema, instance, where, top="document"):
+    """Raise SeedError for the most relevant violation of ``schema`` by ``instance``."""
+    # Deferred: importing jsonschema costs ~2 s (its format checkers), paid only on reading.
+    import jsonschema
+
+    errors = list(jsonschema.Draft202012Validator(schema).iter_errors(instance))
+    if errors:
+        best = jsonschema.exceptions.best_match(errors)
+        more = f" (and {len(errors) - 1} more problem(s))" if len(errors) > 1 else ""
+        prefix = "" if where == "document" else f"{where}: "
+        raise SeedError(prefix + _schema_message(best, top) + more)
 
 
 def validate_document(doc, where="document"):
@@ -184,17 +200,29 @@ def validate_document(doc, where="document"):
         The first (most relevant) violation, naming its path; the count of further
         violations is appended.
     """
-    # Deferred: importing jsonschema costs ~2 s (its format checkers), paid only on reading.
-    import jsonschema
-
     _check_version(doc, where)
-    validator = jsonschema.Draft202012Validator(load_schema())
-    errors = list(validator.iter_errors(doc))
-    if errors:
-        best = jsonschema.exceptions.best_match(errors)
-        more = f" (and {len(errors) - 1} more problem(s))" if len(errors) > 1 else ""
-        prefix = "" if where == "document" else f"{where}: "
-        raise SeedError(prefix + _schema_message(best) + more)
+    _check_schema(load_schema(), doc, where)
+
+
+def validate_scene_entries(entry, where="scene"):
+    """Check a ``"scene"`` object alone (as sessions hold it) against the shipped JSON Schema.
+
+    Parameters
+    ----------
+    entry : dict
+        The scene part of a document (:func:`~diskexplorer.fitting.scene_codec.scene_entries`).
+    where : str
+        Names the object in messages (e.g. ``"session s.json: pins.0.scene"``).
+
+    Raises
+    ------
+    SeedError
+        As :func:`validate_document`: ``"<where>: rings.0.dust.kind: 'magic' is not one of
+        ..."``, or ``"<where>: missing field 'rings'"`` for the object itself.
+    """
+    schema = load_schema()
+    # The scene's sub-schema refers to the shared definitions by "#/$defs/...".
+    _check_schema({"$defs": schema["$defs"], **schema["properties"]["scene"]}, entry, where, top="")
 
 
 # --------------------------------------------------------------------------- meaning

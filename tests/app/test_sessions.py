@@ -1,14 +1,16 @@
 """Sessions keep everything the explorer holds, in every form a scene can take."""
 import json
 import math
+import os
 
 import numpy as np
 import pytest
 
-from diskexplorer.app.state.sessions import (SESSION_SCHEMA, decode_session, read_session, session_of_state,
-                                             write_session)
+from diskexplorer.app.state.sessions import (SESSION_SCHEMA, VIEW_SETTINGS, decode_session, read_session,
+                                             session_of_state, write_session)
 from diskexplorer.dust import DustMix
 from diskexplorer.errors import DiskExplorerError, SeedError
+from diskexplorer.fitting.session_document import session_document
 from diskexplorer.observables.scene import Scene
 from diskexplorer.physics.opacity import KappaTable, PowerLawOpacity
 from diskexplorer.physics.ring import Ring
@@ -63,6 +65,11 @@ def test_a_session_of_table_power_law_and_photosphere_round_trips_equal(kappa_pa
     assert_scenes_equal(contents.scene, st.scene)
     assert [n for n, _ in contents.pins] == ["as opened"]
     assert_scenes_equal(contents.pins[0][1], scene, "pin")
+    assert (contents.bands, contents.instruments, contents.baseline_range) == (("N",), (), (10.0, 90.0))
+    assert contents.view == {k: getattr(st, k) for k in VIEW_SETTINGS}
+    assert contents.fit_setup == st.fit_setup
+    off = tuple(d.source for d in st.data_sets if d.kind == "oifits" and not d.bandpass)
+    assert len(off) == 1 and contents.bandpass_off == off
 
     b = _app(Scene(distance=100.0), tmp_path, data=[])
     assert b.state.restore_session(contents) == []
@@ -122,10 +129,64 @@ def test_a_file_that_is_not_a_session_is_refused_by_name(tmp_path, text, fragmen
     assert "broken.json" in str(info.value)
 
 
-def test_a_bad_scene_entry_is_named_with_the_document(tmp_path):
-    doc = json.loads(json.dumps(session_of_state(_app(Scene(distance=100.0), tmp_path, data=[]).state)))
+def test_a_relative_kappa_table_path_is_stored_from_the_session_folder(tmp_path, monkeypatch):
+    # The table is read by a path relative to the working folder; the session lives
+    # elsewhere and is read from a third folder.
+    work = tmp_path / "work"
+    (work / "tables").mkdir(parents=True)
+    np.savetxt(work / "tables" / "k.txt", [[1.0, 2000.0], [5.0, 1200.0], [10.0, 2600.0], [20.0, 700.0]])
+    monkeypatch.chdir(work)
+    scene = Scene(distance=150.0, rings=(Ring(r_in=0.5, r_out=2.0, t_in=900.0, name="table",
+                                              dust=KappaTable.from_file(os.path.join("tables", "k.txt"))),))
+    folder = tmp_path / "sessions"
+    folder.mkdir()
+    doc = session_document(scene, pins=[("pinned", scene)])
+    path = write_session(folder / "s.json", doc)
+    assert doc["scene"]["rings"][0]["dust"]["path"] == os.path.join("tables", "k.txt")   # not modified
+    stored = read_session(path)
+    expected = os.path.join("..", "work", "tables", "k.txt")
+    assert stored["scene"]["rings"][0]["dust"]["path"] == stored["pins"][0]["scene"]["rings"][0]["dust"]["path"] \
+        == expected
+    monkeypatch.chdir(tmp_path)
+    contents = decode_session(stored, base_dir=folder)
+    assert_scenes_equal(contents.scene, scene)
+    assert_scenes_equal(contents.pins[0][1], scene, "pin")
+
+
+def _edit_kind(doc):
+    doc["scene"]["rings"][0]["dust"]["kind"] = "magic"
+
+
+def _drop_pin_rings(doc):
+    del doc["pins"][0]["scene"]["rings"]
+
+
+def _negative_distance(doc):
     doc["scene"]["distance"]["value"] = -5.0
-    with pytest.raises(SeedError, match=r"session s\.json: scene: distance"):
+
+
+def _unsupported_legacy_dust(doc):
+    doc["schema"] = "diskexplorer-session/1"
+    doc["scene"] = {"distance": 140.0, "inclination": 30.0, "position_angle": 0.0, "star": None,
+                    "rings": [{"r_in": 0.3, "r_out": 1.0, "dust": {"kind": "unsupported", "label": "my table"}}]}
+
+
+# (edit of a good document, expected message: the document, the entry's path, what was expected)
+BAD_ENTRIES = [
+    (_edit_kind, r"^session s\.json: scene: rings\.0\.dust\.kind: 'magic' is not one of 'mixture'"),
+    (_drop_pin_rings, r"^session s\.json: pins\.0\.scene: missing field 'rings'"),
+    (_negative_distance, r"^session s\.json: scene: distance: value -5 pc is outside the physically allowed range"),
+    (_unsupported_legacy_dust, r"^session s\.json: scene: rings\.0\.dust: 'my table' was not saved by the first session layout"),
+]
+
+
+@pytest.mark.parametrize("edit, pattern", BAD_ENTRIES, ids=[e.__name__.strip("_") for e, _ in BAD_ENTRIES])
+def test_a_bad_scene_entry_is_named_with_the_document(edit, pattern):
+    scene = Scene(distance=140.0, rings=(Ring(r_in=0.3, r_out=1.0, t_in=1400.0,
+                                              dust=DustMix({"olivine_glass": 1.0})),))
+    doc = json.loads(json.dumps(session_document(scene, pins=[("pinned", scene)])))
+    edit(doc)
+    with pytest.raises(SeedError, match=pattern):
         decode_session(doc, where="session s.json")
 
 

@@ -297,7 +297,7 @@ class ExplorerState(t.HasTraits):
         Returns
         -------
         list of str
-            Warnings of combining them (e.g. two arrays of one name defined differently).
+            Warnings of combining them (e.g. an array of one name with other stations, kept apart).
         """
         data_sets = tuple(data_sets)
         combined = combine_data_sets(data_sets)
