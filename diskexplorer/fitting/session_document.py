@@ -18,8 +18,9 @@ inline, power-law opacities, registered species by name), photosphere tables and
 temperature settings of equilibrium rings. Data are stored as paths, not copies:
 restoring re-reads the files. A κ table read from a file is stored by its path: an
 absolute one as given, a relative one relative to the session file's folder
-(:func:`write_session`), against which :func:`decode_session` resolves it. Sessions of the first layout (``diskexplorer-session/1``,
-a plain scene form that kept mixtures only) are still read.
+(:func:`write_session`), against which :func:`decode_session` resolves it. Sessions of
+the first layout (``diskexplorer-session/1``, a plain scene form that kept mixtures only)
+are still read.
 """
 from __future__ import annotations
 

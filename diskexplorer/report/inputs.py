@@ -51,7 +51,9 @@ def data_description_with(description, files=None, base_dir=None, *, say=None):
         Folder the description's relative paths refer to; override paths are made
         absolute against the current directory, so they stay right whatever the base.
     say : callable, optional
-        ``say(message)`` for each file of a folder that is skipped as not data.
+        ``say(message)`` for each file of a folder that is skipped as not data, and for
+        each kind of the description that the files do not replace and that is kept
+        (the explorer replaces all its data on a load; here the output says what stays).
 
     Returns
     -------
@@ -83,4 +85,10 @@ def data_description_with(description, files=None, base_dir=None, *, say=None):
         d["photometry"] = kinds["photometry"][0]
     if kinds["spectrum"]:
         d["spectrum"] = kinds["spectrum"][0]
+    for kind in ("oifits", "photometry", "spectrum"):
+        kept = d.get(kind)
+        if kept and not kinds[kind]:
+            paths = [e["path"] if isinstance(e, dict) else e for e in (kept if isinstance(kept, list) else [kept])]
+            (say or (lambda message: None))(f"note: keeping the document's {kind} data ({', '.join(map(str, paths))}): "
+                                            f"--data gave no {kind} file")
     return DataDescription.from_dict(d)

@@ -176,7 +176,8 @@ BAD_ENTRIES = [
     (_edit_kind, r"^session s\.json: scene: rings\.0\.dust\.kind: 'magic' is not one of 'mixture'"),
     (_drop_pin_rings, r"^session s\.json: pins\.0\.scene: missing field 'rings'"),
     (_negative_distance, r"^session s\.json: scene: distance: value -5 pc is outside the physically allowed range"),
-    (_unsupported_legacy_dust, r"^session s\.json: scene: rings\.0\.dust: 'my table' was not saved by the first session layout"),
+    (_unsupported_legacy_dust,
+     r"^session s\.json: scene: rings\.0\.dust: 'my table' was not saved by the first session layout"),
 ]
 
 

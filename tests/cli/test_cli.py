@@ -103,8 +103,11 @@ def test_evaluate_prints_chi2_table_and_progress(start_file, tmp_path, capsys):
     out = capsys.readouterr().out
     assert "reading the data" in out and "figure sed" in out
     assert "chi2/N" in out and "total" in out
-    # --data replaced the OIFITS (H/K only) and photometry; the document's spectrum is kept.
+    # --data replaced the OIFITS (H/K only) and photometry; the document's spectrum is kept,
+    # and the output says so (the explorer would have replaced all its data).
     assert "QT-N" not in out and "spectrum" in out
+    assert "note: keeping the document's spectrum data (" in out and SAMPLE_FILES["spectrum"] in out
+    assert "keeping the document's photometry" not in out and "keeping the document's oifits" not in out
 
 
 @pytest.mark.parametrize("name", SAMPLE_FIGURES)
