@@ -12,7 +12,7 @@ import time
 from pathlib import Path
 
 ROOT = Path(__file__).resolve().parents[1]
-NOTEBOOK = ROOT / "diskexplorer" / "app" / "explorer.ipynb"
+NOTEBOOK = ROOT / "diskexplorer" / "app" / "serving" / "explorer.ipynb"
 SHOTS = ROOT / "docs" / "screenshots"
 ARGS = ["--headless", "--no-sandbox", "--disable-gpu", "--disable-quic", "--no-first-run",
         "--disable-background-networking", "--disable-component-update", "--disable-sync"]
