@@ -68,16 +68,20 @@ def judged_flux(flux):
     return np.asarray((calstat == "C") & (unit == "Jy"), dtype=bool)
 
 
-def _group(ds, mask, table, reason_of):
+def _group(ds, mask, table, signature, reason_of):
+    """Groups of the masked points by file and ``signature`` (the values the reason reads).
+
+    The reason is worded once per group, from its first point: a large table of one kind
+    costs one dictionary pass, not one message per point.
+    """
     files = _strings(ds, "file", "")
-    out = []
-    keys = {}
+    counts, first = {}, {}
     for k in np.flatnonzero(mask):
-        key = (files[k], reason_of(k))
-        keys[key] = keys.get(key, 0) + 1
-    for (file, reason), n in keys.items():
-        out.append(LeftOut(table, Path(file).name if file else "", n, reason))
-    return out
+        key = (files[k], signature[k])
+        counts[key] = counts.get(key, 0) + 1
+        first.setdefault(key, k)
+    return [LeftOut(table, Path(file).name if file else "", n, reason_of(first[(file, sig)]))
+            for (file, sig), n in counts.items()]
 
 
 def not_judged(observations):
@@ -108,7 +112,7 @@ def not_judged(observations):
                 parts.append(f"unit {unit[k] or 'none'!r} is not a flux density")
             return "; ".join(parts) + ": not compared in Jy"
 
-        out += _group(flux, ~judged_flux(flux), "OI_FLUX", flux_reason)
+        out += _group(flux, ~judged_flux(flux), "OI_FLUX", calstat + "|" + unit, flux_reason)
     vis = getattr(observations, "vis", None)
     if vis is not None and vis.sizes.get("point", 0):
         amptyp = _strings(vis, "amptyp", "")
@@ -120,10 +124,10 @@ def not_judged(observations):
                 return f"correlated fluxes in {amptyp[k][17:-1]!r}, not a flux density: not compared in Jy"
             return f"AMPTYP {amptyp[k] or 'none'!r}: neither 'absolute' nor 'correlated flux'"
 
-        out += _group(vis, has_amp & ~amp_ok, "OI_VIS amplitudes", amp_reason)
+        out += _group(vis, has_amp & ~amp_ok, "OI_VIS amplitudes", amptyp, amp_reason)
         has_phi = np.isfinite(np.asarray(vis["visphi"].values, float)) if "visphi" in vis else np.zeros(amp_ok.size, bool)
         out += _group(vis, has_phi & np.array([p != "differential" for p in phityp], dtype=bool), "OI_VIS phases",
-                      lambda k: f"PHITYP {phityp[k] or 'none'!r}: only differential phases are judged")
+                      phityp, lambda k: f"PHITYP {phityp[k] or 'none'!r}: only differential phases are judged")
     return out
 
 

@@ -6,7 +6,6 @@ headlessly by wrapping ipywidgets' single send path (``Widget._send``).
 """
 import bqplot as bq
 import ipywidgets as w
-import pytest
 from ipywidgets.widgets import widget as widget_module
 
 from diskexplorer.sample import demo_scene

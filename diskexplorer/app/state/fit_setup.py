@@ -5,6 +5,8 @@ functions keep it well formed and read documents built from it. No widget librar
 """
 from __future__ import annotations
 
+import functools
+
 from ...data.targets import choose_target, target_points
 from ...fitting.data_description import describe_loaded_data
 from ...fitting.priors import PRIOR_KINDS
@@ -99,6 +101,19 @@ def describe_state_data(state, weights=None):
                                 ("spectrum", state.spectrum)) if held is not None and not src.get(kind)]
     # The target judged: the one chosen, or the one chosen automatically now (so a fit
     # judges the same target even if the files' categories are read otherwise later).
-    target = state.target or choose_target(state.observations)[0]
+    automatic = _automatic_target(state.observations)
+    target = (state.target or automatic) if automatic is not None else None
     return describe_loaded_data(src, state.band_filter, state.instrument_filter, state.baseline_range, off,
-                                weights, target=target if len(target_points(state.observations)) > 1 else None), notes
+                                weights, target=target), notes
+
+
+@functools.lru_cache(maxsize=2)
+def _automatic_target(observations):
+    """The target chosen automatically when ``observations`` hold several, else None.
+
+    Cached by the data's identity: the starting-point page describes the data on every
+    model change while it shows, and the data change only when they are loaded.
+    """
+    if len(target_points(observations)) < 2:
+        return None
+    return choose_target(observations)[0]
