@@ -17,6 +17,9 @@ The rules (content first, the name never decides):
   (the photometry format requires a unit column; spectra carry their units in the
   column headers); one with wavelength and flux columns, or two or three numeric columns
   and no header, is a spectrum. The line after the header must have as many fields.
+
+A refusal says what the file is without quoting a text file's content: a typed path may
+name any readable file, and its first line is nobody else's business.
 """
 from __future__ import annotations
 
@@ -27,6 +30,7 @@ from dataclasses import dataclass, field
 from typing import NamedTuple
 
 from ..errors import DataError
+from .checks import reader_door
 from .readers import FILE_KINDS
 from .fits_tables import fits_layout, is_gzip, looks_like_fits_bytes, read_fits_bytes
 from .text_tables import split_name_unit
@@ -145,6 +149,11 @@ def classify_data_file(path) -> str:
         raise DataError(f"{spath}: is a folder, not a data file (collect_data_files reads folders)")
     if not os.path.exists(spath):
         raise DataError(f"{spath}: no such data file")
+    with reader_door(spath, "a data file"):
+        return _classify(spath)
+
+
+def _classify(spath):
     try:
         with open(spath, "rb") as fh:
             head = fh.read(_TEXT_HEAD)
@@ -235,9 +244,12 @@ def _classify_text(path, head):
                            "OIFITS, or a photometry or spectrum table")
     first = lines[0]
     delim = next((d for d in (",", ";", "\t") if d in first), None)
-    fields = _split(first, delim)
-    second = _split(lines[1], delim) if len(lines) > 1 else None
-    shown = ", ".join(f[:30] for f in fields[:8]) + (", …" if len(fields) > 8 else "")
+    try:
+        fields = _split(first, delim)
+        second = _split(lines[1], delim) if len(lines) > 1 else None
+    except csv.Error:   # a field longer than the csv module allows, a stray quote …
+        raise NotADataFile(f"{path}: a text file that is not a data table (its first lines are not delimited "
+                           "rows of fields); expected OIFITS, or a photometry or spectrum table") from None
     if _numeric(fields):
         if len(fields) in (2, 3) and (second is None or (len(second) == len(fields) and _numeric(second))):
             return "spectrum"
@@ -246,18 +258,17 @@ def _classify_text(path, head):
                            "needs a header")
     names = [split_name_unit(f)[0] for f in fields]
     if second is None or len(second) != len(fields):
-        raise NotADataFile(f"{path}: a text file that is not a data table (its first line "
-                           f"{first.strip()[:60]!r} is not followed by rows with the same number of fields); "
-                           "expected OIFITS, or a photometry or spectrum table")
+        raise NotADataFile(f"{path}: a text file that is not a data table (its first line is not followed by rows "
+                           "with the same number of fields); expected OIFITS, or a photometry or spectrum table")
     if set(names) & set(_PHOT_MARKERS):
         return "photometry"
     iw = next((names.index(n) for n in _WAVE_NAMES if n in names), None)
     if iw is not None and set(names) & set(_FLUX_NAMES) and _numeric([second[iw]]):
         return "spectrum"
     if delim is None and not all(n.replace("_", "").isalnum() for n in names):
-        raise NotADataFile(f"{path}: a text file that is not a data table (first line {first.strip()[:60]!r}); "
-                           "expected OIFITS, or a photometry or spectrum table")
-    raise NotADataFile(f"{path}: a text table with columns {shown}: not photometry (needs a unit and a band or "
+        raise NotADataFile(f"{path}: a text file that is not a data table (its first line does not name "
+                           "columns); expected OIFITS, or a photometry or spectrum table")
+    raise NotADataFile(f"{path}: a text table of {len(fields)} columns: not photometry (needs a unit and a band or "
                        "wavelength column) and not a spectrum (needs wavelength and flux columns)")
 
 

@@ -13,6 +13,8 @@ Rules checked (the levels follow the standard's own conformity checker):
 
 errors
     - the file is not FITS (checked from its first bytes, not its name);
+    - an ``OI_*`` HDU that is not a binary table, or a table whose content cannot be
+      decoded (code ``damaged-table``: the reader then skips it when not strict);
     - a mandatory table is missing: exactly one OI_TARGET, at least one OI_WAVELENGTH,
       at least one data table (OI_VIS, OI_VIS2, OI_T3; v2 also OI_FLUX), and in v2 at
       least one OI_ARRAY;
@@ -32,6 +34,9 @@ errors
     - a CORRNAME naming no OI_CORR table;
     - a negative error bar (VISAMPERR, VISPHIERR, VIS2ERR, T3AMPERR, T3PHIERR, FLUXERR)
       in an unflagged channel;
+    - an EFF_WAVE that is not finite or lies outside 1e-8 … 1e-2 m (code
+      ``bad-wavelength``): OI_WAVELENGTH has no flag, and a point without a wavelength has
+      no spatial frequency. Read leniently, the data of those channels are flagged;
     - an unnormalised triple product: T3AMP - 1 > T3AMPERR in an unflagged channel;
     - a CHECKSUM or DATASUM keyword that does not match the HDU's content.
 
@@ -39,20 +44,26 @@ warnings
     - EFF_WAVE not in ascending order in an OI_WAVELENGTH table;
     - duplicate TARGET names in OI_TARGET;
     - non-zero TIME in a v2 data table;
-    - VISREFMAP present for absolute data.
+    - VISREFMAP present for absolute data;
+    - an EFF_BAND that is not finite, negative, or at least twice its EFF_WAVE (a channel
+      reaching λ ≤ 0) (code ``bad-bandwidth``): those channels are read without a width
+      (monochromatic, as for EFF_BAND = 0, which writers use when no width is known).
 """
 
 from __future__ import annotations
 
+import contextlib
 import gzip
 import os
 import zlib
+from collections import Counter
 from dataclasses import dataclass
 
 import numpy as np
 
 from ..errors import DataError
-from .fits_tables import is_gzip, looks_like_fits_bytes
+from .checks import WAVELENGTH_RANGE_M, plausible_wavelength_m
+from .fits_tables import ColumnDamage, is_gzip, looks_like_fits_bytes
 
 __all__ = [
     "Defect",
@@ -96,7 +107,7 @@ ERROR_COLS = {
     "OI_T3": ("T3AMPERR", "T3PHIERR"),
     "OI_FLUX": ("FLUXERR",),
 }
-__all__ += ["CHANNEL_COLS", "ERROR_COLS"]
+__all__ += ["CHANNEL_COLS", "ERROR_COLS", "is_table", "damage_text"]
 
 _AMPTYP = ("absolute", "differential", "correlated flux")
 _PHITYP = ("absolute", "differential")
@@ -125,6 +136,8 @@ class Defect:
         Table (with HDU number) or ``"primary header"`` / ``"file"``.
     message : str
         What is wrong, with the offending value.
+    hdu : int or None
+        Index of the HDU concerned (0 for the primary), None for the file as a whole.
     """
 
     severity: str
@@ -132,6 +145,7 @@ class Defect:
     file: str
     table: str
     message: str
+    hdu: int | None = None
 
     def __str__(self) -> str:
         return f"{self.file}: {self.table}: {self.message} [{self.code}]"
@@ -172,11 +186,30 @@ def check_fits_signature(path) -> None:
 def _label(hdu, index) -> str:
     name = hdu.name or "PRIMARY"
     extra = ""
-    for key in ("INSNAME", "ARRNAME"):
-        if key in hdu.header and name in DATA_TABLES + ("OI_WAVELENGTH", "OI_ARRAY"):
-            extra = f", {key}={str(hdu.header[key]).strip()!r}"
-            break
+    try:
+        for key in ("INSNAME", "ARRNAME"):
+            if key in hdu.header and name in DATA_TABLES + ("OI_WAVELENGTH", "OI_ARRAY"):
+                extra = f", {key}={str(hdu.header[key]).strip()!r}"
+                break
+    except Exception:  # an unreadable card: the name and index still say which table
+        extra = ""
     return f"{name} (HDU {index}{extra})"
+
+
+def is_table(hdu) -> bool:
+    """Whether an HDU is a table (has columns): an ``OI_*`` image or damaged HDU is not."""
+    return getattr(hdu, "columns", None) is not None
+
+
+def damage_text(exc) -> str:
+    """What a decoding failure says about a table, without quoting the file's content.
+
+    Our own :class:`~diskexplorer.data.fits_tables.ColumnDamage` says which column; any
+    other exception is named by its type only (its text may quote the file).
+    """
+    if isinstance(exc, ColumnDamage):
+        return str(exc)
+    return f"its content does not match its header ({type(exc).__name__})"
 
 
 def _strip(v):
@@ -185,11 +218,13 @@ def _strip(v):
 
 def oifits_version(hdul) -> int:
     """Return 2 for OIFITS v2 content (CONTENT = 'OIFITS2' or revision-2 tables), else 1."""
-    if _strip(hdul[0].header.get("CONTENT", "")).upper() == "OIFITS2":
-        return 2
-    for hdu in hdul[1:]:
-        if hdu.name in _CORE and hdu.header.get("OI_REVN") == 2:
+    with contextlib.suppress(Exception):  # unreadable cards are reported table by table
+        if _strip(hdul[0].header.get("CONTENT", "")).upper() == "OIFITS2":
             return 2
+    for hdu in hdul[1:]:
+        with contextlib.suppress(Exception):
+            if hdu.name in _CORE and hdu.header.get("OI_REVN") == 2:
+                return 2
     return 1
 
 
@@ -217,15 +252,42 @@ def validate_oifits(hdul, path, *, check_checksums: bool = True) -> list[Defect]
     """
     fname = os.fspath(path)
     out: list[Defect] = []
+    at: list = [None]   # the HDU whose checks are running, named by a defect it raises
 
     def err(code, table, msg):
-        out.append(Defect("error", code, fname, table, msg))
+        out.append(Defect("error", code, fname, table, msg, at[0]))
 
     def warn(code, table, msg):
-        out.append(Defect("warning", code, fname, table, msg))
+        out.append(Defect("warning", code, fname, table, msg, at[0]))
+
+    damaged: set[int] = set()
+
+    @contextlib.contextmanager
+    def table_checks(i, h):
+        """Run one table's checks; a table that cannot be decoded becomes one error defect."""
+        at[0] = i
+        try:
+            yield
+        except DataError:
+            raise
+        except Exception as exc:  # astropy or numpy failing on the table's content
+            damaged.add(i)
+            err("damaged-table", _label(h, i), f"the table cannot be decoded: {damage_text(exc)}")
+        finally:
+            at[0] = None
 
     version = oifits_version(hdul)
-    tables = [(i, h) for i, h in enumerate(hdul) if i > 0 and h.name.startswith("OI_")]
+    tables = []
+    for i, h in enumerate(hdul):
+        if i == 0 or not h.name.startswith("OI_"):
+            continue
+        if not is_table(h):
+            at[0] = i
+            err("damaged-table", _label(h, i), "an OI_* HDU that is not a binary table; it is ignored")
+            at[0] = None
+            damaged.add(i)
+            continue
+        tables.append((i, h))
     by_name: dict[str, list] = {}
     for i, h in tables:
         by_name.setdefault(h.name, []).append((i, h))
@@ -233,16 +295,17 @@ def validate_oifits(hdul, path, *, check_checksums: bool = True) -> list[Defect]
     # --- revisions -------------------------------------------------------------------
     core_revs = set()
     for i, h in tables:
-        rev = h.header.get("OI_REVN")
-        if rev is None:
-            err("missing-keyword", _label(h, i), "mandatory keyword OI_REVN is missing")
-            continue
-        if h.name in _CORE:
-            if rev not in (1, 2):
-                err("bad-revision", _label(h, i), f"unknown OI_REVN = {rev!r} (expected 1 or 2)")
-            core_revs.add(rev)
-        elif h.name in _V2_ONLY_REV1 and rev != 1:
-            err("bad-revision", _label(h, i), f"unknown OI_REVN = {rev!r} for {h.name} (expected 1)")
+        with table_checks(i, h):
+            rev = h.header.get("OI_REVN")
+            if rev is None:
+                err("missing-keyword", _label(h, i), "mandatory keyword OI_REVN is missing")
+                continue
+            if h.name in _CORE:
+                if rev not in (1, 2):
+                    err("bad-revision", _label(h, i), f"unknown OI_REVN = {rev!r} (expected 1 or 2)")
+                core_revs.add(rev)
+            elif h.name in _V2_ONLY_REV1 and rev != 1:
+                err("bad-revision", _label(h, i), f"unknown OI_REVN = {rev!r} for {h.name} (expected 1)")
     if len(core_revs & {1, 2}) > 1:
         err("mixed-revisions", "file", "mixed table revisions: both OIFITS v1 (OI_REVN = 1) and "
             "v2 (OI_REVN = 2) tables")
@@ -271,188 +334,217 @@ def validate_oifits(hdul, path, *, check_checksums: bool = True) -> list[Defect]
     # --- OI_TARGET ---------------------------------------------------------------------
     target_ids: set[int] = set()
     for i, h in by_name.get("OI_TARGET", []):
-        lab = _label(h, i)
-        cols = h.columns.names
-        miss = [c for c in _TARGET_COLS if c not in cols]
-        if miss:
-            err("missing-column", lab, f"mandatory column(s) missing: {', '.join(miss)}")
-        if "TARGET_ID" in cols:
-            ids = np.asarray(h.data["TARGET_ID"]).astype(int)
-            uniq, counts = np.unique(ids, return_counts=True)
-            if (counts > 1).any():
-                err("duplicate-target-id", lab, f"duplicate TARGET_ID value(s) {uniq[counts > 1].tolist()}")
-            target_ids.update(ids.tolist())
-        if "TARGET" in cols:
-            names = [_strip(t) for t in h.data["TARGET"]]
-            dups = sorted({t for t in names if names.count(t) > 1})
-            if dups:
-                warn("duplicate-target", lab, f"duplicated target name(s) {dups} in TARGET")
-        if "CATEGORY" in cols:
-            pass  # optional, free of rules beyond its length
+        with table_checks(i, h):
+            lab = _label(h, i)
+            cols = h.columns.names
+            miss = [c for c in _TARGET_COLS if c not in cols]
+            if miss:
+                err("missing-column", lab, f"mandatory column(s) missing: {', '.join(miss)}")
+            if "TARGET_ID" in cols:
+                ids = np.asarray(h.data["TARGET_ID"]).astype(int)
+                uniq, counts = np.unique(ids, return_counts=True)
+                if (counts > 1).any():
+                    err("duplicate-target-id", lab, f"duplicate TARGET_ID value(s) {uniq[counts > 1].tolist()}")
+                target_ids.update(ids.tolist())
+            if "TARGET" in cols:
+                # Counter, not list.count: a long damaged table would take quadratic time.
+                dups = sorted(t for t, n in Counter(_strip(t) for t in h.data["TARGET"]).items() if n > 1)
+                if dups:
+                    warn("duplicate-target", lab, f"duplicated target name(s) {dups} in TARGET")
+            if "CATEGORY" in cols:
+                pass  # optional, free of rules beyond its length
 
     # --- OI_ARRAY ----------------------------------------------------------------------
     arrays: dict[str, set] = {}
     for i, h in by_name.get("OI_ARRAY", []):
-        lab = _label(h, i)
-        hdr = h.header
-        for key in ("ARRNAME", "FRAME"):
-            if key not in hdr:
-                err("missing-keyword", lab, f"mandatory keyword {key} is missing")
-        frame = _strip(hdr.get("FRAME", "GEOCENTRIC")).upper()
-        if frame not in _FRAME:
-            err("bad-keyword", lab, f"illegal FRAME = {hdr.get('FRAME')!r} (expected GEOCENTRIC or SKY)")
-        need = _ARRAY_COLS + (("FOV", "FOVTYPE") if version == 2 else ())
-        miss = [c for c in need if c not in h.columns.names]
-        if miss:
-            err("missing-column", lab, f"mandatory column(s) missing: {', '.join(miss)}")
-        if "FOVTYPE" in h.columns.names:
-            bad = sorted({_strip(v) for v in h.data["FOVTYPE"]} - set(_FOVTYPE))
-            if bad:
-                err("bad-keyword", lab, f"illegal FOVTYPE value(s) {bad} (expected FWHM or RADIUS)")
-        name = _strip(hdr.get("ARRNAME", ""))
-        if name in arrays:
-            err("duplicate-arrname", lab, f"ARRNAME {name!r} is used by more than one OI_ARRAY table")
-        arrays[name] = (set(np.asarray(h.data["STA_INDEX"]).astype(int).tolist())
-                        if "STA_INDEX" in h.columns.names else set())
+        with table_checks(i, h):
+            lab = _label(h, i)
+            hdr = h.header
+            for key in ("ARRNAME", "FRAME"):
+                if key not in hdr:
+                    err("missing-keyword", lab, f"mandatory keyword {key} is missing")
+            frame = _strip(hdr.get("FRAME", "GEOCENTRIC")).upper()
+            if frame not in _FRAME:
+                err("bad-keyword", lab, f"illegal FRAME = {hdr.get('FRAME')!r} (expected GEOCENTRIC or SKY)")
+            need = _ARRAY_COLS + (("FOV", "FOVTYPE") if version == 2 else ())
+            miss = [c for c in need if c not in h.columns.names]
+            if miss:
+                err("missing-column", lab, f"mandatory column(s) missing: {', '.join(miss)}")
+            if "FOVTYPE" in h.columns.names:
+                bad = sorted({_strip(v) for v in h.data["FOVTYPE"]} - set(_FOVTYPE))
+                if bad:
+                    err("bad-keyword", lab, f"illegal FOVTYPE value(s) {bad} (expected FWHM or RADIUS)")
+            name = _strip(hdr.get("ARRNAME", ""))
+            if name in arrays:
+                err("duplicate-arrname", lab, f"ARRNAME {name!r} is used by more than one OI_ARRAY table")
+            arrays[name] = (set(np.asarray(h.data["STA_INDEX"]).astype(int).tolist())
+                            if "STA_INDEX" in h.columns.names else set())
 
     # --- OI_WAVELENGTH -----------------------------------------------------------------
     nwave: dict[str, int] = {}
     for i, h in by_name.get("OI_WAVELENGTH", []):
-        lab = _label(h, i)
-        if "INSNAME" not in h.header:
-            err("missing-keyword", lab, "mandatory keyword INSNAME is missing")
-            continue
-        ins = _strip(h.header["INSNAME"])
-        miss = [c for c in ("EFF_WAVE", "EFF_BAND") if c not in h.columns.names]
-        if miss:
-            err("missing-column", lab, f"mandatory column(s) missing: {', '.join(miss)}")
-            continue
-        if ins in nwave:
-            err("duplicate-insname", lab, f"INSNAME {ins!r} is used by more than one OI_WAVELENGTH table")
-        wave = np.asarray(h.data["EFF_WAVE"], dtype=float)
-        nwave[ins] = wave.size
-        if wave.size > 1 and not np.all(np.diff(wave) > 0):
-            order = "in reversed (descending) order" if np.all(np.diff(wave) < 0) else "not in ascending order"
-            warn("wavelength-order", lab, f"EFF_WAVE values are {order} "
-                 f"({wave[0] * 1e6:.4g} … {wave[-1] * 1e6:.4g} µm)")
+        with table_checks(i, h):
+            lab = _label(h, i)
+            if "INSNAME" not in h.header:
+                err("missing-keyword", lab, "mandatory keyword INSNAME is missing")
+                continue
+            ins = _strip(h.header["INSNAME"])
+            miss = [c for c in ("EFF_WAVE", "EFF_BAND") if c not in h.columns.names]
+            if miss:
+                err("missing-column", lab, f"mandatory column(s) missing: {', '.join(miss)}")
+                continue
+            if ins in nwave:
+                err("duplicate-insname", lab, f"INSNAME {ins!r} is used by more than one OI_WAVELENGTH table")
+            wave = np.asarray(h.data["EFF_WAVE"], dtype=float)
+            band = np.asarray(h.data["EFF_BAND"], dtype=float)
+            if wave.ndim != 1 or band.shape != wave.shape:
+                err("width-mismatch", lab, "EFF_WAVE and EFF_BAND must hold one value per row (channel); "
+                    f"their formats give {wave.size} and {band.size} values for {len(wave)} rows")
+                continue
+            nwave[ins] = wave.size
+            bad_wave = ~plausible_wavelength_m(wave)
+            if bad_wave.any():
+                k = int(np.flatnonzero(bad_wave)[0])
+                lo, hi = WAVELENGTH_RANGE_M
+                err("bad-wavelength", lab, f"EFF_WAVE of {int(bad_wave.sum())} of {wave.size} channel(s) is not a "
+                    f"wavelength in metres (finite, {lo:g} … {hi:g} m); first: channel {k + 1}, "
+                    f"EFF_WAVE = {wave[k]:.4g}")
+            with np.errstate(invalid="ignore"):
+                bad_band = ~(band >= 0) | (band >= 2.0 * wave) | ~np.isfinite(band)
+            bad_band &= ~bad_wave
+            if bad_band.any():
+                k = int(np.flatnonzero(bad_band)[0])
+                warn("bad-bandwidth", lab, f"EFF_BAND of {int(bad_band.sum())} of {wave.size} channel(s) is not a "
+                     f"width (finite, >= 0 and below twice EFF_WAVE); first: channel {k + 1}, EFF_BAND = "
+                     f"{band[k]:.4g} m; those channels are read without a width (monochromatic)")
+            good = wave[~bad_wave]   # the order of the channels that have a wavelength
+            if good.size > 1 and not np.all(np.diff(good) > 0):
+                order = "in reversed (descending) order" if np.all(np.diff(good) < 0) else "not in ascending order"
+                warn("wavelength-order", lab, f"EFF_WAVE values are {order} "
+                     f"({good[0] * 1e6:.4g} … {good[-1] * 1e6:.4g} µm)")
 
-    corrnames = {_strip(h.header.get("CORRNAME", "")) for _, h in by_name.get("OI_CORR", [])}
+    corrnames = set()
+    for i, h in by_name.get("OI_CORR", []):
+        with table_checks(i, h):
+            corrnames.add(_strip(h.header.get("CORRNAME", "")))
 
     # --- data tables -------------------------------------------------------------------
     for i, h in tables:
-        if h.name not in DATA_TABLES:
-            continue
-        kind = h.name
-        if version == 1 and kind == "OI_FLUX":
-            continue  # not part of v1; ignored by the v1 reader
-        lab = _label(h, i)
-        hdr = h.header
-        cols = h.columns.names
-        nrow = int(hdr.get("NAXIS2", 0))
-        need = _DATA_COLS[kind]
-        if version == 2 and kind != "OI_FLUX":
-            need = tuple(c for c in need)  # TIME stays mandatory (zero) in v2
-        miss = [c for c in need if c not in cols]
-        if miss:
-            err("missing-column", lab, f"mandatory column(s) missing: {', '.join(miss)}")
-        for key in ("DATE-OBS", "INSNAME"):
-            if key not in hdr:
-                err("missing-keyword", lab, f"mandatory keyword {key} is missing")
-        if kind == "OI_FLUX":
-            calstat = _strip(hdr.get("CALSTAT", ""))
-            if "CALSTAT" not in hdr:
-                err("missing-keyword", lab, "mandatory keyword CALSTAT is missing")
-            elif calstat not in _CALSTAT:
-                err("bad-keyword", lab, f"illegal CALSTAT = {hdr['CALSTAT']!r} (expected 'C' or 'U')")
-            if "FOVTYPE" in hdr and _strip(hdr["FOVTYPE"]) not in _FOVTYPE:
-                err("bad-keyword", lab, f"illegal FOVTYPE = {hdr['FOVTYPE']!r} (expected FWHM or RADIUS)")
-            arr_needed = version == 2 and calstat == "U"
-        else:
-            arr_needed = version == 2
-        arrname = _strip(hdr["ARRNAME"]) if "ARRNAME" in hdr else None
-        if arrname is None and arr_needed:
-            err("missing-keyword", lab, "mandatory keyword ARRNAME is missing")
-        if arrname is not None and arrname not in arrays:
-            err("missing-array", lab, f"ARRNAME {arrname!r} refers to no OI_ARRAY table "
-                f"(present: {sorted(arrays) or 'none'})")
-        if "CORRNAME" in hdr and _strip(hdr["CORRNAME"]) not in corrnames:
-            err("missing-corr", lab, f"CORRNAME {_strip(hdr['CORRNAME'])!r} refers to no OI_CORR table")
-        if kind == "OI_VIS":
-            amptyp = _strip(hdr.get("AMPTYP", "absolute")).lower()
-            phityp = _strip(hdr.get("PHITYP", "absolute")).lower()
-            if amptyp not in _AMPTYP:
-                err("bad-keyword", lab, f"illegal AMPTYP = {hdr.get('AMPTYP')!r} (expected one of {_AMPTYP})")
-            if phityp not in _PHITYP:
-                err("bad-keyword", lab, f"illegal PHITYP = {hdr.get('PHITYP')!r} (expected one of {_PHITYP})")
-            differential = "differential" in (amptyp, phityp)
-            if differential and "VISREFMAP" not in cols:
-                err("missing-column", lab, "AMPTYP/PHITYP is 'differential' but VISREFMAP is missing")
-            if not differential and "VISREFMAP" in cols:
-                warn("visrefmap-absolute", lab, "VISREFMAP is present for absolute data")
-
-        # cross references
-        ins = _strip(hdr.get("INSNAME", ""))
-        nw = nwave.get(ins)
-        if "INSNAME" in hdr and nw is None:
-            err("missing-wavelength", lab, f"INSNAME {ins!r} refers to no OI_WAVELENGTH table")
-        if "TARGET_ID" in cols and n_target:
-            ids = np.unique(np.asarray(h.data["TARGET_ID"]).astype(int))
-            unknown = sorted(set(ids.tolist()) - target_ids)
-            if unknown:
-                err("missing-target", lab, f"TARGET_ID value(s) {unknown} have no OI_TARGET row "
-                    f"(OI_TARGET holds {sorted(target_ids)})")
-        if "STA_INDEX" in cols and arrname is not None and arrname in arrays:
-            sta = np.unique(np.asarray(h.data["STA_INDEX"]).astype(int))
-            unknown = sorted(set(sta.tolist()) - arrays[arrname])
-            if unknown:
-                err("missing-station", lab, f"STA_INDEX value(s) {unknown} not found in OI_ARRAY "
-                    f"{arrname!r}")
-        if version == 2 and "TIME" in cols and nrow and np.any(np.asarray(h.data["TIME"]) != 0):
-            warn("nonzero-time", lab, "TIME is not zero (OIFITS v2 keeps it only for backward "
-                 "compatibility; MJD is used)")
-        if nw is None or not nrow:
-            continue
-        bad_width = False
-        for c in CHANNEL_COLS[kind]:
-            if c in cols:
-                a = np.asarray(h.data[c])
-                if a.size != nrow * nw:
-                    err("width-mismatch", lab, f"column {c} has {a.size // max(nrow, 1)} channels per row "
-                        f"but OI_WAVELENGTH {ins!r} has {nw}")
-                    bad_width = True
-        if bad_width or "FLAG" not in cols:
-            continue
-        flag = _channels(h.data["FLAG"], nrow).astype(bool)
-        for c in ERROR_COLS[kind]:
-            if c not in cols:
+        with table_checks(i, h):
+            if h.name not in DATA_TABLES:
                 continue
-            e = _channels(h.data[c], nrow)
-            neg = (e < 0) & ~flag
-            if neg.any():
-                r, ch = np.argwhere(neg)[0]
-                err("negative-error", lab, f"negative error bar {c} = {e[r, ch]:g} in {int(neg.sum())} "
-                    f"unflagged channel(s) (first: row {r + 1}, channel {ch + 1})")
-        if kind == "OI_T3" and "T3AMP" in cols and "T3AMPERR" in cols:
-            amp = _channels(h.data["T3AMP"], nrow)
-            aerr = _channels(h.data["T3AMPERR"], nrow)
-            with np.errstate(invalid="ignore"):
-                big = ((amp - 1.0) > aerr) & ~flag
-            if big.any():
-                r, ch = np.argwhere(big)[0]
-                err("t3amp-out-of-range", lab, f"triple-product amplitude out of range: T3AMP - 1 > "
-                    f"T3AMPERR in {int(big.sum())} unflagged channel(s) (first: row {r + 1}, channel "
-                    f"{ch + 1}: T3AMP = {amp[r, ch]:g}, T3AMPERR = {aerr[r, ch]:g})")
+            kind = h.name
+            if version == 1 and kind == "OI_FLUX":
+                continue  # not part of v1; ignored by the v1 reader
+            lab = _label(h, i)
+            hdr = h.header
+            cols = h.columns.names
+            nrow = int(hdr.get("NAXIS2", 0))
+            need = _DATA_COLS[kind]
+            if version == 2 and kind != "OI_FLUX":
+                need = tuple(c for c in need)  # TIME stays mandatory (zero) in v2
+            miss = [c for c in need if c not in cols]
+            if miss:
+                err("missing-column", lab, f"mandatory column(s) missing: {', '.join(miss)}")
+            for key in ("DATE-OBS", "INSNAME"):
+                if key not in hdr:
+                    err("missing-keyword", lab, f"mandatory keyword {key} is missing")
+            if kind == "OI_FLUX":
+                calstat = _strip(hdr.get("CALSTAT", ""))
+                if "CALSTAT" not in hdr:
+                    err("missing-keyword", lab, "mandatory keyword CALSTAT is missing")
+                elif calstat not in _CALSTAT:
+                    err("bad-keyword", lab, f"illegal CALSTAT = {hdr['CALSTAT']!r} (expected 'C' or 'U')")
+                if "FOVTYPE" in hdr and _strip(hdr["FOVTYPE"]) not in _FOVTYPE:
+                    err("bad-keyword", lab, f"illegal FOVTYPE = {hdr['FOVTYPE']!r} (expected FWHM or RADIUS)")
+                arr_needed = version == 2 and calstat == "U"
+            else:
+                arr_needed = version == 2
+            arrname = _strip(hdr["ARRNAME"]) if "ARRNAME" in hdr else None
+            if arrname is None and arr_needed:
+                err("missing-keyword", lab, "mandatory keyword ARRNAME is missing")
+            if arrname is not None and arrname not in arrays:
+                err("missing-array", lab, f"ARRNAME {arrname!r} refers to no OI_ARRAY table "
+                    f"(present: {sorted(arrays) or 'none'})")
+            if "CORRNAME" in hdr and _strip(hdr["CORRNAME"]) not in corrnames:
+                err("missing-corr", lab, f"CORRNAME {_strip(hdr['CORRNAME'])!r} refers to no OI_CORR table")
+            if kind == "OI_VIS":
+                amptyp = _strip(hdr.get("AMPTYP", "absolute")).lower()
+                phityp = _strip(hdr.get("PHITYP", "absolute")).lower()
+                if amptyp not in _AMPTYP:
+                    err("bad-keyword", lab, f"illegal AMPTYP = {hdr.get('AMPTYP')!r} (expected one of {_AMPTYP})")
+                if phityp not in _PHITYP:
+                    err("bad-keyword", lab, f"illegal PHITYP = {hdr.get('PHITYP')!r} (expected one of {_PHITYP})")
+                differential = "differential" in (amptyp, phityp)
+                if differential and "VISREFMAP" not in cols:
+                    err("missing-column", lab, "AMPTYP/PHITYP is 'differential' but VISREFMAP is missing")
+                if not differential and "VISREFMAP" in cols:
+                    warn("visrefmap-absolute", lab, "VISREFMAP is present for absolute data")
+
+            # cross references
+            ins = _strip(hdr.get("INSNAME", ""))
+            nw = nwave.get(ins)
+            if "INSNAME" in hdr and nw is None:
+                err("missing-wavelength", lab, f"INSNAME {ins!r} refers to no OI_WAVELENGTH table")
+            if "TARGET_ID" in cols and n_target:
+                ids = np.unique(np.asarray(h.data["TARGET_ID"]).astype(int))
+                unknown = sorted(set(ids.tolist()) - target_ids)
+                if unknown:
+                    err("missing-target", lab, f"TARGET_ID value(s) {unknown} have no OI_TARGET row "
+                        f"(OI_TARGET holds {sorted(target_ids)})")
+            if "STA_INDEX" in cols and arrname is not None and arrname in arrays:
+                sta = np.unique(np.asarray(h.data["STA_INDEX"]).astype(int))
+                unknown = sorted(set(sta.tolist()) - arrays[arrname])
+                if unknown:
+                    err("missing-station", lab, f"STA_INDEX value(s) {unknown} not found in OI_ARRAY "
+                        f"{arrname!r}")
+            if version == 2 and "TIME" in cols and nrow and np.any(np.asarray(h.data["TIME"]) != 0):
+                warn("nonzero-time", lab, "TIME is not zero (OIFITS v2 keeps it only for backward "
+                     "compatibility; MJD is used)")
+            if nw is None or not nrow:
+                continue
+            bad_width = False
+            for c in CHANNEL_COLS[kind]:
+                if c in cols:
+                    a = np.asarray(h.data[c])
+                    if a.size != nrow * nw:
+                        err("width-mismatch", lab, f"column {c} has {a.size // max(nrow, 1)} channels per row "
+                            f"but OI_WAVELENGTH {ins!r} has {nw}")
+                        bad_width = True
+            if bad_width or "FLAG" not in cols:
+                continue
+            flag = _channels(h.data["FLAG"], nrow).astype(bool)
+            for c in ERROR_COLS[kind]:
+                if c not in cols:
+                    continue
+                e = _channels(h.data[c], nrow)
+                neg = (e < 0) & ~flag
+                if neg.any():
+                    r, ch = np.argwhere(neg)[0]
+                    err("negative-error", lab, f"negative error bar {c} = {e[r, ch]:g} in {int(neg.sum())} "
+                        f"unflagged channel(s) (first: row {r + 1}, channel {ch + 1})")
+            if kind == "OI_T3" and "T3AMP" in cols and "T3AMPERR" in cols:
+                amp = _channels(h.data["T3AMP"], nrow)
+                aerr = _channels(h.data["T3AMPERR"], nrow)
+                with np.errstate(invalid="ignore"):
+                    big = ((amp - 1.0) > aerr) & ~flag
+                if big.any():
+                    r, ch = np.argwhere(big)[0]
+                    err("t3amp-out-of-range", lab, f"triple-product amplitude out of range: T3AMP - 1 > "
+                        f"T3AMPERR in {int(big.sum())} unflagged channel(s) (first: row {r + 1}, channel "
+                        f"{ch + 1}: T3AMP = {amp[r, ch]:g}, T3AMPERR = {aerr[r, ch]:g})")
 
     # --- checksums ---------------------------------------------------------------------
     if check_checksums:
         for i, h in enumerate(hdul):
-            bad = []
-            if "CHECKSUM" in h.header and h.verify_checksum() == 0:
-                bad.append("CHECKSUM")
-            if "DATASUM" in h.header and h.verify_datasum() == 0:
-                bad.append("DATASUM")
-            if bad:
-                verb = "do not" if len(bad) > 1 else "does not"
-                err("bad-checksum", _label(h, i), f"{' and '.join(bad)} {verb} match the HDU "
-                    "content (the file was altered or damaged after it was written)")
+            with table_checks(i, h):
+                bad = []
+                if "CHECKSUM" in h.header and h.verify_checksum() == 0:
+                    bad.append("CHECKSUM")
+                if "DATASUM" in h.header and h.verify_datasum() == 0:
+                    bad.append("DATASUM")
+                if bad:
+                    verb = "do not" if len(bad) > 1 else "does not"
+                    err("bad-checksum", _label(h, i), f"{' and '.join(bad)} {verb} match the HDU "
+                        "content (the file was altered or damaged after it was written)")
     return out

@@ -33,7 +33,9 @@ import xarray as xr
 from astropy import units as u
 
 from ..errors import DataError
-from .bands import AB_ZERO_POINT_JY, photometric_band
+from .bands import _AMBIGUOUS, AB_ZERO_POINT_JY, PHOTOMETRIC_BANDS, photometric_band
+from .checks import (MAX_ABS_VALUE, MIN_ERROR, SED_WAVELENGTH_RANGE_UM, VALUE_RULE, plausible_sed_wavelength_um,
+                     reader_door, usable_values)
 from .text_tables import parse_float, read_text_table
 
 __all__ = ["read_photometry", "photometry_dataset"]
@@ -93,14 +95,44 @@ def read_photometry(path, *, a_v: float | None = None, r_v: float = 3.1) -> xr.D
     Raises
     ------
     DataError
-        Missing columns, unknown bands or units, non-numeric values or negative errors,
-        each naming file, line and field.
+        Missing columns, unknown bands or units, non-numeric values, a wavelength that is
+        not finite and inside :data:`~diskexplorer.data.checks.SED_WAVELENGTH_RANGE_UM`, a value that is not finite, an error that is not finite and
+        > 0 (empty is allowed for an upper limit), or a measurement whose value or error
+        in Jy is not usable (:func:`~diskexplorer.data.checks.usable_values`), each
+        naming file, line and field. Messages never quote the file's content.
 
     Examples
     --------
     A file with the line ``Ks,5.0,0.02,mag`` gives 6.667 Jy (2MASS zero point 666.7 Jy,
     Cohen et al. 2003).
     """
+    with reader_door(path, "photometry"):
+        ds = _read_photometry(path)
+    if a_v is not None:
+        ds = _dereddened(ds, a_v, r_v)
+    return ds
+
+
+def _dereddened(ds, a_v, r_v):
+    """``deredden`` with the file named in its refusal (the A_V or the curve's range)."""
+    from .extinction import deredden
+
+    try:
+        return deredden(ds, a_v, r_v=r_v)
+    except DataError as exc:
+        raise DataError(f"{ds.attrs.get('source_file', 'data')}: extinction correction: {exc}") from None
+
+
+def _band_refusal(name):
+    """Why a band name is refused, without repeating the name (it is the file's content)."""
+    key = " ".join(str(name).split()).lower()
+    if key in _AMBIGUOUS:
+        return f"the band name is ambiguous: {_AMBIGUOUS[key]}"
+    return (f"not a known photometric band; known bands: {', '.join(PHOTOMETRIC_BANDS)} (and AB magnitudes "
+            "with unit 'ABmag')")
+
+
+def _read_photometry(path):
     table = read_text_table(path, require_header=True)
     p = table.path
     icol = {
@@ -116,15 +148,14 @@ def read_photometry(path, *, a_v: float | None = None, r_v: float = 3.1) -> xr.D
         missing.insert(0, "band or wavelength")
     if missing:
         raise DataError(f"{p}: line {table.rows[0][0] - 1 if table.rows else 1}: header lacks column(s) "
-                        f"{', '.join(missing)} (found: {', '.join(table.header)})")
+                        f"{', '.join(missing)} (it names {len(table.header)} column(s))")
     wave_unit = u.um
     if icol["wavelength"] is not None and table.units[icol["wavelength"]]:
         try:
             wave_unit = u.Unit(table.units[icol["wavelength"]])
             (1 * wave_unit).to(u.um)
-        except (ValueError, u.UnitsError):
-            raise DataError(f"{p}: header: field 'wavelength': unit {table.units[icol['wavelength']]!r} "
-                            "is not a length unit") from None
+        except (ValueError, TypeError, u.UnitsError):
+            raise DataError(f"{p}: header: field 'wavelength': its unit is not a length unit") from None
     waves, fluxes, errs, uls, bands, zps = [], [], [], [], [], []
     for line, f in table.rows:
         band_name = f[icol["band"]] if icol["band"] is not None else ""
@@ -132,13 +163,16 @@ def read_photometry(path, *, a_v: float | None = None, r_v: float = 3.1) -> xr.D
         if band_name:
             try:
                 band = photometric_band(band_name)
-            except DataError as exc:
-                raise DataError(f"{p}: line {line}: field 'band': {exc}") from None
+            except DataError:
+                raise DataError(f"{p}: line {line}: field 'band': {_band_refusal(band_name)}") from None
         w = parse_float(f[icol["wavelength"]], p, line, "wavelength") if icol["wavelength"] is not None else math.nan
         if not math.isnan(w):
-            w = (w * wave_unit).to_value(u.um)
-            if w <= 0:
-                raise DataError(f"{p}: line {line}: field 'wavelength': {w} must be > 0")
+            with np.errstate(all="ignore"):
+                w = float((w * wave_unit).to_value(u.um))
+            if not plausible_sed_wavelength_um(w):
+                lo, hi = SED_WAVELENGTH_RANGE_UM
+                raise DataError(f"{p}: line {line}: field 'wavelength': must be finite, between {lo:g} and "
+                                f"{hi:g} um")
         elif band is not None:
             w = band.wavelength
         else:
@@ -146,9 +180,15 @@ def read_photometry(path, *, a_v: float | None = None, r_v: float = 3.1) -> xr.D
         value = parse_float(f[icol["value"]], p, line, "value")
         if math.isnan(value):
             raise DataError(f"{p}: line {line}: field 'value': empty")
+        if not abs(value) <= MAX_ABS_VALUE:
+            raise DataError(f"{p}: line {line}: field 'value': must be finite, of magnitude at most "
+                            f"{MAX_ABS_VALUE:.0e}")
         err = parse_float(f[icol["error"]], p, line, "error")
         if err < 0:
-            raise DataError(f"{p}: line {line}: field 'error': {err} is negative")
+            raise DataError(f"{p}: line {line}: field 'error': is negative")
+        if err == 0 or err > MAX_ABS_VALUE:
+            raise DataError(f"{p}: line {line}: field 'error': must be finite and > 0 (empty only for an upper "
+                            "limit)")
         ul = False
         if icol["upper_limit"] is not None:
             flag = f[icol["upper_limit"]].strip().lower()
@@ -161,19 +201,20 @@ def read_photometry(path, *, a_v: float | None = None, r_v: float = 3.1) -> xr.D
             raise DataError(f"{p}: line {line}: field 'error': empty (allowed only for upper limits)")
         unit_text = f[icol["unit"]].strip()
         flux, flux_err, zp = _to_jy(value, err, unit_text, band, w, p, line)
+        # In Jy, the measurement must still be one a χ² can use (a magnitude of 200 is
+        # 1e-77 Jy, a flux of 1e45 W m-2 um-1 overflows).
+        usable = usable_values(flux, flux_err) if not (ul and math.isnan(flux_err)) else abs(flux) <= MAX_ABS_VALUE
+        if not usable:
+            raise DataError(f"{p}: line {line}: the measurement in Jy is not usable ({VALUE_RULE}, with the "
+                            f"error >= {MIN_ERROR:.0e} Jy)")
         waves.append(w)
         fluxes.append(flux)
         errs.append(flux_err)
         uls.append(ul)
         bands.append(band.name if band else "")
         zps.append(zp)
-    ds = photometry_dataset(waves, fluxes, errs, uls, bands,
-                            attrs={"source_file": p, "zero_points": "; ".join(z for z in zps if z)})
-    if a_v is not None:
-        from .extinction import deredden
-
-        ds = deredden(ds, a_v, r_v=r_v)
-    return ds
+    return photometry_dataset(waves, fluxes, errs, uls, bands,
+                              attrs={"source_file": p, "zero_points": "; ".join(z for z in zps if z)})
 
 
 def _to_jy(value, err, unit_text, band, wave_um, p, line):
@@ -191,17 +232,22 @@ def _to_jy(value, err, unit_text, band, wave_um, p, line):
     else:
         try:
             unit = u.Unit(unit_text)
-        except ValueError:
-            raise DataError(f"{p}: line {line}: field 'unit': unknown unit {unit_text!r} (expected Jy, "
-                            "mJy, mag, ABmag or a flux-density unit such as 'W m-2 um-1')") from None
+        except (ValueError, TypeError):
+            raise DataError(f"{p}: line {line}: field 'unit': not a unit (expected Jy, mJy, mag, ABmag or a "
+                            "flux-density unit such as 'W m-2 um-1')") from None
         try:
             eq = u.spectral_density(wave_um * u.um)
-            flux = (value * unit).to_value(u.Jy, equivalencies=eq)
-            ferr = (err * unit).to_value(u.Jy, equivalencies=eq)
-        except u.UnitsError:
-            raise DataError(f"{p}: line {line}: field 'unit': {unit_text!r} is not a flux-density unit "
-                            "convertible to Jy") from None
+            with np.errstate(all="ignore"):   # an overflow is caught by the value check after
+                flux = float((value * unit).to_value(u.Jy, equivalencies=eq))
+                ferr = float((err * unit).to_value(u.Jy, equivalencies=eq))
+        except (u.UnitsError, TypeError, ValueError):
+            raise DataError(f"{p}: line {line}: field 'unit': not a flux-density unit convertible to Jy "
+                            "(expected Jy, mJy, mag, ABmag or a unit such as 'W m-2 um-1')") from None
         return flux, ferr, ""
+    if not abs(value) <= 100.0:
+        # 10**(-0.4 m) overflows for m < -1770; no source is brighter than -30 mag or
+        # measured fainter than +40 mag, so 100 leaves room and refuses what is damage.
+        raise DataError(f"{p}: line {line}: field 'value': a magnitude must lie within -100 … 100")
     flux = f0 * 10.0 ** (-0.4 * value)
     # First-order propagation: dF/dm = -0.4 ln(10) F.
     ferr = 0.4 * math.log(10.0) * flux * err if not math.isnan(err) else math.nan

@@ -6,6 +6,7 @@ from collections.abc import Callable
 from typing import NamedTuple
 
 from ..errors import DataError
+from .checks import reader_door
 from .oifits import read_oifits
 from .photometry import read_photometry
 from .spectrum import read_spectrum
@@ -62,7 +63,8 @@ def read_data_file(path, kind, **options):
     ------
     DataError
         An unknown kind (the message names the file, the kind and the known kinds), or
-        whatever the reader refuses.
+        whatever the reader refuses. Nothing else leaves this function: every reader is
+        one door (:func:`~diskexplorer.data.checks.reader_door`), and so is this call.
 
     Examples
     --------
@@ -71,8 +73,12 @@ def read_data_file(path, kind, **options):
     >>> float(sed["wavelength"].min()) > 0
     True
     """
+    try:
+        where = path if isinstance(path, (str, os.PathLike)) else ", ".join(map(os.fspath, path))
+    except TypeError:
+        raise DataError(f"read_data_file: expected a path or a list of paths, got {type(path).__name__}") from None
     entry = FILE_READERS.get(kind)
     if entry is None:
-        where = path if isinstance(path, (str, os.PathLike)) else ", ".join(map(os.fspath, path))
         raise DataError(f"{os.fspath(where)}: unknown data kind {kind!r}; expected one of {', '.join(FILE_KINDS)}")
-    return entry.reader(path, **options)
+    with reader_door(where, entry.name):
+        return entry.reader(path, **options)

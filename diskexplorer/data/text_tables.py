@@ -1,6 +1,8 @@
 """Small delimited-text table reader that remembers line numbers for error messages.
 
-Used by the photometry and spectrum readers: every refusal names file, line and field.
+Used by the photometry and spectrum readers: every refusal names file, line and field,
+and none quotes the file's content (a typed path may name any readable file: a message
+that echoed a line would show it).
 """
 
 from __future__ import annotations
@@ -53,14 +55,18 @@ def split_name_unit(text: str) -> tuple[str, str]:
 
 
 def parse_float(text: str, path, line: int, field: str) -> float:
-    """Parse a number or refuse it naming file, line and field; empty gives NaN."""
+    """Parse a number or refuse it naming file, line and field; empty gives NaN.
+
+    ``inf`` and numbers beyond the float range parse (to ±inf): the readers check the
+    range of every value they keep.
+    """
     t = text.strip()
     if t == "" or t.lower() in ("nan", "--", "null"):
         return float("nan")
     try:
         return float(t)
     except ValueError:
-        raise DataError(f"{path}: line {line}: field {field!r}: {text!r} is not a number") from None
+        raise DataError(f"{path}: line {line}: field {field!r}: not a number") from None
 
 
 def _looks_numeric(fields) -> bool:
@@ -89,7 +95,7 @@ def read_text_table(path, *, require_header: bool) -> TextTable:
             raw = fh.read()
     except OSError as exc:
         raise DataError(f"{spath}: cannot be read: {exc}") from exc
-    if b"\x00" in raw[:4096] or raw[:9] == b"SIMPLE  =":
+    if b"\x00" in raw or raw[:9] == b"SIMPLE  =":
         raise DataError(f"{spath}: not a text table (binary content)")
     try:
         text = raw.decode("utf-8-sig")
@@ -102,14 +108,17 @@ def read_text_table(path, *, require_header: bool) -> TextTable:
     first = lines[0][1]
     delim = next((d for d in (",", ";", "\t") if d in first), None)
 
-    def split(ln):
+    def split(ln, lineno):
         if delim is None:
             return ln.split()
-        return next(csv.reader(io.StringIO(ln), delimiter=delim))
+        try:
+            return next(csv.reader(io.StringIO(ln), delimiter=delim), [])
+        except csv.Error:   # e.g. a field longer than the csv module's limit
+            raise DataError(f"{spath}: line {lineno}: not a delimited row of fields") from None
 
     header = units = None
     start = 0
-    first_fields = split(first)
+    first_fields = split(first, lines[0][0])
     if not _looks_numeric(first_fields):
         pairs = [split_name_unit(f) for f in first_fields]
         header = [p[0] for p in pairs]
@@ -120,10 +129,10 @@ def read_text_table(path, *, require_header: bool) -> TextTable:
     rows = []
     width = len(header) if header else len(first_fields)
     for lineno, ln in lines[start:]:
-        fields = [f.strip() for f in split(ln)]
+        fields = [f.strip() for f in split(ln, lineno)]
         if len(fields) != width:
             raise DataError(f"{spath}: line {lineno}: {len(fields)} field(s), expected {width}"
-                            + (f" ({', '.join(header)})" if header else ""))
+                            + (" (as many as the header names)" if header else " (as many as the first row)"))
         rows.append((lineno, fields))
     if not rows:
         raise DataError(f"{spath}: no data rows after the header")

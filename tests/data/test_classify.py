@@ -115,15 +115,18 @@ def test_fits_table_of_other_columns_lists_its_columns(tmp_path):
     (bytes(range(256)) * 4, "a binary file"),
     (b'{"scene": {}}\n', "a JSON document"),
     (b"# Notes\n\nThese are the notes of a night at the telescope.\nNothing else.\n", "not a data table"),
-    (b"name,age\nx,3\n", "a text table with columns name, age: not photometry"),
+    (b"name,age\nx,3\n", "a text table of 2 columns: not photometry"),
     (b"1 2 3 4 5\n6 7 8 9 10\n", "5 numeric columns without a header"),
     (gzip.compress(b"wavelength,flux\n1,2\n"), "a gzip-compressed file that does not hold FITS"),
 ])
 def test_files_of_no_kind_say_what_they_are(tmp_path, content, what):
     path = tmp_path / "thing.fits"
     path.write_bytes(content)
-    with pytest.raises(NotADataFile, match="thing.fits: " + ".*" + what.replace("(", r"\(").replace(")", r"\)")):
+    with pytest.raises(NotADataFile, match="thing.fits: " + ".*" + what.replace("(", r"\(").replace(")", r"\)")) as info:
         classify_data_file(path)
+    # What the file is, never what it says: a typed path may name any readable file.
+    for quoted in ("name, age", "Notes", "telescope", "scene"):
+        assert quoted not in str(info.value).split("thing.fits: ", 1)[1]
 
 
 def test_missing_file_and_folder_are_data_errors(tmp_path):

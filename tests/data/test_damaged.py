@@ -118,7 +118,7 @@ def test_a_damaged_size_keyword_is_named(tmp_path, decoder):
     data[start:start + 30] = b"NAXIS2  = 'twelve'".ljust(30)
     bad = tmp_path / "bad.fits"
     bad.write_bytes(bytes(data))
-    with pytest.raises(DataError, match=r"bad\.fits: damaged FITS file: HDU \d+: NAXIS2 = 'twelve' is not an integer"):
+    with pytest.raises(DataError, match=r"bad\.fits: damaged FITS file: HDU \d+ \(OI_VIS2\): NAXIS2 = 'twelve' is not an integer"):
         read_oifits(bad)
 
 
