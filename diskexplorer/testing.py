@@ -17,7 +17,7 @@ from .data.observations import KINDS, ObservationSet
 from .data.oifits_write import write_oifits
 
 __all__ = ["make_observations", "make_oifits", "assert_observations_equal", "assert_scenes_equal",
-           "make_uncalibrated_night",
+           "make_uncalibrated_night", "make_wide_night",
            "synthetic_scene", "synthetic_data"]
 
 # An invented, non-redundant station layout (east, north, up; m) for synthetic arrays.
@@ -368,3 +368,102 @@ def make_uncalibrated_night(folder):
     without = folder / "night_interferometry_only.fits"
     write_oifits(without, hk)
     return with_flux, without, wl.size
+
+
+def make_wide_night(folder, name: str = "wide_night_K.fits", *, n_exposures: int = 8,
+                    n_channels: int = 210, n_ft_channels: int = 5, seed: int = 7) -> Path:
+    """Write a K-band four-telescope night file shaped like today's wide-band products.
+
+    The invented demo star and array of :mod:`diskexplorer.sample` (compact configuration),
+    observed by an invented instrument with a fringe-tracker and a science spectrograph,
+    each in two split polarisations: four INSNAMEs (``SIMK-FT-P1``, ``SIMK-FT-P2`` with
+    ``n_ft_channels`` channels, ``SIMK-SC-P1``, ``SIMK-SC-P2`` with ``n_channels``). Every INSNAME has V², closure phases and
+    triple amplitudes, absolute visibility amplitudes with differential phases against
+    every channel of the row (VISREFMAP all true) and per-telescope total fluxes (OI_FLUX,
+    Jy); values are the demo scene's channel averages plus Gaussian noise, errors as in
+    :func:`diskexplorer.sample.simulate_observations`. For speed benchmarks and tests of
+    wide files: each science exposure holds 6 × 3 + 4 × 2 + 4 × 2 = 34 points per
+    channel and polarisation.
+
+    Parameters
+    ----------
+    folder : str or os.PathLike
+        Where the file is written (created if missing).
+    name : str
+        File name.
+    n_exposures : int
+        Exposures, spread over hour angles −3 h … +3 h.
+    n_channels, n_ft_channels : int
+        Science and fringe-tracker channels (1.99–2.45 µm and 2.0–2.4 µm).
+    seed : int
+        Noise seed.
+
+    Returns
+    -------
+    pathlib.Path
+    """
+    from .sample import CONFIGURATIONS, STATIONS, _single, _uv, demo_scene
+
+    folder = Path(folder)
+    folder.mkdir(parents=True, exist_ok=True)
+    rng = np.random.default_rng(seed)
+    scene = demo_scene()
+    index = {s: k + 1 for k, s in enumerate(STATIONS)}
+    tels = CONFIGURATIONS["compact"]
+    pos = {t: np.array(STATIONS[t]) for t in tels}
+    base, tri = [], []
+    for e, ha in enumerate(np.linspace(-3.0, 3.0, n_exposures)):
+        mjd = 61300.0 + ha / 24.0
+        for a, b in combinations(tels, 2):
+            base.append((*_uv(pos[b] - pos[a], ha), mjd, index[a], index[b]))
+        for a, b, c in combinations(tels, 3):
+            tri.append((*_uv(pos[b] - pos[a], ha), *_uv(pos[c] - pos[b], ha), mjd, index[a], index[b], index[c]))
+    base, tri = np.array(base), np.array(tri)
+    parts = []
+    for insname, wl, resolution in (
+            ("SIMK-FT", np.linspace(2.0, 2.4, n_ft_channels), 20.0),
+            ("SIMK-SC", np.linspace(2.45, 1.99, n_channels), 500.0)):
+        wl = _single(wl)
+        bw = _single(wl / resolution)
+        u, v = base[:, 0:1], base[:, 1:2]
+        sed = scene.sed(wl, bandwidth=bw)
+        vis = scene.visibility(u, v, wl[None, :], bandwidth=bw[None, :])
+        v2 = np.abs(vis) ** 2
+        tri_uv = (tri[:, 0:1], tri[:, 1:2], tri[:, 2:3], tri[:, 3:4])
+        cp = scene.closure_phase(*tri_uv, wl[None, :], bandwidth=bw[None, :])
+        t3 = np.abs(scene.triple_product(*tri_uv, wl[None, :], bandwidth=bw[None, :]))
+        coherent = sed[None, :] * vis
+        dphi = np.degrees(np.angle(coherent * np.conj(coherent.sum(axis=1, keepdims=True))))
+        for pol in ("P1", "P2"):
+            def noisy(x, err):
+                return x + rng.normal(0.0, 1.0, np.shape(x)) * err
+
+            v2_err = 0.03 * v2 + 0.004
+            t3_err = 0.05 * t3 + 0.005
+            cp_err = np.minimum(np.hypot(1.0, np.degrees(0.005 / np.maximum(t3, 1e-6))), 90.0)
+            amp_err = 0.03 * np.abs(vis) + 0.01
+            dphi_err = np.minimum(np.hypot(0.5, np.degrees(0.01 / np.maximum(np.abs(vis), 1e-6))), 90.0)
+            rows = dict(mjd=base[:, 2], int_time=30.0, sta_index1=base[:, 3].astype(int),
+                        sta_index2=base[:, 4].astype(int))
+            flux = np.broadcast_to(sed, (len(tels), wl.size))
+            parts.append(ObservationSet.from_arrays(
+                vis2=dict(u=base[:, 0], v=base[:, 1], wavelength=wl, bandwidth=bw, vis2=noisy(v2, v2_err),
+                          vis2_err=v2_err, **rows),
+                t3=dict(u1=tri[:, 0], v1=tri[:, 1], u2=tri[:, 2], v2=tri[:, 3], wavelength=wl, bandwidth=bw,
+                        t3phi=(noisy(cp, cp_err) + 180.0) % 360.0 - 180.0, t3phi_err=cp_err,
+                        t3amp=noisy(t3, t3_err), t3amp_err=t3_err, mjd=tri[:, 4], int_time=30.0,
+                        sta_index1=tri[:, 5].astype(int), sta_index2=tri[:, 6].astype(int),
+                        sta_index3=tri[:, 7].astype(int)),
+                vis=dict(u=base[:, 0], v=base[:, 1], wavelength=wl, bandwidth=bw, **rows,
+                         visamp=noisy(np.abs(vis), amp_err), visamp_err=amp_err,
+                         visphi=(noisy(dphi, dphi_err) + 180.0) % 360.0 - 180.0, visphi_err=dphi_err,
+                         amptyp="absolute", phityp="differential"),
+                flux=dict(wavelength=wl, bandwidth=bw, mjd=np.full(len(tels), base[0, 2]), int_time=30.0,
+                          flux=noisy(flux, 0.05 * flux), flux_err=0.05 * flux,
+                          sta_index1=np.array([index[t] for t in tels])),
+                insname=f"{insname}-{pol}", arrname="QUARTET", target="Aurelis",
+                stations=dict(STATIONS), diameter=1.8, frame="GEOCENTRIC",
+                target_info=dict(raep0=211.7364, decep0=-31.5)))
+    path = folder / name
+    write_oifits(path, ObservationSet.concat(parts), overwrite=True, date="2026-01-01T00:00:00")
+    return path

@@ -129,7 +129,10 @@ def make_point_dataset(kind: str, columns: Mapping[str, np.ndarray]) -> xr.Datas
         if band.shape != ref.shape:
             raise DataError(f"vis: column 'ref_bandwidth' has shape {band.shape}, expected {ref.shape}")
         data["ref_wavelength"] = (("point", "ref"), ref)
-        data["ref_bandwidth"] = (("point", "ref"), np.where(np.isfinite(ref), band, np.nan))
+        pad = ~np.isfinite(ref)
+        if np.isfinite(band[pad]).any():   # readers pad both alike; copy only when they differ
+            band = np.where(pad, np.nan, band)
+        data["ref_bandwidth"] = (("point", "ref"), band)
     ds = xr.Dataset(data, coords=coords, attrs={"kind": kind, "oifits_table": spec["table"]})
     for name, unit in _UNITS.items():
         if name in ds.variables:
@@ -561,10 +564,20 @@ def reference_from_map(visrefmap, wavelength, bandwidth, rows, channels):
         The reference channels of each point, NaN-padded; m is the longest reference.
     """
     refmap = np.asarray(visrefmap, bool)[np.asarray(rows), np.asarray(channels)]
+    # Most points share a handful of map rows (all channels, all others): sort each
+    # distinct row once. Packed bits make the rows short keys for np.unique.
+    packed = np.packbits(refmap, axis=1)
+    if packed.size:
+        keys = packed.view(np.dtype((np.void, packed.shape[1]))).ravel()
+        _, first, which = np.unique(keys, return_index=True, return_inverse=True)
+        refmap, which = refmap[first], which.ravel()
+    else:
+        which = np.arange(refmap.shape[0])
     count = refmap.sum(axis=1)
     m = int(count.max()) if count.size else 0
     # Stable sort of "not in the reference" puts each point's reference channels first, in order.
-    order = np.argsort(~refmap, axis=1, kind="stable")[:, :m]
+    order = np.argsort(~refmap, axis=1, kind="stable")[:, :m][which]
+    count = count[which]
     pad = np.arange(m)[None, :] >= count[:, None]
     wl = np.where(pad, np.nan, np.asarray(wavelength, float)[order])
     bw = np.where(pad, np.nan, np.asarray(bandwidth, float)[order])

@@ -8,6 +8,7 @@ target if OI_TARGET says which (CATEGORY 'SCI' against 'CAL', OIFITS v2, Duvert 
 from __future__ import annotations
 
 import numpy as np
+import pandas as pd
 
 from ..errors import DataError
 
@@ -23,8 +24,8 @@ def target_points(observations):
         return []
     counts = {}
     for ds in observations.datasets().values():
-        names, n = np.unique(np.asarray(ds["target"].values).astype(str), return_counts=True)
-        for name, k in zip(names, n):
+        # Counted by hashing (a sort of every point's name costs ~0.1 s on a wide night file).
+        for name, k in pd.Series(np.asarray(ds["target"].values).ravel()).value_counts(sort=False).items():
             counts[str(name)] = counts.get(str(name), 0) + int(k)
     info = {name.lower(): i for name, i in (observations.targets or {}).items()}
     out = [{"name": name, "category": str(info.get(name.lower(), {}).get("category", "") or "").strip().upper(),

@@ -8,9 +8,11 @@ import numpy as np
 from scipy import sparse
 
 from ..errors import DataError, ParameterError
+from ..observables.distinct import distinct_rows
 from ..observables.observer import Observer
 from .data_kinds import DATA_KINDS, KIND_LABELS
 from .not_judged import judged_flux, not_judged
+from .references import reference_sets
 
 __all__ = ["Comparison", "ComparisonResult", "DATA_KINDS", "KIND_LABELS", "phase_residual",
            "channel_widths", "differential_phase"]
@@ -245,6 +247,7 @@ class Comparison:
         self.weights = {"t3amp": 0.0}
         self.weights.update(weights or {})
         obs = observations
+        _check_spatial_frequencies(obs)
         #: Groups of points left out of χ² and why (:mod:`~diskexplorer.fitting.not_judged`).
         self.left_out = tuple(not_judged(obs))
         flux_ds = getattr(obs, "flux", None)
@@ -252,6 +255,11 @@ class Comparison:
         vis2 = getattr(obs, "vis2", None)
         t3 = getattr(obs, "t3", None)
         vis = getattr(obs, "vis", None)
+        self._flags = {}
+        for kind in ("vis2", "vis", "t3", "flux"):
+            ds = getattr(obs, kind, None)
+            if ds is not None and "flag" in ds and np.any(ds["flag"].values):
+                self._flags[kind] = np.asarray(ds["flag"].values, bool)
         uv, widths = [], []
         self._slices = {}
         start = 0
@@ -267,14 +275,8 @@ class Comparison:
         if "vis" in self._slices:
             ref = _reference_samples(vis, self.bandpass, widths[-1])
             if ref is not None:
-                (ru, rv, rwl, rbw), index = ref
-                # Points of one row mostly share one reference (VISREFMAP "all channels"): sum
-                # each distinct reference once, then hand its value to its points.
-                distinct, self._ref_of_point = np.unique(np.sort(index, axis=1), axis=0, return_inverse=True)
-                self._ref_of_point = self._ref_of_point.ravel()
-                p, j = np.nonzero(distinct >= 0)
-                self._ref_index = sparse.csr_matrix((np.ones(p.size), (p, distinct[p, j])),
-                                                    shape=(distinct.shape[0], index.shape[0] + ru.size))
+                ru, rv, rwl, rbw = ref.extra
+                self._ref_index, self._ref_of_point = ref.matrix, ref.of_point
                 uv.append((ru, rv, rwl))
                 widths.append(rbw if np.any(rbw > 0) else None)
                 self._slices["visref"] = slice(start, start + ru.size)
@@ -306,7 +308,7 @@ class Comparison:
         samples = np.stack([u, v, wl, np.zeros(u.size) if vis_bw is None else vis_bw], axis=1)
         self._vis_samples = None
         if u.size:
-            distinct, inverse = np.unique(samples, axis=0, return_inverse=True)
+            distinct, inverse = distinct_rows(samples)
             if distinct.shape[0] < u.size:
                 self._vis_samples = inverse.ravel()
                 u, v, wl = distinct[:, 0], distinct[:, 1], distinct[:, 2]
@@ -427,6 +429,14 @@ class Comparison:
             if name == "flux":
                 r = np.where(self._flux_judged, r, np.nan)   # uncalibrated: never judged as Jy
             resid[name] = r
+        # Flagged points (kept by a reader's keep_flagged) are shown but never judged.
+        for kind, names in (("vis2", ("vis2",)), ("t3", ("t3phi", "t3amp")),
+                            ("vis", ("visamp", "corrflux", "diffphi")), ("flux", ("flux",))):
+            flag = self._flags.get(kind)
+            if flag is not None:
+                for k in names:
+                    if k in resid:
+                        resid[k] = np.where(flag, np.nan, resid[k])
         chi2, npts = {}, {}
         for k, r in resid.items():
             good = np.isfinite(r)
@@ -437,6 +447,33 @@ class Comparison:
                                 weights=weights, sed=sed, spectrum=spec, left_out=self.left_out)
 
 
+#: Largest spatial frequency B/λ (rad⁻¹) the model is evaluated at: 1.5·10⁹, i.e. 1.5 km at
+#: 1 µm. The engine resolves a ring's visibility on radial nodes whose number grows with
+#: B/λ; at 10⁹ a sample scene already needs about 1 GB, and the longest optical baselines
+#: of today (a few hundred m in the visible) stay below 10⁹.
+MAX_SPATIAL_FREQUENCY = 1.5e9
+
+
+def _check_spatial_frequencies(obs):
+    """Refuse data the engine cannot evaluate in memory, naming the file and table."""
+    for kind, table, pairs in (("vis2", "OI_VIS2", (("u", "v"),)), ("vis", "OI_VIS", (("u", "v"),)),
+                               ("t3", "OI_T3", (("u1", "v1"), ("u2", "v2")))):
+        ds = getattr(obs, kind, None)
+        if ds is None or not ds.sizes.get("point", 0):
+            continue
+        wl = ds["wavelength"].values * 1e-6
+        lengths = [np.hypot(ds[a].values, ds[b].values) for a, b in pairs]
+        if kind == "t3":
+            lengths.append(np.hypot(ds["u1"].values + ds["u2"].values, ds["v1"].values + ds["v2"].values))
+        too_far = np.max(lengths, axis=0) / wl > MAX_SPATIAL_FREQUENCY
+        if too_far.any():
+            files = sorted({str(f) for f in np.asarray(ds["file"].values)[too_far]}) if "file" in ds.coords else []
+            where = ", ".join(f for f in files if f) or "data"
+            raise DataError(f"{where}: {table}: {int(too_far.sum())} point(s) at a spatial frequency B/λ above "
+                            f"{MAX_SPATIAL_FREQUENCY:.1e} (1.5 km at 1 µm): beyond what the model engine can "
+                            "evaluate in memory; remove those baselines to judge the file")
+
+
 def _join_widths(widths, wavelengths):
     """One width array over concatenated groups (zeros for groups without), or None if none has any."""
     if all(w is None for w in widths):
@@ -445,44 +482,17 @@ def _join_widths(widths, wavelengths):
 
 
 def _reference_samples(vis, bandpass, point_widths):
-    """The samples the differential phases refer to, or None.
+    """The reference samples of the differential phases of ``vis``, or None.
 
-    Reference channels are mostly vis points themselves (a map of "every channel of the
-    row"), so a reference sample that equals a point's (u, v, λ, Δλ) reuses that point's
-    model value; only the others become extra samples.
-
-    Returns
-    -------
-    None or ((u, v, wavelength, bandwidth), index)
-        The extra samples (arrays of equal length, possibly empty) and ``index`` (n, m):
-        each vis point's reference samples as indices into the vis points followed by the
-        extra samples, −1 where none. None when no point has a differential phase with a
-        reference.
+    The points' own channels are sampled with ``point_widths`` (µm; None: monochromatic);
+    a file's bandpass choice holds for its reference channels too. See
+    :func:`~diskexplorer.fitting.references.reference_sets`.
     """
     if "ref_wavelength" not in vis:
         return None
     n = vis.sizes["point"]
-    differential = np.asarray(vis["phityp"].values).astype(str) == "differential"
-    ref_wl = np.where(differential[:, None], vis["ref_wavelength"].values, np.nan)
-    have = np.isfinite(ref_wl)
-    if not have.any():
-        return None
-    ref_bw = np.nan_to_num(vis["ref_bandwidth"].values, nan=0.0)
-    # The file's bandpass choice holds for its reference channels too.
-    ref_bw = np.where(_bandpass_on(vis, bandpass)[:, None] & (ref_bw > 0), ref_bw, 0.0)
-    u, v = vis["u"].values, vis["v"].values
     own_bw = np.zeros(n) if point_widths is None else np.asarray(point_widths, float)
-    points = np.stack([u, v, vis["wavelength"].values, own_bw], axis=1)
-    p, j = np.nonzero(have)
-    wanted = np.stack([u[p], v[p], ref_wl[p, j], ref_bw[p, j]], axis=1)
-    rows, inverse = np.unique(np.concatenate([points, wanted]), axis=0, return_inverse=True)
-    inverse = inverse.ravel()
-    # Where each distinct sample is found: the first vis point equal to it, else a new sample.
-    where = np.full(rows.shape[0], -1, dtype=np.int64)
-    where[inverse[:n][::-1]] = np.arange(n)[::-1]
-    new = np.unique(inverse[n:][where[inverse[n:]] < 0])
-    where[new] = n + np.arange(new.size)
-    index = np.full(ref_wl.shape, -1, dtype=np.int64)
-    index[p, j] = where[inverse[n:]]
-    extra = rows[new]
-    return (extra[:, 0], extra[:, 1], extra[:, 2], extra[:, 3]), index
+    return reference_sets(vis["u"].values, vis["v"].values, vis["wavelength"].values, own_bw,
+                          vis["ref_wavelength"].values, vis["ref_bandwidth"].values,
+                          differential=np.asarray(vis["phityp"].values).astype(str) == "differential",
+                          banded=_bandpass_on(vis, bandpass))

@@ -22,6 +22,7 @@ from dataclasses import dataclass
 from pathlib import Path
 
 import numpy as np
+import pandas as pd
 
 __all__ = ["LeftOut", "not_judged", "judged_flux", "describe_left_out", "select_target"]
 
@@ -55,7 +56,9 @@ class LeftOut:
 def _strings(ds, name, default):
     # Plain Python strings: their repr is what the messages quote.
     if name in ds.coords or name in ds:
-        return np.asarray([str(x) for x in np.asarray(ds[name].values).ravel()], dtype=object)
+        # A table holds a handful of distinct values: convert those, not every point's.
+        codes, distinct = pd.factorize(np.asarray(ds[name].values).ravel(), use_na_sentinel=False)
+        return np.asarray([str(x) for x in distinct], dtype=object)[codes]
     return np.full(ds.sizes.get("point", 0), default, dtype=object)
 
 
@@ -99,6 +102,14 @@ def not_judged(observations):
     if observations is None:
         return []
     out = []
+    # Points read with keep_flagged: the file says they are bad, so they are never judged.
+    for kind, table in (("vis2", "OI_VIS2"), ("vis", "OI_VIS"), ("t3", "OI_T3"), ("flux", "OI_FLUX")):
+        ds = getattr(observations, kind, None)
+        if ds is not None and ds.sizes.get("point", 0) and "flag" in ds:
+            flagged = np.asarray(ds["flag"].values, bool)
+            if flagged.any():
+                out += _group(ds, flagged, table, np.full(flagged.size, "", dtype=object),
+                              lambda k: "flagged in the file (FLAG true): not judged")
     flux = getattr(observations, "flux", None)
     if flux is not None and flux.sizes.get("point", 0):
         calstat = np.array([c.strip().upper() for c in _strings(flux, "calstat", "C")], dtype=object)

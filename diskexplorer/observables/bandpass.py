@@ -63,6 +63,7 @@ import numpy as np
 from scipy import sparse
 
 from ..errors import ParameterError
+from .distinct import distinct_rows
 from .engine import Evaluation, Evaluator, Sampling, _Cache
 
 __all__ = ["ChannelSampling", "ChannelEvaluator", "channel_node_count", "channel_nodes", "source_extent",
@@ -200,8 +201,7 @@ class ChannelSampling(Sampling):
                                             np.asarray(wavelength, float), np.asarray(bandwidth, float))
         self.bandwidth = check_bandwidth(lam, bw).ravel().copy()
         pairs = np.stack([self.wavelength, self.bandwidth], axis=1)
-        channels, self.wave_index = np.unique(pairs, axis=0, return_inverse=True)
-        self.wave_index = self.wave_index.ravel()
+        channels, self.wave_index = distinct_rows(pairs)
         self.wavelengths = channels[:, 0].copy()
         self.bandwidths = channels[:, 1].copy()
 

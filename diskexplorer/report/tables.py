@@ -1,7 +1,6 @@
 """χ² and residual tables of an evaluation, and their CSV files."""
 from __future__ import annotations
 
-import csv
 import math
 
 import numpy as np
@@ -202,14 +201,52 @@ def format_chi2_table(rows):
 
 
 def write_csv(path, columns):
-    """Write columns (name → 1-d array) to ``path`` as CSV; NaN as an empty cell, floats to 8 digits."""
+    """Write columns (name → 1-d array) to ``path`` as CSV; NaN as an empty cell, floats to 8 digits.
+
+    Cells are formatted column by column (a wide night file's residual tables hold
+    millions of cells; a cell-by-cell writer took seconds); the text is what
+    :mod:`csv` writes: minimal quoting, rows ended by CR LF.
+    """
     names = list(columns)
-    arrays = [np.asarray(columns[n]) for n in names]
+    texts = [_column_text(np.asarray(columns[n])) for n in names]
     with open(path, "w", newline="", encoding="utf-8") as fh:
-        writer = csv.writer(fh)
-        writer.writerow(names)
-        for row in zip(*arrays):
-            writer.writerow([_cell(x) for x in row])
+        fh.write(",".join(_quote(n) for n in names) + "\r\n")
+        for lo in range(0, len(texts[0]) if texts else 0, 65536):
+            fh.write("".join(",".join(row) + "\r\n" for row in zip(*(t[lo:lo + 65536] for t in texts))))
+
+
+def _column_text(a):
+    """The cells of one column as quoted CSV text."""
+    a = np.ravel(a)
+    if a.dtype.kind == "b":
+        return np.where(a, "true", "false").tolist()
+    if a.dtype.kind == "f":
+        text = list(map("{:.8g}".format, a.tolist()))
+        for i in np.flatnonzero(~np.isfinite(a)).tolist():
+            text[i] = ""
+        return text
+    if a.dtype.kind in "iu":
+        return list(map(str, a.tolist()))
+    # Names and other objects: a column holds a few distinct values; format each once.
+    cells = {}
+    out = []
+    for x in a.tolist():
+        key = (type(x), x)   # True == 1 == 1.0 as keys; their cells differ
+        try:
+            text = cells[key]
+        except KeyError:
+            text = cells[key] = _quote(_cell(x))
+        except TypeError:   # an unhashable object
+            text = _quote(_cell(x))
+        out.append(text)
+    return out
+
+
+def _quote(text):
+    """``text`` as one CSV field (quoted only where :mod:`csv`'s minimal quoting would)."""
+    if any(ch in text for ch in ',"\r\n'):
+        return '"' + text.replace('"', '""') + '"'
+    return text
 
 
 def _cell(x):

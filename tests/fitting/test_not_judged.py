@@ -79,3 +79,38 @@ def test_correlated_fluxes_in_counts_are_read_as_counts_and_not_judged(tmp_path)
     (group,) = comparison.left_out
     assert group.table == "OI_VIS amplitudes" and group.file == "counts.fits"
     assert "'adu'" in group.reason and "not compared in Jy" in group.reason
+
+
+def test_flagged_points_kept_by_the_reader_are_shown_but_never_judged(tmp_path):
+    # OIFITS: FLAG true marks a bad point (Duvert, Young & Hummel 2017, A&A 597, A8).
+    from diskexplorer.data import read_oifits
+    from diskexplorer.testing import make_oifits, synthetic_scene
+
+    path = make_oifits(tmp_path, "flagged.fits", n_telescopes=4, n_exposures=2, n_channels=8,
+                       flag_fraction=0.2, seed=3, diameter_mas=1.0)
+    dropped = read_oifits(path)
+    kept = read_oifits(path, keep_flagged=True)
+    n_flagged = int(kept.vis2["flag"].values.sum())
+    assert n_flagged > 0 and kept.n_points("vis2") == dropped.n_points("vis2") + n_flagged
+    kept.vis2["vis2"].values[kept.vis2["flag"].values] = 1e300   # what a flagged point may hold
+    scene = synthetic_scene()
+    a, b = Comparison(dropped).compare(scene), Comparison(kept).compare(scene)
+    assert b.chi2 == pytest.approx(a.chi2, rel=1e-12) and b.npoints == a.npoints
+    groups = [g for g in Comparison(kept).left_out if "FLAG" in g.reason and g.table == "OI_VIS2"]
+    assert sum(g.n for g in groups) == n_flagged
+
+
+def test_baselines_beyond_the_engine_s_reach_are_refused_by_file_and_table(tmp_path):
+    from diskexplorer.data import read_oifits
+    from diskexplorer.errors import DataError
+    from diskexplorer.fitting.comparison import MAX_SPATIAL_FREQUENCY
+    from diskexplorer.testing import make_oifits
+
+    path = make_oifits(tmp_path, "kilometre.fits", n_telescopes=3, n_exposures=1, n_channels=4, band="H")
+    obs = read_oifits(path)
+    Comparison(obs)   # metres-long baselines: fine
+    far = obs.vis2.copy(deep=True)
+    far["u"].values[:] = 5000.0   # 5 km at 1.6 µm: 3·10⁹ rad⁻¹
+    assert np.max(far["u"].values / (far["wavelength"].values * 1e-6)) > MAX_SPATIAL_FREQUENCY
+    with pytest.raises(DataError, match=r"kilometre\.fits: OI_VIS2: \d+ point\(s\) at a spatial frequency"):
+        Comparison(ObservationSet(vis2=far, targets=obs.targets, arrays=obs.arrays))

@@ -1,5 +1,4 @@
 """Model images: their 2-D FFT agrees with the engine; profiles and outlines make sense."""
-import math
 
 import numpy as np
 import pytest

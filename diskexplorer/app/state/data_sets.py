@@ -153,9 +153,13 @@ def read_data_set(path, kind=None, lenient=False) -> DataSet:
             data = read_data_file(path, kind, **({"strict": False} if lenient and kind == "oifits" else {}))
         except DiskExplorerError:
             raise
-        except (OSError, ValueError, TypeError, KeyError, IndexError) as exc:
-            # A reader that fails without naming the file (e.g. numpy on a damaged table).
-            raise DataError(f"{path}: cannot be read as {_KIND_LABEL[kind]}: {exc}") from exc
+        except OSError as exc:
+            raise DataError(f"{path}: cannot be read as {_KIND_LABEL[kind]}: {exc.strerror or type(exc).__name__}") from exc
+        except (ValueError, TypeError, KeyError, IndexError) as exc:
+            # The readers' door turns these into DataErrors; should one slip through, its
+            # text may quote the file, so only its kind is said.
+            raise DataError(f"{path}: cannot be read as {_KIND_LABEL[kind]} (the reader failed with "
+                            f"{type(exc).__name__})") from exc
     notes = _messages(caught, path)
     if kind == "oifits":
         notes += [n for n in _messages(data.notes, path) if n not in notes]
