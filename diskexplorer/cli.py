@@ -24,7 +24,7 @@ def _cmd_demo(args):
 
     try:
         server = DemoServer(port=args.port, workdir=args.workdir, data=args.data,
-                            idle_timeout=args.idle_timeout)
+                            idle_timeout=args.idle_timeout, token="" if args.no_token else None)
     except DiskExplorerError as exc:  # a bad or busy port, a missing folder: usage errors
         return _usage("demo", _one_line(exc))
     return server.serve_forever(say=lambda m: print(m, flush=True))
@@ -111,12 +111,12 @@ def _read_session_inputs(path):
     The data are described as the explorer judged them: its files with their band,
     instrument and baseline filters and channel-bandpass switches.
     """
-    import json
+    from .errors import DiskExplorerError
+    from .fitting.json_limits import read_json_document
 
     try:
-        with open(path, encoding="utf-8") as fh:
-            doc = json.load(fh)
-    except (OSError, ValueError):
+        doc = read_json_document(path)
+    except DiskExplorerError:
         return None  # let the starting-point reader report what is wrong
     if not (isinstance(doc, dict) and str(doc.get("schema", "")).startswith("diskexplorer-session/")):
         return None
@@ -201,9 +201,11 @@ def build_parser():
     sub = parser.add_subparsers(dest="command", required=True)
     p = sub.add_parser(
         "demo", help="serve the explorer on 127.0.0.1 (the sample data, or yours with --data)",
-        description="Serve the explorer as a local web app (voila) on 127.0.0.1 only. Files saved from the "
-                    "app go to --workdir (default: the folder you start from). Ctrl-C or SIGTERM stops the "
-                    "server and every kernel it started; kernels of closed pages stop after --idle-timeout.")
+        description="Serve the explorer as a local web app (voila) on 127.0.0.1 only, behind a random token: "
+                    "open the printed address, which carries it. The page reads files only in --workdir "
+                    "(default: the folder you start from) and the --data files and folders, and saves only "
+                    "into --workdir. Ctrl-C or SIGTERM stops the server and every kernel it started; kernels "
+                    "of closed pages stop after --idle-timeout.")
     p.add_argument("--port", type=int, default=8866, help="TCP port, 1-65535, must be free (default 8866)")
     p.add_argument("--data", metavar="PATH", nargs="+",
                    help="data files or folders to open instead of the sample (classified by content)")
@@ -211,6 +213,9 @@ def build_parser():
                                                     "(default: the current folder)")
     p.add_argument("--idle-timeout", metavar="S", type=int, default=30,
                    help="seconds after which the kernel of a closed page is shut down (default 30)")
+    p.add_argument("--no-token", action="store_true",
+                   help="serve without the random token the page's address carries (not recommended: every "
+                        "user of the host could then open the page)")
     p.set_defaults(func=_cmd_demo)
     p = sub.add_parser(
         "sample-data", help="copy the invented demo data set into a folder (or regenerate it)",

@@ -1,11 +1,14 @@
 """Helpers for tests that start the demo server as real processes."""
+import re
+import select
 import signal
 import socket
 import subprocess
+import time
 
 import psutil
 
-__all__ = ["free_port", "port_open", "stop_tree", "alive"]
+__all__ = ["free_port", "port_open", "stop_tree", "alive", "served_address"]
 
 
 def free_port():
@@ -46,3 +49,23 @@ def stop_tree(proc):
             child.kill()
         except psutil.Error:
             pass
+
+
+def served_address(proc, timeout=90.0):
+    """The address ``diskexplorer demo`` prints once it serves (with its token), read from
+    its stdout (a text pipe); ``(url, lines read)``. Fails if none comes within ``timeout`` s."""
+    end = time.monotonic() + timeout
+    seen = []
+    while time.monotonic() < end:
+        ready, _, _ = select.select([proc.stdout], [], [], 0.5)
+        if ready:
+            line = proc.stdout.readline()
+            if not line:
+                break
+            seen.append(line)
+            found = re.search(r"serving the explorer at (\S+)", line)
+            if found:
+                return found.group(1), seen
+        elif proc.poll() is not None:
+            break
+    raise AssertionError("diskexplorer demo printed no address:\n" + "".join(seen))

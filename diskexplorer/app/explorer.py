@@ -12,7 +12,7 @@ from .controls.param_control import ParamControl
 from .pages.data_page import DataPage
 from .pages.lazy_page import LazyPage
 from .state.data_sets import bandpass_choice, data_sets_from
-from .state.data_view import DataView
+from .state.data_view import data_view
 from .state.debounce import Debouncer
 from .pages.derived_page import DerivedPage
 from .pages.start_page import StartPage
@@ -99,7 +99,7 @@ class Explorer(w.VBox):
         # Relative names typed into any panel resolve against ``workdir`` (app/state/workdir.py).
         self.state = ExplorerState(scene=scene, curve_position_angle=float(scene.position_angle % 180.0),
                                    workdir=str(folder))
-        notes = self.state.set_data_sets(data_sets) + notes
+        notes = self.state.set_data_sets(data_sets, check=True) + notes
         self.debouncer = Debouncer(self._recompute, delay=delay, scheduler=scheduler)
         self.timings = []
         self.recompute_log = []
@@ -311,9 +311,9 @@ class Explorer(w.VBox):
         tiers = tiers_for(names)
         st = self.state
         if "data" in tiers:
-            self.view = DataView(st.observations, st.photometry, st.spectrum, bands=st.band_filter,
-                                 instruments=st.instrument_filter, baseline_range=st.baseline_range,
-                                 bandpass=bandpass_choice(st.data_sets), target=st.target)
+            self.view = data_view(st.observations, st.photometry, st.spectrum, bands=st.band_filter,
+                                instruments=st.instrument_filter, baseline_range=st.baseline_range,
+                                bandpass=bandpass_choice(st.data_sets), target=st.target)
             self._data_generation += 1
             self._pin_cache.clear()
             tiers |= {"model", "pins"}
@@ -491,8 +491,9 @@ def explore(data=None, scene=None, *, scheduler=None, delay=0.04, jobs="thread",
     Raises
     ------
     DataError
-        A given file that cannot be read (none is loaded then), a folder without data, or
-        ``data`` of another type.
+        A given file that cannot be read or that the model cannot be computed with (none
+        is loaded then; the message names it), a folder without data, or ``data`` of
+        another type.
 
     Examples
     --------

@@ -16,8 +16,11 @@ Every numeric parameter is an entry at its parameter path
 (:mod:`~diskexplorer.fitting.paths`) with its value and unit, whether it is free, its
 bounds and its prior; dust of every form is written by
 :mod:`~diskexplorer.fitting.dust_codec` (mixtures with per-component sizes and shapes,
-power laws, κ tables by path or inline; registered species by name), photosphere tables
-inline, and an equilibrium ring's temperature settings beside its parameters. Reading
+power laws, κ tables by path or inline), photosphere tables inline, and an equilibrium
+ring's temperature settings beside its parameters. Species
+registered in this process that the rings' mixtures use are written into the scene's
+``"species"`` object (their κ table or optical constants), so that another process reads
+the scene with the same κ. Reading
 converts units with astropy.units and checks every value against its valid range and
 bounds, naming the entry's path in each error.
 """
@@ -31,7 +34,8 @@ from ..observables.scene import Scene
 from ..physics.parameters import parameter_specs
 from ..physics.ring import SUBLIMATION_TEMPERATURE_SPEC, Ring
 from ..physics.star import PhotosphereTable, Star
-from .dust_codec import dust_from_document, dust_to_document
+from .dust_codec import (dust_from_document, dust_to_document, install_species_entries, species_from_document,
+                         species_to_document)
 from .paths import SCENE_GROUPS, get_value, parameter_paths, spec_for, sublimation_species
 from .priors import Prior, as_prior, default_prior
 from .quantities import quantity, to_internal, unit_factor
@@ -120,6 +124,10 @@ def scene_entries(scene, free=(), bounds=None, priors=None):
                       "dust": dust_to_document(ring.dust, f"rings.{k}.dust"),
                       **_equilibrium_entries(scene, k, entries)})
     doc_scene["rings"] = rings
+    # Registered species live in this process only: the document carries them.
+    species = species_to_document(scene)
+    if species:
+        doc_scene["species"] = species
     return doc_scene
 
 
@@ -176,7 +184,7 @@ def _photosphere_table(entry, where):
         raise SeedError(f"{where}: {exc}") from None
 
 
-def scene_from_entries(sdoc, base_dir=None):
+def scene_from_entries(sdoc, base_dir=None, check_path=None):
     """The scene of a document's ``"scene"`` entries, with every parameter's bounds and prior.
 
     Parameters
@@ -185,6 +193,9 @@ def scene_from_entries(sdoc, base_dir=None):
         As :func:`scene_entries` writes it (checked against the schema by the caller).
     base_dir : str, optional
         Folder that relative κ-table paths refer to.
+    check_path : callable, optional
+        Given each κ table's absolute path before it is read (see
+        :func:`~diskexplorer.fitting.dust_codec.dust_from_document`).
 
     Returns
     -------
@@ -196,8 +207,27 @@ def scene_from_entries(sdoc, base_dir=None):
     ------
     SeedError
         Units that do not convert, values outside their valid range or bounds, priors
-        that do not fit, r_in ≥ r_out, unknown species; each names the entry's path.
+        that do not fit, r_in ≥ r_out, unknown species, a species the document defines
+        that is registered here with other data; each names the entry's path.
+
+    Notes
+    -----
+    Species defined in the scene's ``"species"`` object are registered in this process
+    (:func:`~diskexplorer.dust.register_species`) unless registered already with the same
+    data; if the scene is then refused, those registered by this call are removed again.
     """
+    added = install_species_entries(species_from_document(sdoc.get("species"), "species"), "species")
+    try:
+        return _scene_from_entries(sdoc, base_dir, check_path)
+    except BaseException:
+        from ..dust import unregister_species
+
+        for name in added:
+            unregister_species(name)
+        raise
+
+
+def _scene_from_entries(sdoc, base_dir, check_path):
     params, free_paths = {}, []
 
     def take(entry, path, spec):
@@ -228,7 +258,7 @@ def scene_from_entries(sdoc, base_dir=None):
         if not kw["r_in"] < kw["r_out"]:
             raise SeedError(f"rings.{k}.r_in: {_fmt(rd['r_in']['value'])} {rd['r_in']['unit']} must be "
                             f"smaller than rings.{k}.r_out = {_fmt(rd['r_out']['value'])} {rd['r_out']['unit']}")
-        dust = dust_from_document(rd["dust"], f"rings.{k}.dust", base_dir)
+        dust = dust_from_document(rd["dust"], f"rings.{k}.dust", base_dir, check_path)
         # Temperature settings of an equilibrium ring; absent: the power law.
         kw["temperature_mode"] = rd.get("temperature_mode", "power_law")
         kw["inner_edge"] = rd.get("inner_edge", "fixed")

@@ -14,13 +14,15 @@ Layout (``"schema": "diskexplorer-session/2"``)::
 
 The scene and each pin are written with the same codec as starting points, so a session
 keeps every dust form (mixtures with per-component sizes and shapes, κ tables by path or
-inline, power-law opacities, registered species by name), photosphere tables and the
+inline, power-law opacities, registered species with their data), photosphere tables and the
 temperature settings of equilibrium rings. Data are stored as paths, not copies:
 restoring re-reads the files. A κ table read from a file is stored by its path: an
 absolute one as given, a relative one relative to the session file's folder
 (:func:`write_session`), against which :func:`decode_session` resolves it. Sessions of
 the first layout (``diskexplorer-session/1``, a plain scene form that kept mixtures only)
-are still read.
+are still read. Reading is bounded (:mod:`~diskexplorer.fitting.json_limits`) and the whole
+layout is checked against a JSON Schema, each scene against the starting point's, before
+any field is used.
 """
 from __future__ import annotations
 
@@ -30,12 +32,14 @@ import os
 from dataclasses import dataclass, field
 from pathlib import Path
 
-from ..errors import DiskExplorerError, DustError, ParameterError, SeedError
+from ..errors import DiskExplorerError, SeedError
 from ..observables.scene import Scene
 from ..physics.ring import Ring
 from ..physics.star import Star
+from .dust_codec import table_paths_from
 from .scene_codec import scene_entries, scene_from_entries
-from .start_import import validate_scene_entries
+from .json_limits import check_json_tree, read_json_document
+from .start_import import validate_against, validate_scene_entries
 
 __all__ = ["SESSION_SCHEMA", "VIEW_SETTINGS", "SessionContents", "session_document", "write_session",
            "read_session", "decode_session"]
@@ -132,31 +136,12 @@ def session_document(scene, *, data=None, bandpass_off=(), bands=(), instruments
 def _table_paths_from(document, folder):
     """``document`` with each κ table's relative path re-expressed from ``folder`` (a new dict).
 
-    A table given by a relative path was read against the current folder, while readers
-    resolve the stored path against the session file's folder: the stored path must lead
-    from there to the same file. Absolute paths are kept as given.
+    See :func:`~diskexplorer.fitting.dust_codec.table_paths_from`; here for the scene and
+    every pin's scene.
     """
-    def scene(entry):
-        if not (isinstance(entry, dict) and isinstance(entry.get("rings"), list)):
-            return entry
-        rings = []
-        for ring in entry["rings"]:
-            dust = ring.get("dust") if isinstance(ring, dict) else None
-            table = isinstance(dust, dict) and dust.get("kind") == "kappa_table"
-            given = dust.get("path") if table else None
-            if isinstance(given, str) and not os.path.isabs(os.path.expanduser(given)):
-                target = os.path.abspath(os.path.expanduser(given))
-                try:
-                    stored = os.path.relpath(target, folder)
-                except ValueError:   # on another drive (Windows): no relative path leads there
-                    stored = target
-                ring = {**ring, "dust": {**dust, "path": stored}}
-            rings.append(ring)
-        return {**entry, "rings": rings}
-
-    out = {**document, "scene": scene(document.get("scene"))}
+    out = {**document, "scene": table_paths_from(document.get("scene"), folder)}
     if isinstance(document.get("pins"), list):
-        out["pins"] = [{**p, "scene": scene(p.get("scene"))} if isinstance(p, dict) else p
+        out["pins"] = [{**p, "scene": table_paths_from(p.get("scene"), folder)} if isinstance(p, dict) else p
                        for p in document["pins"]]
     return out
 
@@ -199,27 +184,109 @@ def write_session(path, document, overwrite=False):
     return path
 
 
+def _session_layout():
+    """JSON Schema of a session document around its scenes (scenes: :func:`validate_scene_entries`)."""
+    strings = {"type": ["array", "null"], "items": {"type": "string"}}
+    positive = {"type": "number", "exclusiveMinimum": 0}
+    view = {k: {"type": "boolean"} if k.startswith("log_") else ({"type": "number"} if k == "curve_position_angle"
+                                                                  else positive)
+            for k in VIEW_SETTINGS}
+    return {
+        "type": "object",
+        "properties": {
+            "schema": {"enum": list(_READABLE)},
+            "scene": {"type": "object"},
+            "data": {"type": ["object", "null"],
+                     "properties": {"oifits": {"anyOf": [{"type": "string"}, strings]},
+                                    "photometry": {"type": ["string", "null"]},
+                                    "spectrum": {"type": ["string", "null"]}},
+                     "additionalProperties": False},
+            "bandpass_off": strings,
+            "filters": {"type": ["object", "null"],
+                        "properties": {"bands": strings, "instruments": strings,
+                                       "baseline_range_m": {"type": ["array", "null"],
+                                                            "items": {"type": ["number", "null"], "minimum": 0},
+                                                            "minItems": 2, "maxItems": 2},
+                                       "target": {"type": ["string", "null"]}},
+                        "additionalProperties": False},
+            # Other keys of "view" are settings of another version: ignored.
+            "view": {"type": ["object", "null"], "properties": view},
+            "pins": {"type": ["array", "null"],
+                     "items": {"type": "object",
+                               "properties": {"name": {"type": "string"}, "scene": {"type": "object"}},
+                               "required": ["scene"], "additionalProperties": False}},
+            "fit_setup": {"type": ["object", "null"],
+                          "properties": {"free": strings,
+                                         "bounds": {"type": "object",
+                                                    "additionalProperties": {"type": "array",
+                                                                             "items": {"type": "number"},
+                                                                             "minItems": 2, "maxItems": 2}},
+                                         "priors": {"type": "object", "additionalProperties": {"type": "object"}},
+                                         "weights": {"type": "object",
+                                                     "additionalProperties": {"type": "number", "minimum": 0}}},
+                          "additionalProperties": False},
+        },
+        "required": ["schema", "scene"],
+    }
+
+
+def _legacy_scene_schema():
+    """JSON Schema of the plain scene form of ``diskexplorer-session/1``."""
+    number = {"type": "number"}
+
+    def null_or(schema):
+        return {"anyOf": [{"type": "null"}, schema]}
+
+    key = {"anyOf": [{"type": "string"},
+                     {"type": "array", "prefixItems": [{"type": "string"}, {"type": ["number", "null"]},
+                                                       {"type": "string"}], "minItems": 3, "maxItems": 3}]}
+    dust = {"type": "object", "properties": {
+                "kind": {"type": "string"},
+                "fractions": {"type": "array", "items": {"type": "array", "prefixItems": [key, number],
+                                                         "minItems": 2, "maxItems": 2}},
+                "grain_size": number, "shape": {"type": "string"}},
+            "required": ["kind"],
+            "if": {"properties": {"kind": {"const": "mixture"}}},
+            "then": {"required": ["kind", "fractions", "grain_size", "shape"]}}
+    ring = {"type": "object", "properties": {
+        **{f: number for f in ("r_in", "r_out", "t_in", "q", "sigma_in", "p", "c1", "s1")},
+        "name": {"type": "string"}, "enabled": {"type": "boolean"}, "temperature_mode": {"type": "string"},
+        "inner_edge": {"type": "string"}, "sublimation": {"type": "object", "additionalProperties": number},
+        "dust": null_or(dust)}}
+    star = {"type": "object", "properties": {"t_eff": number, "radius": number, "mass": number,
+                                             "uniform_disk": {"type": "boolean"}},
+            "required": ["t_eff", "radius", "mass"]}
+    return {"type": "object",
+            "properties": {"distance": number, "inclination": number, "position_angle": number,
+                           "extended_fraction": number, "star": null_or(star),
+                           "rings": {"type": "array", "items": ring}},
+            "required": ["distance", "inclination", "position_angle"]}
+
+
 def read_session(path):
-    """Read a session document and check its schema.
+    """Read a session document and check its size, nesting and schema tag.
 
     Raises
     ------
-    DiskExplorerError
-        If the file cannot be read, is not JSON or not a session of a known schema.
+    SeedError
+        If the file cannot be read, is larger than 32 MiB, is not JSON, is nested
+        deeper than 32 levels, holds integers of more than 300 digits or non-finite
+        numbers (:mod:`~diskexplorer.fitting.json_limits`), or is not a session of a
+        known schema. The message names the file.
     """
     path = Path(path).expanduser()
-    try:
-        doc = json.loads(path.read_text(encoding="utf-8"))
-    except (OSError, UnicodeDecodeError, ValueError) as exc:
-        raise DiskExplorerError(f"session {path}: cannot read JSON ({exc})") from None
+    doc = read_json_document(path, "session file", where=f"session {path}")
     schema = doc.get("schema") if isinstance(doc, dict) else None
     if schema not in _READABLE:
-        raise DiskExplorerError(f"session {path}: schema {schema!r} is not one of {', '.join(map(repr, _READABLE))}")
+        raise SeedError(f"session {path}: schema {schema!r:.80} is not one of {', '.join(map(repr, _READABLE))}")
     return doc
 
 
-def decode_session(document, base_dir=None, where="session"):
+def decode_session(document, base_dir=None, where="session", check_path=None):
     """The contents of a session document (either layout).
+
+    The whole document is checked (size and nesting, then its layout against a JSON
+    Schema, then each scene against the starting-point schema) before any field is used.
 
     Parameters
     ----------
@@ -229,6 +296,9 @@ def decode_session(document, base_dir=None, where="session"):
         Folder that relative κ-table paths refer to (the session file's folder).
     where : str
         Names the document in messages (its path).
+    check_path : callable, optional
+        Given each κ table's absolute path before it is read (see
+        :func:`~diskexplorer.fitting.read_start`).
 
     Returns
     -------
@@ -238,38 +308,44 @@ def decode_session(document, base_dir=None, where="session"):
     ------
     SeedError
         A scene, pin, filter or setting that cannot be read; the message names the
-        document and the path of the bad entry.
+        document and the path of the bad entry (``"session s.json: filters.bands:
+        expected an array or null, got a number 5"``).
     """
+    check_json_tree(document, where)
+    if not isinstance(document, dict):
+        raise SeedError(f"{where}: a session is a JSON object")
+    validate_against(_session_layout(), document, where)
     base_dir = None if base_dir is None else os.fspath(base_dir)
     legacy = document.get("schema") == "diskexplorer-session/1"
 
     def scene_of(entry, at):
-        if not legacy:
-            # Names the bad entry and what was expected before anything is built.
+        # Names the bad entry and what was expected before anything is built.
+        if legacy:
+            validate_against(_legacy_scene_schema(), entry, f"{where}: {at}", top="")
+        else:
             validate_scene_entries(entry, f"{where}: {at}")
         try:
             if legacy:
                 return _legacy_scene(entry)
-            return scene_from_entries(entry, base_dir)[0]
-        except SeedError as exc:
+            return scene_from_entries(entry, base_dir, check_path=check_path)[0]
+        except DiskExplorerError as exc:   # also a κ table a confined explorer may not read
             raise SeedError(f"{where}: {at}: {exc}") from None
-        except (KeyError, TypeError, ValueError, AttributeError, IndexError, ParameterError, DustError) as exc:
+        except (KeyError, TypeError, ValueError, AttributeError, IndexError, OverflowError) as exc:
             raise SeedError(f"{where}: {at}: cannot be read ({type(exc).__name__}: {exc})") from None
 
-    scene = scene_of(document.get("scene"), "scene")
-    pins = tuple((str(p.get("name", f"pin {k + 1}")), scene_of(p.get("scene"), f"pins.{k}.scene"))
+    scene = scene_of(document["scene"], "scene")
+    pins = tuple((str(p.get("name", f"pin {k + 1}")), scene_of(p["scene"], f"pins.{k}.scene"))
                  for k, p in enumerate(document.get("pins") or []))
-    data = dict(document.get("data") or {})
+    data = document.get("data") or {}
     oifits = data.get("oifits") or []
     data = {"oifits": [oifits] if isinstance(oifits, str) else list(oifits),
             "photometry": data.get("photometry"), "spectrum": data.get("spectrum")}
     filters = document.get("filters") or {}
-    try:
-        lo, hi = filters.get("baseline_range_m") or (0.0, None)
-        baseline_range = (float(lo or 0.0), math.inf if hi is None else float(hi))
-    except (TypeError, ValueError):
-        raise SeedError(f"{where}: filters.baseline_range_m: {filters.get('baseline_range_m')!r}; "
-                        "expected [shortest, longest or null] in m") from None
+    lo, hi = filters.get("baseline_range_m") or (0.0, None)
+    baseline_range = (float(lo or 0.0), math.inf if hi is None else float(hi))
+    if not baseline_range[0] <= baseline_range[1]:
+        raise SeedError(f"{where}: filters.baseline_range_m: [{lo}, {hi}]: expected [shortest, longest or null] "
+                        "in m, shortest first")
     view = {k: v for k, v in (document.get("view") or {}).items() if k in VIEW_SETTINGS}
     return SessionContents(scene=scene, pins=pins, data=data,
                            bandpass_off=tuple(document.get("bandpass_off") or ()),

@@ -43,9 +43,10 @@ import os
 
 from ..errors import SeedError
 from .data_description import describe_data
+from .dust_codec import table_paths_from
 from .scene_codec import scene_entries
 from .paths import canonical_path
-from .start_schema import SCHEMA_ID
+from .start_schema import MAX_ACCURACY, SCHEMA_ID
 from .vector import FreeParameter
 
 __all__ = ["export_start", "write_start", "document_entry"]
@@ -95,7 +96,8 @@ def export_start(scene, free=(), bounds=None, priors=None, data=None, comparison
     comparison_result : ComparisonResult, optional
         Its χ² per data kind and total are recorded under ``"judgement"``.
     accuracy : int
-        Engine accuracy factor to use when the document is evaluated.
+        Engine accuracy factor to use when the document is evaluated (1 to
+        :data:`~diskexplorer.fitting.start_schema.MAX_ACCURACY`).
     title : str, optional
         Free text for the reader.
 
@@ -125,8 +127,8 @@ def export_start(scene, free=(), bounds=None, priors=None, data=None, comparison
     given_bounds.update({canonical_path(scene, k): v for k, v in (bounds or {}).items()})
     given_priors.update({canonical_path(scene, k): v for k, v in (priors or {}).items()})
     bounds, priors = given_bounds, given_priors
-    if not (isinstance(accuracy, int) and accuracy >= 1):
-        raise SeedError(f"settings.accuracy: {accuracy!r}; expected an integer ≥ 1")
+    if not (isinstance(accuracy, int) and 1 <= accuracy <= MAX_ACCURACY):
+        raise SeedError(f"settings.accuracy: {accuracy!r}; expected an integer from 1 to {MAX_ACCURACY}")
     doc_scene = scene_entries(scene, free, bounds, priors)
     doc = {"schema": SCHEMA_ID,
            "created": _dt.datetime.now(_dt.timezone.utc).replace(microsecond=0).isoformat().replace("+00:00", "Z"),
@@ -153,7 +155,10 @@ def write_start(path, doc, overwrite=False):
     ----------
     path : str or os.PathLike
     doc : dict
-        From :func:`export_start` (or a :class:`StartingPoint`'s ``document``).
+        From :func:`export_start` (or a :class:`StartingPoint`'s ``document``); not
+        modified. κ tables given by a relative path (relative to the current folder, where
+        they were read) are written relative to the document's folder, against which
+        :func:`~diskexplorer.fitting.read_start` resolves them; absolute paths stay.
     overwrite : bool
         Replace an existing file. Default False: an existing file is never touched.
 
@@ -170,6 +175,10 @@ def write_start(path, doc, overwrite=False):
         If the document holds non-finite numbers (JSON has no NaN or infinity).
     """
     path = os.fspath(path)
+    # Relative κ-table paths refer to the current folder in memory and to the
+    # document's folder in the file.
+    if "scene" in doc:
+        doc = {**doc, "scene": table_paths_from(doc["scene"], os.path.dirname(os.path.abspath(path)))}
     try:
         text = json.dumps(doc, indent=2, ensure_ascii=False, allow_nan=False)
     except ValueError as exc:

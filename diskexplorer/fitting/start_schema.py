@@ -17,9 +17,10 @@ from ..physics.parameters import parameter_specs
 from ..physics.ring import INNER_EDGES, TEMPERATURE_MODES, Ring
 from ..physics.star import Star
 from .paths import SCENE_GROUPS
+from .dust_codec import SPECIES_KINDS
 from .priors import PRIOR_KINDS
 
-__all__ = ["SCHEMA_ID", "SCHEMA_VERSION", "SCHEMA_FILE", "build_schema", "load_schema"]
+__all__ = ["SCHEMA_ID", "SCHEMA_VERSION", "SCHEMA_FILE", "MAX_ACCURACY", "build_schema", "load_schema"]
 
 #: Version of the document layout this code writes and reads.
 SCHEMA_VERSION = 1
@@ -27,6 +28,8 @@ SCHEMA_VERSION = 1
 SCHEMA_ID = f"diskexplorer.start/{SCHEMA_VERSION}"
 #: File name of the shipped schema (package data of :mod:`diskexplorer.fitting`).
 SCHEMA_FILE = "start_schema.json"
+#: Largest engine accuracy factor a document may ask for (radial nodes and frequency grid grow with it).
+MAX_ACCURACY = 16
 
 
 def _ref(name):
@@ -121,6 +124,37 @@ def build_schema():
             "description": "null: optically thick; else a mixture, a power law or a κ table "
                            "(wavelength µm, κ cm2/g)",
         },
+        "optical_constants": _object(
+            {"name": {"type": "string"}, "source": {"type": "string"},
+             "wavelength": {"type": "array", "items": number, "minItems": 2},
+             "n": {"type": "array", "items": number, "minItems": 2},
+             "k": {"type": "array", "items": number, "minItems": 2},
+             "notes": strings},
+            required=["wavelength", "n", "k"],
+            description="Complex refractive index n + ik (k >= 0) against wavelength in um"),
+        "species": {
+            "type": "object",
+            "properties": {"kind": {"enum": list(SPECIES_KINDS)}},
+            "required": ["kind"],
+            "allOf": [
+                {"if": {"properties": {"kind": {"const": "kappa_table"}}},
+                 "then": _object({"kind": {"const": "kappa_table"},
+                                  "wavelength": {"type": "array", "items": number, "minItems": 2},
+                                  "kappa": {"type": "array", "items": number, "minItems": 2},
+                                  "source": {"type": "string"}, "description": {"type": "string"}},
+                                 required=["kind", "wavelength", "kappa"])},
+                {"if": {"properties": {"kind": {"const": "optical_constants"}}},
+                 "then": _object({"kind": {"const": "optical_constants"}, "density": _ref("quantity"),
+                                  "f_max": number,
+                                  "constants": {"type": "array", "items": _ref("optical_constants"),
+                                                "minItems": 1},
+                                  "source": {"type": "string"}, "description": {"type": "string"}},
+                                 required=["kind", "density", "constants"])},
+            ],
+            "description": "A species registered by the user (not built in): a fixed κ table (wavelength um, "
+                           "κ cm2/g) or optical constants (one set per crystal axis, averaged) with the "
+                           "bulk density; mixtures name it like a built-in species",
+        },
         "photosphere": _object(
             {"wavelength": {"type": "array", "items": number, "minItems": 2},
              "flux": {"type": "array", "items": number, "minItems": 2},
@@ -176,6 +210,10 @@ def build_schema():
         scene_props[group] = _object(props)
     scene_props["star"] = _nullable(_ref("star"))
     scene_props["rings"] = {"type": "array", "items": _ref("ring")}
+    required = sorted(scene_props)
+    scene_props["species"] = {"type": "object", "additionalProperties": _ref("species"),
+                              "description": "species registered by the user that the rings' mixtures use, "
+                                             "by name (absent: built-in species only)"}
     return {
         "$schema": "https://json-schema.org/draft/2020-12/schema",
         "$id": "https://diskexplorer.invalid/schemas/start-1.json",
@@ -189,8 +227,9 @@ def build_schema():
             "created": {"type": "string"},
             "software": {"type": "string"},
             "title": {"type": "string"},
-            "scene": _object(scene_props),
-            "settings": _object({"accuracy": {"type": "integer", "minimum": 1}}, required=[]),
+            "scene": _object(scene_props, required=required),
+            "settings": _object({"accuracy": {"type": "integer", "minimum": 1, "maximum": MAX_ACCURACY}},
+                                required=[]),
             "data": _ref("data"),
             "judgement": _nullable(_ref("judgement")),
         },

@@ -117,7 +117,7 @@ def test_a_session_of_the_first_layout_still_reads(tmp_path):
 
 
 @pytest.mark.parametrize("text, fragment", [
-    ("{not json", "cannot read JSON"),
+    ("{not json", "line 1, column 2: not valid JSON"),
     (json.dumps({"schema": "diskexplorer.start/1"}), "schema 'diskexplorer.start/1' is not one of"),
     (json.dumps([1, 2]), "schema None"),
 ])

@@ -9,14 +9,16 @@ import socket
 import subprocess
 import sys
 import time
+import urllib.parse
 import urllib.request
 
 import psutil
 import pytest
-from _processes import alive, free_port, port_open, stop_tree
+from _processes import alive, free_port, port_open, served_address, stop_tree
 
 from diskexplorer.cli import main
-from diskexplorer.app.serving.server import DATA_VARIABLE, POOL_SIZE, WORKDIR_VARIABLE, DemoServer, check_port
+from diskexplorer.app.serving.server import (DATA_VARIABLE, POOL_SIZE, TOKEN_VARIABLE, WORKDIR_VARIABLE, DemoServer,
+                                             check_port)
 from diskexplorer.errors import DiskExplorerError
 
 pytestmark = pytest.mark.slow
@@ -128,9 +130,9 @@ def test_a_signal_stops_voila_and_every_kernel(tmp_path, signum):
     proc = subprocess.Popen([sys.executable, "-m", "diskexplorer.cli", "demo", "--port", str(port)],
                             cwd=str(tmp_path), stdout=subprocess.PIPE, stderr=subprocess.STDOUT, text=True)
     try:
-        assert _wait(lambda: port_open(port) or proc.poll() is not None, timeout=90)
-        assert proc.poll() is None, proc.stdout.read()
-        with urllib.request.urlopen(f"http://127.0.0.1:{port}/", timeout=120) as response:
+        url, printed = served_address(proc)
+        assert url.startswith(f"http://127.0.0.1:{port}/?token=") and proc.poll() is None
+        with urllib.request.urlopen(url, timeout=120) as response:
             assert response.status == 200
         family = psutil.Process(proc.pid).children(recursive=True)
         assert any("voila" in " ".join(p.cmdline()) for p in family)
@@ -147,7 +149,83 @@ def test_a_signal_stops_voila_and_every_kernel(tmp_path, signum):
         assert _wait(lambda: not alive(family), timeout=10), [p.cmdline() for p in alive(family)]
         assert not port_open(port)
         assert proc.returncode == 0
-        out = proc.stdout.read()
-        assert f"http://127.0.0.1:{port}/" in out and str(tmp_path) in out and "Traceback" not in out
+        out = "".join(printed) + proc.stdout.read()
+        assert url in out and str(tmp_path) in out and "Traceback" not in out
     finally:
         stop_tree(proc)
+
+
+def _status(url):
+    """HTTP status and Location of a GET, redirects not followed."""
+    import http.client
+    from urllib.parse import urlsplit
+
+    parts = urlsplit(url)
+    conn = http.client.HTTPConnection(parts.hostname, parts.port, timeout=60)
+    try:
+        conn.request("GET", parts.path + (f"?{parts.query}" if parts.query else ""))
+        response = conn.getresponse()
+        response.read()
+        return response.status, response.getheader("Location") or ""
+    finally:
+        conn.close()
+
+
+def test_the_token_is_random_and_never_on_the_command_line(tmp_path):
+    server = DemoServer(port=free_port(), workdir=tmp_path)
+    assert len(server.token) >= 32 and server.token != DemoServer(port=free_port()).token
+    assert server.url == f"{server.base_url}?token={server.token}"
+    # Every user of the host can read a process's command line (ps), not its environment.
+    assert not any(server.token in arg for arg in server.command())
+    assert "--Voila.auto_token=True" in server.command()
+    assert server.environment()[TOKEN_VARIABLE] == server.token
+    open_server = DemoServer(port=free_port(), workdir=tmp_path, token="")
+    assert open_server.url == open_server.base_url and TOKEN_VARIABLE not in open_server.environment()
+    assert not any("token" in arg for arg in open_server.command())
+
+
+def test_a_page_without_the_token_is_refused(tmp_path):
+    (tmp_path / "private.txt").write_text("not for other users\n")
+    server = DemoServer(port=free_port(), workdir=tmp_path, pool_size=0)
+    server.start()
+    try:
+        base = server.base_url.rstrip("/")
+        for path in ("/", "/?token=wrong", "/voila/render/explorer.ipynb", "/api/kernels", "/api/contents",
+                     "/voila/files/private.txt", "/files/private.txt"):
+            status, location = _status(base + path)
+            assert status in (302, 403, 404), (path, status)
+            if status == 302:
+                assert urllib.parse.urlsplit(location).path.endswith("/login"), (path, location)
+        with urllib.request.urlopen(server.url, timeout=180) as response:
+            body = response.read().decode("utf-8", "replace")
+        assert response.status == 200 and "Traceback" not in body
+    finally:
+        server.stop()
+
+
+@pytest.mark.browser
+def test_a_served_page_draws_with_the_token_and_reads_only_its_folders(tmp_path):
+    from _browser import open_app, require_browser
+
+    require_browser()
+    work = tmp_path / "work"
+    work.mkdir()
+    outside = tmp_path / "outside.txt"
+    outside.write_text("SECRET-FIRST-LINE 0:0:private\n")
+    server = DemoServer(port=free_port(), workdir=work)
+    server.start()
+    try:
+        # The page's later requests (kernel websockets) pass by the cookie voila sets.
+        with open_app(server.url) as page:
+            page.locator(".lm-TabBar-tab", has_text="data").first.click()
+            page.wait_for_selector(".dx-path input", state="visible", timeout=30_000)
+            for typed in (str(outside), "../outside.txt"):
+                page.fill(".dx-path input", typed)
+                page.locator("button.dx-load-data").click()
+                page.wait_for_function(
+                    "(want) => (document.querySelector('.dx-message') || {}).textContent?.includes(want)",
+                    arg=f"{typed}: outside the folders this demo may read", timeout=30_000)
+                message = page.evaluate("() => document.querySelector('.dx-message').textContent")
+                assert "SECRET" not in message and "private" not in message
+    finally:
+        server.stop()

@@ -18,7 +18,7 @@ from pathlib import Path
 import psutil
 import pytest
 from _browser import ARGS, CHROMIUM, require_browser
-from _processes import alive, free_port, port_open, stop_tree
+from _processes import alive, free_port, port_open, served_address, stop_tree
 
 pytestmark = [pytest.mark.slow]
 
@@ -95,16 +95,14 @@ def test_served_demo_saves_into_the_folder_and_stops_on_sigterm(installed):
     proc = subprocess.Popen([str(bin_dir / "diskexplorer"), "demo", "--port", str(port)], cwd=str(folder),
                             env=_clean_env(), stdout=subprocess.PIPE, stderr=subprocess.STDOUT, text=True)
     try:
-        end = time.monotonic() + 90
-        while not port_open(port) and proc.poll() is None and time.monotonic() < end:
-            time.sleep(0.2)
-        assert proc.poll() is None and port_open(port), proc.stdout.read() if proc.poll() is not None else ""
+        url, _ = served_address(proc)   # with its token: the page is refused without it
+        assert proc.poll() is None and port_open(port)
         target = folder / "diskexplorer-start.json"
         with sync_playwright() as p:
             browser = p.chromium.launch(executable_path=CHROMIUM, headless=True, args=ARGS)
             try:
                 page = browser.new_page(viewport={"width": 1500, "height": 1100})
-                page.goto(f"http://127.0.0.1:{port}/", timeout=120_000)
+                page.goto(url, timeout=120_000)
                 page.wait_for_selector(".dx-fig-vis2 svg path.line", timeout=120_000)
                 page.get_by_text("starting point", exact=True).first.click()
                 page.locator(".dx-start-save").first.click()

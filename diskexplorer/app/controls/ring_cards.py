@@ -151,6 +151,10 @@ class MixtureEditor(w.VBox):
                 for key, f in dust.fractions:
                     name = key if isinstance(key, str) else key[0]
                     fr[name] = fr.get(name, 0.0) + f
+                # A species this editor does not list yet (registered by an imported
+                # starting point or a restored session): offered before it is shown.
+                for name in fr:
+                    self.add_species(name)
                 for sp, c in self.fraction_controls.items():
                     c.set_value(fr.get(sp, 0.0))
                 if dust.grain_size in [v for _, v in self.size.options]:

@@ -19,7 +19,7 @@ from ...data.targets import choose_target, target_points
 from ...errors import DiskExplorerError
 from ..state.echo_guard import EchoGuard
 from ..palette import MUTED, WARNING
-from ..state.workdir import resolve_user_path, state_folder
+from ..state.workdir import readable_path
 
 __all__ = ["DataPage", "DataSetRow", "KINDS"]
 
@@ -103,8 +103,8 @@ class SpeciesForm(w.VBox):
 
         name = self.name.value.strip()
         typed = self.path.value.strip()
-        path = str(resolve_user_path(typed, state_folder(self.state))) if typed else ""
         try:
+            path = str(readable_path(self.state, typed)) if typed else ""
             if not name or not path:
                 raise DiskExplorerError("give a species name and a file")
             if self.source_kind.value == "nk":
@@ -187,7 +187,8 @@ class DataPage(w.VBox):
             p = folder / Path(str(f["name"])).name
             p.write_bytes(bytes(f["content"]))
             paths.append(p)
-        return self.state.load_files(paths, self.kind.value, add=True, lenient=self.lenient.value)
+        # Files this page wrote itself: read as given, also by a served (confined) page.
+        return self.state.load_files(paths, self.kind.value, add=True, lenient=self.lenient.value, uploaded=True)
 
     def remove(self, data_set):
         """Remove ``data_set`` (a DataSet held by the state, or its index)."""

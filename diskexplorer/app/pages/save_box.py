@@ -1,8 +1,9 @@
 """The path box that saves a document, asking before an existing file is replaced.
 
 Shared by every page that writes a file (the starting point, the session): one flow for
-resolving the typed name in the working folder, refusing targets outside it or inside the
-package, asking before an overwrite, and saying where the file went or why it did not.
+resolving the typed name in the working folder, refusing targets inside the package (and,
+in a served page, outside the working folder), asking before an overwrite, and saying
+where the file went or why it did not.
 """
 from __future__ import annotations
 
@@ -11,7 +12,7 @@ import html
 import ipywidgets as w
 
 from ...errors import DiskExplorerError
-from ..state.workdir import resolve_user_path, state_folder, writable_user_path
+from ..state.workdir import readable_path, writable_path
 
 __all__ = ["SaveBox", "OverwriteGuard"]
 
@@ -87,8 +88,14 @@ class SaveBox(w.VBox):
         super().__init__([w.HBox([self.path, self.save_button, *actions]), self.confirm])
 
     def target(self):
-        """The typed name resolved in the working folder (for reading: import, restore)."""
-        return resolve_user_path(self.path.value, state_folder(self.state))
+        """The typed name resolved in the working folder (for reading: import, restore).
+
+        Raises
+        ------
+        DiskExplorerError
+            A confined explorer's path outside its folders.
+        """
+        return readable_path(self.state, self.path.value)
 
     def save(self, overwrite=False):
         """Write the document; an existing file is replaced only with ``overwrite``.
@@ -100,7 +107,7 @@ class SaveBox(w.VBox):
             and nothing is written.
         """
         try:
-            target = writable_user_path(self.path.value, state_folder(self.state))
+            target = writable_path(self.state, self.path.value)
             text = self._write(target, overwrite)
         except FileExistsError:
             self.confirm.ask(str(target))

@@ -5,6 +5,7 @@ import ipywidgets as w
 
 from ...errors import DiskExplorerError
 from ..state.sessions import decode_session, read_session, session_of_state, write_session
+from ..state.workdir import path_checker
 from .save_box import SaveBox
 
 __all__ = ["SessionBox"]
@@ -39,13 +40,17 @@ class SessionBox(w.VBox):
         return f"session saved to {written}"
 
     def restore(self):
-        """Read the session file and apply it; a file that cannot be read changes nothing."""
-        source = self.save_box.target()
+        """Read the session file and apply it; a session that cannot be taken changes nothing."""
         try:
-            contents = decode_session(read_session(source), base_dir=source.parent, where=f"session {source}")
+            source = self.save_box.target()
+            contents = decode_session(read_session(source), base_dir=source.parent, where=f"session {source}",
+                                      check_path=path_checker(self.state))
         except DiskExplorerError as exc:
             self.state.show_message(f"session not restored: {exc}")
             return False
-        problems = self.state.restore_session(contents)
+        try:
+            problems = self.state.restore_session(contents, source=source)
+        except DiskExplorerError:
+            return False   # the state is unchanged and its message says why
         self.state.show_message(f"session restored from {source}" + "".join(f"; {p}" for p in problems))
         return True

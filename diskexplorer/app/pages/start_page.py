@@ -29,6 +29,7 @@ from ..palette import ACCENT, INK, MUTED, OKABE_ITO
 from .job_buttons import JobButtons, comparison_to_judge
 from .save_box import SaveBox
 from ..state.fit_setup import clean_fit_setup, describe_state_data, doc_free
+from ..state.workdir import path_checker
 
 __all__ = ["StartPage", "WEIGHT_KINDS"]
 
@@ -388,14 +389,17 @@ class StartPage(w.VBox):
         """
         from ...fitting.start_import import read_start
 
-        if source is None:
-            source = str(self.save_box.target())
         try:
-            start = read_start(source)
+            if source is None:
+                source = str(self.save_box.target())
+            start = read_start(source, check_path=path_checker(self.state))
         except (DiskExplorerError, OSError, ValueError, KeyError, TypeError) as exc:
             self.state.show_message(f"starting point not imported: {exc}")
             return False
-        self.state.apply_start(start)
+        try:
+            self.state.apply_start(start)
+        except DiskExplorerError:
+            return False   # the state is unchanged and its message says why
         where = source if isinstance(source, str) else "the document"
         extra = "" if start.data.empty else "; the data it names are not loaded (use the data tab)"
         self.state.show_message(f"starting point imported from {where}: {len(start.free)} free parameters{extra}")

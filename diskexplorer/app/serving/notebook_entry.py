@@ -2,8 +2,9 @@
 
 The served notebook's kernel runs in the package's folder, so the command line hands over
 the user's folder and data files through the environment (names in
-:mod:`diskexplorer.app.serving.server`); outside a served demo these are unset and :func:`explore_served`
-is plain :func:`~diskexplorer.app.explore`.
+:mod:`diskexplorer.app.serving.server`). A served explorer is *confined*
+(:mod:`~diskexplorer.app.state.workdir`): typed paths may lead only into the working folder
+and the ``--data`` files and folders, and saves only into the working folder.
 """
 from __future__ import annotations
 
@@ -25,7 +26,7 @@ def served_settings(environ=None):
 
 
 def explore_served(environ=None, **kwargs):
-    """Open the explorer with the folder and data the command line named.
+    """Open the explorer with the folder and data the command line named, confined to them.
 
     Parameters
     ----------
@@ -36,12 +37,16 @@ def explore_served(environ=None, **kwargs):
     """
     workdir, data = served_settings(environ)
     if data is None:
-        return explore(workdir=workdir, **kwargs)
-    try:
-        return explore(data=data if len(data) > 1 else data[0], workdir=workdir, **kwargs)
-    except DiskExplorerError as exc:
-        # A served page cannot show a traceback usefully: open without the data and say why
-        # in the app's notice, so the user can fix the file and load it from the data tab.
-        app = explore(data=[], workdir=workdir, **kwargs)
-        app.state.show_message(f"not loaded: {exc}")
-        return app
+        app = explore(workdir=workdir, **kwargs)
+    else:
+        try:
+            app = explore(data=data if len(data) > 1 else data[0], workdir=workdir, **kwargs)
+        except DiskExplorerError as exc:
+            # A served page cannot show a traceback usefully: open without the data and say why
+            # in the app's notice, so the user can fix the file and load it from the data tab.
+            app = explore(data=[], workdir=workdir, **kwargs)
+            app.state.show_message(f"not loaded: {exc}")
+    # Whoever opens the page reads and writes as the demo's owner: only the working folder
+    # and the --data files and folders.
+    app.state.confine(readable=data or ())
+    return app

@@ -9,11 +9,20 @@ voila keeps one kernel *preheated*: it has run the app notebook before anyone as
 page (imports, the sample data, the first evaluation, the widgets), so a page opens without
 waiting for them; the next one is started a few seconds after a page takes it.
 
+The demo is private: it listens on 127.0.0.1 only, and every other user of the host can
+reach 127.0.0.1 too, so voila asks for a random token (:func:`new_token`), handed to it in
+its environment (``JUPYTER_TOKEN``: another user can read a process's command line, not its
+environment), and the address printed carries it. A page opened without it is sent to
+voila's login page; with it, voila sets a cookie for the page's later requests. The page's
+explorer is confined to the working folder and the ``--data`` files and folders
+(:mod:`diskexplorer.app.state.workdir`).
+
 Everything here is plain subprocess and socket work; no widget library is imported.
 """
 from __future__ import annotations
 
 import os
+import secrets
 import signal
 import socket
 import subprocess
@@ -23,8 +32,9 @@ from pathlib import Path
 
 from ...errors import DiskExplorerError
 
-__all__ = ["DemoServer", "check_port", "voila_options", "APP_NOTEBOOK", "DEFAULT_IDLE_TIMEOUT_S",
-           "WORKDIR_VARIABLE", "DATA_VARIABLE", "POOL_SIZE", "POOL_FILL_DELAY_S", "KERNEL_ENVIRONMENT"]
+__all__ = ["DemoServer", "check_port", "voila_options", "new_token", "APP_NOTEBOOK", "DEFAULT_IDLE_TIMEOUT_S",
+           "WORKDIR_VARIABLE", "DATA_VARIABLE", "TOKEN_VARIABLE", "POOL_SIZE", "POOL_FILL_DELAY_S",
+           "KERNEL_ENVIRONMENT"]
 
 #: The app notebook voila serves (package data).
 APP_NOTEBOOK = Path(__file__).resolve().parent / "explorer.ipynb"
@@ -34,6 +44,9 @@ DEFAULT_IDLE_TIMEOUT_S = 30
 #: and data (read by :func:`diskexplorer.app.explore_served`).
 WORKDIR_VARIABLE = "DISKEXPLORER_WORKDIR"
 DATA_VARIABLE = "DISKEXPLORER_DATA"
+#: Environment variable from which jupyter_server (under voila) reads the token
+#: (with ``--Voila.auto_token=True``).
+TOKEN_VARIABLE = "JUPYTER_TOKEN"
 #: Preheated kernels voila keeps ready (each has run the app notebook; about 250 MB each).
 POOL_SIZE = 1
 #: Seconds after a page takes a preheated kernel before voila starts the next one: the
@@ -70,6 +83,11 @@ def voila_options(pool_size=POOL_SIZE, fill_delay=POOL_FILL_DELAY_S):
         return []
     return ["--preheat_kernel=True", f"--pool_size={int(pool_size)}",
             f"--VoilaKernelManager.fill_delay={float(fill_delay):g}"]
+
+
+def new_token():
+    """A random token for the served demo: 32 bytes from :mod:`secrets`, URL-safe text."""
+    return secrets.token_urlsafe(32)
 
 
 def check_port(port, host="127.0.0.1"):
@@ -125,6 +143,10 @@ class DemoServer:
         voila's log level (``WARN`` keeps the terminal quiet).
     pool_size : int
         Preheated kernels kept ready (:func:`voila_options`; 0 switches preheating off).
+    token : str or None
+        The token a page must bring (``?token=...`` once; voila then sets a cookie).
+        Default None: a new random one (:func:`new_token`). ``""`` serves without a
+        token: every local user of the host can then open the page.
 
     Notes
     -----
@@ -133,7 +155,7 @@ class DemoServer:
     """
 
     def __init__(self, port=8866, workdir=None, data=None, idle_timeout=DEFAULT_IDLE_TIMEOUT_S,
-                 log_level="WARN", pool_size=POOL_SIZE):
+                 log_level="WARN", pool_size=POOL_SIZE, token=None):
         check_port(port)
         if not APP_NOTEBOOK.exists():
             raise DiskExplorerError(f"the app notebook {APP_NOTEBOOK} is missing from the installation")
@@ -150,12 +172,18 @@ class DemoServer:
         self.idle_timeout = idle_timeout
         self.log_level = log_level
         self.pool_size = pool_size
+        self.token = new_token() if token is None else str(token)
         self.process = None
 
     @property
-    def url(self):
-        """The page's address."""
+    def base_url(self):
+        """The page's address without the token."""
         return f"http://127.0.0.1:{self.port}/"
+
+    @property
+    def url(self):
+        """The page's address, with the token when there is one."""
+        return self.base_url + (f"?token={self.token}" if self.token else "")
 
     def command(self):
         """The voila command line (a list)."""
@@ -167,7 +195,13 @@ class DemoServer:
                 f"--Voila.log_level={self.log_level}",
                 f"--MappingKernelManager.cull_idle_timeout={self.idle_timeout}",
                 f"--MappingKernelManager.cull_interval={interval}",
-                "--MappingKernelManager.cull_connected=False"] + voila_options(self.pool_size)
+                "--MappingKernelManager.cull_connected=False"] + self._token_options() + voila_options(self.pool_size)
+
+    def _token_options(self):
+        # The token travels in the environment (TOKEN_VARIABLE), never on the command
+        # line, which every user of the host can read (ps); auto_token makes
+        # jupyter_server read it there. Without it voila serves with no authentication.
+        return ["--Voila.auto_token=True"] if self.token else []
 
     def environment(self):
         """The environment of voila and its kernels."""
@@ -179,6 +213,10 @@ class DemoServer:
             env.pop(DATA_VARIABLE, None)
         for key, value in KERNEL_ENVIRONMENT.items():
             env.setdefault(key, value)
+        if self.token:
+            env[TOKEN_VARIABLE] = self.token
+        else:
+            env.pop(TOKEN_VARIABLE, None)
         return env
 
     def start(self, timeout=60.0):
@@ -263,6 +301,9 @@ class DemoServer:
         try:
             self.start()
             say(f"diskexplorer: serving the explorer at {self.url}  (Ctrl-C to stop)")
+            if not self.token:
+                say("diskexplorer: without a token: every user of this host can open the page and read and "
+                    "write files in its folders as you")
             say(f"diskexplorer: files you save from the app go to {self.workdir}")
             code = self.wait()
         except KeyboardInterrupt:

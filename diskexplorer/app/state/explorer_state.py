@@ -6,17 +6,18 @@ figures read from here; the explorer's one observer turns changes into recomputa
 from __future__ import annotations
 
 import dataclasses
+import math
 
 import traitlets as t
 
-from ...errors import DiskExplorerError
+from ...errors import DataError, DiskExplorerError
 from ...observables.scene import Scene
 from ...physics.ring import Ring
 from ...physics.star import Star
-from .data_sets import SINGLE_KINDS, combine_data_sets, describe_loaded, read_data_sets
+from .data_sets import SINGLE_KINDS, bandpass_choice, combine_data_sets, describe_loaded, read_data_sets
 from .fit_setup import clean_fit_setup
 from .sessions import VIEW_SETTINGS
-from .workdir import resolve_user_path, state_folder
+from .workdir import readable_path
 
 __all__ = ["ExplorerState", "TIERS", "tiers_for", "MAX_PINS"]
 
@@ -26,7 +27,7 @@ MAX_PINS = 4
 #: Which recomputation each state name asks for, cheapest first. ``style`` touches only
 #: scales; ``none`` recomputes nothing (messages).
 TIERS = {
-    "message": "none", "workdir": "none",
+    "message": "none", "workdir": "none", "confined": "none", "read_folders": "none",
     # The list of data sets and the paths are bookkeeping: the combined observations,
     # photometry and spectrum they set alongside are what asks for the data tier.
     "data_sets": "none", "data_sources": "none",
@@ -77,6 +78,11 @@ class ExplorerState(t.HasTraits):
     workdir : str
         The folder relative paths typed into the explorer refer to
         (:mod:`~diskexplorer.app.state.workdir`); set once, when the explorer is made.
+    confined : bool
+        Whether typed paths may only lead into ``workdir`` and ``read_folders``, and saves
+        only into ``workdir`` (a served page; set once by :meth:`confine`).
+    read_folders : tuple of str
+        Files and folders a confined explorer may read besides ``workdir`` (the demo's ``--data``).
     data_sets : tuple of DataSet
         The loaded data, one entry per file (:mod:`~diskexplorer.app.state.data_sets`); change it
         with :meth:`set_data_sets`, :meth:`add_data_sets` and :meth:`remove_data_set`, which
@@ -119,6 +125,8 @@ class ExplorerState(t.HasTraits):
 
     scene = t.Instance(Scene)
     workdir = t.Unicode("")
+    confined = t.Bool(False)
+    read_folders = t.Tuple()
     data_sets = t.Tuple()
     observations = Held(None)
     photometry = Held(None)
@@ -221,6 +229,12 @@ class ExplorerState(t.HasTraits):
         ----------
         start : StartingPoint
             As :func:`~diskexplorer.fitting.read_start` returns it.
+
+        Raises
+        ------
+        DiskExplorerError
+            The scene cannot be computed against the loaded data; the state is then
+            unchanged and the message says why.
         """
         setup = clean_fit_setup(self.fit_setup)
         setup.update(free=list(start.paths),
@@ -228,9 +242,13 @@ class ExplorerState(t.HasTraits):
                      priors={p: f.prior.as_dict() for p, f in start.parameters.items()})
         if start.data.weights:
             setup["weights"] = {k: v for k, v in start.data.weights.items() if v != 1.0}
-        with self.hold_trait_notifications():
-            self.scene = start.scene
-            self.fit_setup = clean_fit_setup(setup)
+        values = {"scene": start.scene, "fit_setup": clean_fit_setup(setup)}
+        try:
+            self._check_computable(values)
+        except DiskExplorerError as exc:
+            self.show_message(f"starting point not imported: {exc}")
+            raise
+        self._commit(values)
 
     # ------------------------------------------------------------------ settings
     def set_view(self, **settings):
@@ -290,39 +308,129 @@ class ExplorerState(t.HasTraits):
         """Remove pin ``index``."""
         self.pins = [p for k, p in enumerate(self.pins) if k != index]
 
+    # ------------------------------------------------------------------ transactions
+    # A change that touches several traits builds every new value first, checks that the
+    # result can be computed, and only then assigns them all at once (_commit): a refusal
+    # leaves the state exactly as it was.
+    def _commit(self, values):
+        """Assign trait values at once, each validated first (a refused value assigns nothing)."""
+        traits = self.traits()
+        checked = {name: traits[name]._validate(self, value) for name, value in values.items()}
+        with self.hold_trait_notifications():
+            for name, value in checked.items():
+                setattr(self, name, value)
+
+    def _data_values(self, data_sets):
+        """The trait values that holding ``data_sets`` sets (nothing assigned), and combining's warnings."""
+        data_sets = tuple(data_sets)
+        combined = combine_data_sets(data_sets)
+        obs = combined["observations"]
+        present_bands, present_instruments = _bands_and_instruments(obs)
+        return {"data_sets": data_sets, "data_sources": combined["data_sources"], "observations": obs,
+                "photometry": combined["photometry"], "spectrum": combined["spectrum"],
+                # A filter value whose data are gone would hide everything that is left.
+                "band_filter": tuple(b for b in self.band_filter if b in present_bands),
+                "instrument_filter": tuple(i for i in self.instrument_filter if i in present_instruments)
+                }, combined["warnings"]
+
+    def _check_computable(self, values):
+        """Raise DiskExplorerError unless the state with ``values`` can be computed.
+
+        Builds what the explorer's recompute builds for it (the filtered data and their
+        comparison, and one frame of the scene: χ², SED, spectrum, V² curve) and refuses a
+        χ² that is not finite.
+        """
+        from .data_view import data_view
+        from .frames import make_frame
+
+        def get(name):
+            return values[name] if name in values else getattr(self, name)
+
+        try:
+            view = data_view(get("observations"), get("photometry"), get("spectrum"), bands=get("band_filter"),
+                           instruments=get("instrument_filter"), baseline_range=get("baseline_range"),
+                           bandpass=bandpass_choice(get("data_sets")), target=get("target"))
+            frame = make_frame(get("scene"), view, get("curve_position_angle"))
+        except DiskExplorerError as exc:
+            raise DiskExplorerError(f"cannot be computed: {exc}") from None
+        except Exception as exc:  # noqa: BLE001 - whatever the data break, the state must not take them
+            raise DiskExplorerError(f"cannot be computed: {type(exc).__name__}: {exc}") from None
+        result = frame.result
+        if result is not None and not math.isfinite(result.total):
+            bad = [k for k, v in result.chi2.items() if not math.isfinite(v)]
+            raise DataError(f"cannot be computed: the χ² of {', '.join(bad) or 'the data'} is not finite "
+                            "(values or errors out of range)")
+
+    def _check_new_data(self, held, new):
+        """Check that ``held`` (the data sets after a change) can be computed; name the culprits of ``new``.
+
+        Returns
+        -------
+        (dict, list of str)
+            The trait values of holding ``held`` and the warnings of combining
+            (:meth:`_data_values`), to be committed.
+
+        Raises
+        ------
+        DiskExplorerError
+            ``"<file>: cannot be computed: ..."``, naming the new data set that fails with
+            the data kept, or all new ones if none fails alone.
+        """
+        names = ", ".join(d.source or d.label for d in new) or "the data"
+        try:
+            values, warnings = self._data_values(held)
+        except DiskExplorerError as exc:
+            raise DataError(f"{names}: cannot be combined with the data held: {exc}") from None
+        except Exception as exc:  # noqa: BLE001 - e.g. numpy on tables that do not fit together
+            raise DataError(f"{names}: cannot be combined with the data held: {type(exc).__name__}: {exc}") from None
+        try:
+            self._check_computable(values)
+            return values, warnings
+        except DiskExplorerError as exc:
+            failure = str(exc)
+        new_ids = {id(d) for d in new}
+        kept = [d for d in held if id(d) not in new_ids]
+        for d in new:
+            try:
+                self._check_computable(self._data_values(kept + [d])[0])
+            except DiskExplorerError as exc:
+                raise DataError(f"{d.source or d.label}: {exc}") from None
+            except Exception as exc:  # noqa: BLE001 - as above
+                raise DataError(f"{d.source or d.label}: cannot be combined with the data held: "
+                                f"{type(exc).__name__}: {exc}") from None
+        raise DataError(f"{names}: {failure}")
+
     # ------------------------------------------------------------------ data
-    def set_data_sets(self, data_sets):
+    def set_data_sets(self, data_sets, check=False):
         """Hold exactly ``data_sets`` (a sequence of :class:`~diskexplorer.app.state.data_sets.DataSet`).
+
+        Parameters
+        ----------
+        data_sets : sequence of DataSet
+        check : bool
+            First check that the explorer can compute with them (as :meth:`load_files`
+            does); the explorer checks the data it opens with.
 
         Returns
         -------
         list of str
             Warnings of combining them (e.g. an array of one name with other stations, kept apart).
-        """
-        data_sets = tuple(data_sets)
-        combined = combine_data_sets(data_sets)
-        obs = combined["observations"]
-        present_bands, present_instruments = _bands_and_instruments(obs)
-        with self.hold_trait_notifications():
-            self.data_sets = data_sets
-            self.data_sources = combined["data_sources"]
-            self.observations = obs
-            self.photometry = combined["photometry"]
-            self.spectrum = combined["spectrum"]
-            # A filter value whose data are gone would hide everything that is left.
-            self.band_filter = tuple(b for b in self.band_filter if b in present_bands)
-            self.instrument_filter = tuple(i for i in self.instrument_filter if i in present_instruments)
-        return combined["warnings"]
 
-    def add_data_sets(self, data_sets):
-        """Add data sets; one of a file already loaded, or a second photometry table or
-        spectrum, takes the place of the one it replaces.
-
-        Returns
-        -------
-        (list of DataSet, list of str)
-            The data sets replaced, and the warnings of combining.
+        Raises
+        ------
+        DataError
+            With ``check``: a data set the explorer cannot compute with, by name; the state
+            is then unchanged.
         """
+        if check:
+            values, warnings = self._check_new_data(list(data_sets), list(data_sets))
+        else:
+            values, warnings = self._data_values(data_sets)
+        self._commit(values)
+        return warnings
+
+    def _after_adding(self, data_sets):
+        """``(held, replaced)``: the data sets after adding ``data_sets`` (see :meth:`add_data_sets`)."""
         held = list(self.data_sets)
         replaced = []
         for new in data_sets:
@@ -333,6 +441,18 @@ class ExplorerState(t.HasTraits):
             else:
                 replaced.append(held[at])
                 held[at] = new
+        return held, replaced
+
+    def add_data_sets(self, data_sets):
+        """Add data sets; one of a file already loaded, or a second photometry table or
+        spectrum, takes the place of the one it replaces.
+
+        Returns
+        -------
+        (list of DataSet, list of str)
+            The data sets replaced, and the warnings of combining.
+        """
+        held, replaced = self._after_adding(data_sets)
         return replaced, self.set_data_sets(held)
 
     def remove_data_set(self, index):
@@ -342,19 +462,28 @@ class ExplorerState(t.HasTraits):
         -------
         DataSet
             The data set removed.
+
+        Raises
+        ------
+        DiskExplorerError
+            If the data left cannot be computed (the state is then unchanged).
         """
         held = list(self.data_sets)
         gone = held.pop(index)
-        self.set_data_sets(held)
+        values, _ = self._data_values(held)
+        self._check_computable(values)
+        self._commit(values)
         return gone
 
-    def load_files(self, paths, kind="auto", add=False, lenient=False):
+    def load_files(self, paths, kind="auto", add=False, lenient=False, uploaded=False):
         """Read files and folders into the data; on failure only a message, nothing changes.
 
         Parameters
         ----------
         paths : sequence of str or Path
-            Relative paths refer to the explorer's working folder (``workdir``).
+            Relative paths refer to the explorer's working folder (``workdir``); a
+            confined explorer refuses paths outside its folders
+            (:mod:`~diskexplorer.app.state.workdir`).
         kind : {"auto", "oifits", "photometry", "spectrum"} or None
             Which reader to use; "auto" or None: each file's kind from its content.
         add : bool
@@ -364,19 +493,28 @@ class ExplorerState(t.HasTraits):
         lenient : bool
             Read what conforms in OIFITS files that do not conform to the standard; each
             defect is listed as a warning of the file's data set.
+        uploaded : bool
+            The paths are files the explorer wrote itself (uploads): absolute, read as
+            given, also by a confined explorer.
 
         Returns
         -------
         bool
             Whether the data were loaded. The message says what was loaded, replaced and
             warned about, or why nothing was.
+
+        Notes
+        -----
+        Data are taken only if the explorer can compute with them: the filtered data, the
+        χ² of the current scene and its model views are computed once before anything is
+        assigned, and a data set that breaks them is refused by name.
         """
         texts = [str(p).strip() for p in paths if str(p).strip()]
         if not texts:
             self.show_message("give a path to load (a file or a folder)")
             return False
-        resolved = [resolve_user_path(t, state_folder(self)) for t in texts]
         try:
+            resolved = texts if uploaded else [readable_path(self, t) for t in texts]
             sets, notes = read_data_sets(resolved, kind=None if kind in (None, "auto") else kind, lenient=lenient)
         except DiskExplorerError as exc:
             self.show_message(f"not loaded: {exc}")
@@ -385,11 +523,17 @@ class ExplorerState(t.HasTraits):
             self.show_message(f"not loaded: {', '.join(map(str, resolved))}: {exc}")
             return False
         if add:
-            replaced, combine_warnings = self.add_data_sets(sets)
+            held, replaced = self._after_adding(sets)
         else:
             kinds = {d.kind for d in sets}
             replaced = [d for d in self.data_sets if d.kind in kinds]
-            combine_warnings = self.set_data_sets([d for d in self.data_sets if d.kind not in kinds] + sets)
+            held = [d for d in self.data_sets if d.kind not in kinds] + sets
+        try:
+            values, combine_warnings = self._check_new_data(held, sets)
+        except DiskExplorerError as exc:
+            self.show_message(f"not loaded: {exc}")
+            return False
+        self._commit(values)
         parts = [f"loaded {describe_loaded(sets)}"]
         if replaced:
             parts.append(f"replaced {', '.join(d.label for d in replaced)}")
@@ -410,19 +554,30 @@ class ExplorerState(t.HasTraits):
         Returns
         -------
         bool
-            Whether anything was removed.
+            Whether anything was removed. When what is left cannot be computed, nothing
+            is removed and the message says why.
         """
         if data_set is None:
             if not self.data_sets:
                 return False
             n = len(self.data_sets)
-            self.set_data_sets(())
+            values, _ = self._data_values(())
+            try:
+                self._check_computable(values)
+            except DiskExplorerError as exc:
+                self.show_message(f"not removed: {exc}")
+                return False
+            self._commit(values)
             self.show_message(f"removed all {n} data set(s); no data loaded: no χ²")
             return True
         index = self._index_of(data_set)
         if index is None:
             return False
-        gone = self.remove_data_set(index)
+        try:
+            gone = self.remove_data_set(index)
+        except DiskExplorerError as exc:
+            self.show_message(f"{self.data_sets[index].label} not removed: {exc}")
+            return False
         left = len(self.data_sets)
         self.show_message(f"removed {gone.kind_label}: {gone.label}" + ("" if left else "; no data loaded: no χ²"))
         return True
@@ -433,7 +588,8 @@ class ExplorerState(t.HasTraits):
         Returns
         -------
         bool
-            Whether the switch changed.
+            Whether the switch changed (not when the data cannot be computed so; the
+            message then says why).
         """
         index = self._index_of(data_set)
         held = list(self.data_sets)
@@ -441,7 +597,13 @@ class ExplorerState(t.HasTraits):
             return False
         old = held[index]
         held[index] = dataclasses.replace(old, bandpass=bool(on))
-        self.set_data_sets(held)
+        values, _ = self._data_values(held)
+        try:
+            self._check_computable(values)
+        except DiskExplorerError as exc:
+            self.show_message(f"{old.label}: bandpass not switched: {exc}")
+            return False
+        self._commit(values)
         self.show_message(f"{old.label}: model " + ("averaged over each channel's EFF_BAND" if on
                                                     else "at the channel centres (bandpass off)"))
         return True
@@ -452,8 +614,21 @@ class ExplorerState(t.HasTraits):
             (k for k, d in enumerate(held) if d is data_set), None)
         return index if index is not None and 0 <= index < len(held) else None
 
+    # ------------------------------------------------------------------ serving
+    def confine(self, readable=()):
+        """Confine typed paths to the working folder and ``readable`` (a served page); for good.
+
+        Parameters
+        ----------
+        readable : sequence of str or os.PathLike
+            Files and folders that may be read besides the working folder (``--data``).
+        """
+        import os
+
+        self._commit({"confined": True, "read_folders": tuple(os.path.abspath(os.fspath(p)) for p in readable)})
+
     # ------------------------------------------------------------------ sessions
-    def restore_session(self, contents):
+    def restore_session(self, contents, source=None):
         """Take everything a session holds: scene, data (re-read from paths), filters, view,
         pins and starting-point set-up.
 
@@ -461,37 +636,65 @@ class ExplorerState(t.HasTraits):
         ----------
         contents : SessionContents
             As :func:`~diskexplorer.app.state.sessions.decode_session` returns it.
+        source : str, optional
+            The session file, for messages.
 
         Returns
         -------
         list of str
             Why data files of the session were not loaded (empty when all were).
 
+        Raises
+        ------
+        DiskExplorerError
+            When the session cannot be taken (its data cannot be computed with its scene,
+            or a value the state refuses): nothing changes, and the message says why.
+
         Notes
         -----
         The data become exactly the session's: whatever was loaded before is dropped, so a
         kind the session lacks cannot go on counting in χ². Data files that cannot be
-        read are listed in the result; everything else is still restored.
+        read are listed in the result; everything else is still restored. Every new value
+        is built and checked first, then all are assigned at once.
         """
-        data = contents.data
-        problems = []
-        with self.hold_trait_notifications():
-            self.set_data_sets(())
-            loads = [(data["oifits"], "oifits")] if data.get("oifits") else []
-            loads += [([data[kind]], kind) for kind in ("photometry", "spectrum") if data.get(kind)]
-            for paths, kind in loads:
-                if not self.load_files(paths, kind):
-                    problems.append(self.message)
-            off = set(contents.bandpass_off)
-            if off:
-                self.set_data_sets([dataclasses.replace(d, bandpass=False) if d.source in off else d
-                                    for d in self.data_sets])
-            self.set_filters(contents.bands, contents.instruments, contents.baseline_range, contents.target)
-            self.set_view(**{k: v for k, v in contents.view.items() if k in VIEW_SETTINGS})
-            self.pins = [{"name": name, "scene": scene} for name, scene in contents.pins]
-            self.scene = contents.scene
-            self.fit_setup = clean_fit_setup(contents.fit_setup or {})
+        try:
+            problems, values = self._session_values(contents)
+            self._check_computable(values)
+            self._commit(values)
+        except DiskExplorerError as exc:
+            self.show_message(f"session not restored{f' from {source}' if source else ''}: {exc}")
+            raise
+        except (t.TraitError, ValueError, TypeError) as exc:
+            self.show_message(f"session not restored{f' from {source}' if source else ''}: {exc}")
+            raise DiskExplorerError(str(exc)) from None
         return problems
+
+    def _session_values(self, contents):
+        """``(problems, values)``: the trait values of a session (nothing assigned)."""
+        data = contents.data
+        problems, sets = [], []
+        loads = [(data["oifits"], "oifits")] if data.get("oifits") else []
+        loads += [([data[kind]], kind) for kind in ("photometry", "spectrum") if data.get(kind)]
+        for paths, kind in loads:
+            try:
+                got, _ = read_data_sets([readable_path(self, p) for p in paths], kind=kind)
+            except DiskExplorerError as exc:
+                problems.append(f"not loaded: {exc}")
+                continue
+            except (OSError, ValueError) as exc:
+                problems.append(f"not loaded: {', '.join(map(str, paths))}: {exc}")
+                continue
+            sets += got
+        off = set(contents.bandpass_off)
+        sets = [dataclasses.replace(d, bandpass=False) if d.source in off else d for d in sets]
+        values, _ = self._data_values(sets)
+        lo, hi = contents.baseline_range
+        values.update(band_filter=tuple(contents.bands), instrument_filter=tuple(contents.instruments),
+                      baseline_range=(float(lo), float(hi)), target=str(contents.target or ""))
+        values.update({k: v for k, v in contents.view.items() if k in VIEW_SETTINGS})
+        values.update(pins=[{"name": name, "scene": scene} for name, scene in contents.pins],
+                      scene=contents.scene, fit_setup=clean_fit_setup(contents.fit_setup or {}))
+        return problems, values
 
     # ------------------------------------------------------------------ messages
     def show_message(self, text):

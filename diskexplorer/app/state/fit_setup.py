@@ -6,6 +6,7 @@ functions keep it well formed and read documents built from it. No widget librar
 from __future__ import annotations
 
 import functools
+import math
 
 from ...data.targets import choose_target, target_points
 from ...fitting.data_description import describe_loaded_data
@@ -26,33 +27,45 @@ def clean_fit_setup(setup):
     Returns
     -------
     dict
-        With all four keys present.
+        With all four keys present; entries of the wrong type, non-finite numbers,
+        σ ≤ 0 and negative weights are left out.
     """
     setup = setup if isinstance(setup, dict) else {}
-    free = [p for p in setup.get("free", []) if isinstance(p, str)]
+
+    def mapping(key):
+        value = setup.get(key)
+        return value if isinstance(value, dict) else {}
+
+    given = setup.get("free")
+    free = [p for p in (given if isinstance(given, (list, tuple)) else []) if isinstance(p, str)]
     bounds = {}
-    for p, b in (setup.get("bounds") or {}).items():
+    for p, b in mapping("bounds").items():
         try:
             lo, hi = (float(x) for x in b)
-        except (TypeError, ValueError):
+        except (TypeError, ValueError, OverflowError):
             continue
-        bounds[str(p)] = [lo, hi]
+        if math.isfinite(lo) and math.isfinite(hi):
+            bounds[str(p)] = [lo, hi]
     priors = {}
-    for p, d in (setup.get("priors") or {}).items():
+    for p, d in mapping("priors").items():
         if isinstance(d, dict) and d.get("kind") in PRIOR_KINDS:
             entry = {"kind": d["kind"]}
             if d["kind"] == "normal":
                 try:
                     entry.update(mean=float(d["mean"]), sigma=float(d["sigma"]))
-                except (KeyError, TypeError, ValueError):
+                except (KeyError, TypeError, ValueError, OverflowError):
+                    continue
+                if not (math.isfinite(entry["mean"]) and math.isfinite(entry["sigma"]) and entry["sigma"] > 0):
                     continue
             priors[str(p)] = entry
     weights = {}
-    for k, v in (setup.get("weights") or {}).items():
+    for k, v in mapping("weights").items():
         try:
-            weights[str(k)] = float(v)
-        except (TypeError, ValueError):
+            weight = float(v)
+        except (TypeError, ValueError, OverflowError):
             continue
+        if math.isfinite(weight) and weight >= 0:
+            weights[str(k)] = weight
     return {"free": list(dict.fromkeys(free)), "bounds": bounds, "priors": priors, "weights": weights}
 
 
