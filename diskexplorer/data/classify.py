@@ -272,7 +272,7 @@ def _classify_text(path, head):
                        "wavelength column) and not a spectrum (needs wavelength and flux columns)")
 
 
-def collect_data_files(paths) -> DataFiles:
+def collect_data_files(paths, may_read=None) -> DataFiles:
     """Sort data files by kind; folders are listed and their non-data files skipped.
 
     Parameters
@@ -280,6 +280,10 @@ def collect_data_files(paths) -> DataFiles:
     paths : str, os.PathLike or iterable of them
         Files and/or folders. A folder's files (not its sub-folders) are classified by
         content, in name order; hidden files (``.name``) are ignored.
+    may_read : callable, optional
+        ``may_read(path) -> bool`` for each file found in a folder, before it is opened:
+        a file it refuses (e.g. a link out of the folders a served page may read) is
+        skipped as "not readable here", without a word on what it is.
 
     Returns
     -------
@@ -321,6 +325,9 @@ def collect_data_files(paths) -> DataFiles:
                 if name.startswith("."):
                     continue
                 f = os.path.join(p, name)
+                if may_read is not None and not may_read(f):
+                    out.skipped.append(SkippedFile(f, "not readable here"))
+                    continue
                 if os.path.isdir(f):
                     out.skipped.append(SkippedFile(f, "a folder (folders inside a data folder are not searched)"))
                     continue

@@ -231,8 +231,9 @@ def _parse_rows(path, min_columns, what):
         try:
             values = [float(f.replace("D", "E").replace("d", "e")) for f in fields]
         except ValueError:
-            bad = next(f for f in fields if not _is_number(f))
-            raise DustError(f"{path}, line {lineno}: field {bad!r} is not a number") from None
+            bad = next(i for i, f in enumerate(fields) if not _is_number(f))
+            # The field is not quoted: a typed path may name any readable file.
+            raise DustError(f"{path}, line {lineno}: field {bad + 1} is not a number") from None
         if len(values) < min_columns:
             raise DustError(f"{path}, line {lineno}: {len(values)} column(s), {what} needs at least "
                             f"{min_columns}")
@@ -378,7 +379,8 @@ def read_multi_nk_file(path, composition, name=None, source=None):
     if isinstance(composition, str):
         key = composition.replace(" ", "")
         if key not in labels:
-            raise DustError(f"{path}: composition {composition!r} not in the header labels {labels}")
+            raise DustError(f"{path}: composition {composition!r} is not one of the {len(labels)} compositions "
+                            "the file's header names")
         idx = labels.index(key)
         label = key
     else:

@@ -94,9 +94,11 @@ class KappaTable:
         try:
             arr = np.loadtxt(path, comments="#", ndmin=2)
         except OSError as exc:
-            raise DustError(f"{path}: cannot read κ table ({exc})") from None
-        except ValueError as exc:
-            raise DustError(f"{path}: κ table is not numeric ({exc})") from None
+            raise DustError(f"{path}: cannot read κ table ({exc.strerror or type(exc).__name__})") from None
+        except ValueError:
+            # numpy's message quotes the offending text; a typed path may name any readable file.
+            raise DustError(f"{path}: κ table is not numeric (two columns of numbers expected: "
+                            "wavelength µm, κ cm² g⁻¹)") from None
         if arr.shape[1] < 2:
             raise DustError(f"{path}: κ table needs 2 columns (wavelength µm, κ cm2/g), found {arr.shape[1]}")
         return cls(arr[:, 0], arr[:, 1], label=label or os.path.basename(path), source=path)

@@ -2,6 +2,7 @@
 from __future__ import annotations
 
 import dataclasses
+import os
 
 from dataclasses import dataclass, field
 
@@ -145,7 +146,8 @@ def evaluate(source, out="evaluation", data=None, formats=("png",), force=False,
         else:
             desc = data_description_with(start.data, data, say=say)
     if desc.empty:
-        raise DataError("no data to evaluate against: the starting point names none; give data files "
+        named = f"{os.fspath(source)}: " if isinstance(source, (str, os.PathLike)) else ""
+        raise DataError(f"{named}no data to evaluate against: the starting point names none; give data files "
                         "(--data PATH ...)")
     if target:
         desc = dataclasses.replace(desc, oifits=tuple({**e, "target": target} for e in desc.oifits))

@@ -185,3 +185,20 @@ def test_a_notebook_user_keeps_full_access(material, folders):
     app.session_box.path.value = "link_to_outside/saved_through_link.json"
     assert app.session_box.save()
     assert (outside / "saved_through_link.json").is_file()
+
+
+def test_a_folder_inside_does_not_lead_out_through_its_links(served, folders):
+    # A folder the page may read holds a link to a data file outside: the link is skipped
+    # before it is opened, and nothing says what it points to.
+    work, _, outside = folders
+    make_oifits(outside, "outside_K.fits", band="K", seed=5)
+    (work / "night").mkdir()
+    make_oifits(work / "night", "inside_K.fits", band="K", seed=6)
+    (work / "night" / "link_K.fits").symlink_to(outside / "outside_K.fits")
+    st = served.state
+    assert st.load_files(["night"], add=True), st.message
+    labels = [d.label for d in st.data_sets]
+    assert "inside_K.fits" in labels and "link_K.fits" not in labels and "outside_K.fits" not in labels
+    assert "link_K.fits: skipped: not readable here" in st.message or "not readable here" in st.message
+    _no_content(st.message, folders)
+    assert "outside_K" not in st.message

@@ -91,7 +91,7 @@ def test_multi_column_silicate_file():
     np.testing.assert_array_equal(by_label.k, by_index.k)
     assert by_label.wavelength[0] == pytest.approx(0.2)
     assert by_label.wavelength[-1] == pytest.approx(500.0)
-    with pytest.raises(DustError, match="not in the header labels"):
+    with pytest.raises(DustError, match="is not one of the 9 compositions"):
         read_multi_nk_file(path, "y=0.9")
     with pytest.raises(DustError, match="out of range"):
         read_multi_nk_file(path, 9)

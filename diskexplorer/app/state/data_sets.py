@@ -166,7 +166,7 @@ def read_data_set(path, kind=None, lenient=False) -> DataSet:
     return DataSet(kind, data, source=path, warnings=tuple(notes))
 
 
-def read_data_sets(paths, kind=None, lenient=False):
+def read_data_sets(paths, kind=None, lenient=False, may_read=None):
     """Read files and folders into data sets; a folder's files are recognised by content.
 
     Parameters
@@ -178,6 +178,9 @@ def read_data_sets(paths, kind=None, lenient=False):
         only files of this kind are read). Default: each file's kind from its content.
     lenient : bool
         Read what conforms in OIFITS files that do not conform (see :func:`read_data_set`).
+    may_read : callable, optional
+        ``may_read(path) -> bool`` for the files found in folders, before they are opened
+        (a served page's confinement: :func:`~diskexplorer.data.classify.collect_data_files`).
 
     Returns
     -------
@@ -201,14 +204,14 @@ def read_data_sets(paths, kind=None, lenient=False):
         raise DataError("no data file given")
     notes = []
     if kind is None:
-        files = collect_data_files(paths)
+        files = collect_data_files(paths, may_read)
         notes += files.notes
         todo = [(k, p) for k, ps in files.items() for p in ps]
     else:
         todo = []
         for p in paths:
             if os.path.isdir(p):
-                files = collect_data_files([p])
+                files = collect_data_files([p], may_read)
                 notes += files.notes
                 todo += [(kind, f) for f in files[kind]]
                 notes += [f"{f}: skipped: {_KIND_LABEL[k]}, not {_KIND_LABEL[kind]}"

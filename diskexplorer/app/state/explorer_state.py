@@ -312,6 +312,20 @@ class ExplorerState(t.HasTraits):
     # A change that touches several traits builds every new value first, checks that the
     # result can be computed, and only then assigns them all at once (_commit): a refusal
     # leaves the state exactly as it was.
+    def _may_read(self):
+        """For the files of a typed folder: None (a notebook reads anything), or a test that a
+        confined explorer may read a file (its real path inside the allowed folders)."""
+        if not self.confined:
+            return None
+
+        def may_read(path):
+            try:
+                readable_path(self, path)
+                return True
+            except DiskExplorerError:
+                return False
+        return may_read
+
     def _commit(self, values):
         """Assign trait values at once, each validated first (a refused value assigns nothing)."""
         traits = self.traits()
@@ -515,7 +529,8 @@ class ExplorerState(t.HasTraits):
             return False
         try:
             resolved = texts if uploaded else [readable_path(self, t) for t in texts]
-            sets, notes = read_data_sets(resolved, kind=None if kind in (None, "auto") else kind, lenient=lenient)
+            sets, notes = read_data_sets(resolved, kind=None if kind in (None, "auto") else kind, lenient=lenient,
+                                         may_read=None if uploaded else self._may_read())
         except DiskExplorerError as exc:
             self.show_message(f"not loaded: {exc}")
             return False
