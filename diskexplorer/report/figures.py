@@ -166,6 +166,84 @@ def _legend_in_emptiest_corner(ax, x, y, fontsize=9):
     ax.legend(fontsize=fontsize, loc=loc)
 
 
+#: The N band of the species figure, µm.
+_SPECIES_BAND_UM = (7.5, 13.5)
+
+
+def _species_baselines(comparison, most=3):
+    """Up to ``most`` N-band baselines of the data, a spread of lengths: (label, u, v, λ) each."""
+    obs = getattr(comparison, "observations", None) if comparison is not None else None
+    ds = getattr(obs, "vis2", None) if obs is not None else None
+    if ds is None or not ds.sizes.get("point", 0):
+        return []
+    wl = ds["wavelength"].values
+    inside = np.flatnonzero((wl >= _SPECIES_BAND_UM[0]) & (wl <= _SPECIES_BAND_UM[1]))
+    if not inside.size:
+        return []
+    u, v = ds["u"].values[inside], ds["v"].values[inside]
+    # One row per (u, v): the baseline of an exposure; pick the shortest, middle and longest.
+    rows, first, which = np.unique(np.round(np.stack([u, v], axis=1), 3), axis=0, return_index=True,
+                                   return_inverse=True)
+    which = which.ravel()
+    length = np.hypot(rows[:, 0], rows[:, 1])
+    order = np.argsort(length)
+    picks = order[np.unique(np.linspace(0, order.size - 1, min(most, order.size)).round().astype(int))]
+    out = []
+    for r in picks:
+        sel = inside[which == r]
+        k = np.argsort(wl[sel])
+        out.append((f"B = {length[r]:.0f} m", ds["u"].values[sel][k], ds["v"].values[sel][k], wl[sel][k]))
+    return out
+
+
+def _figure_species(plt, scene, comparison):
+    """Each dust species' share of the N-band spectrum, and of the correlated flux per baseline."""
+    from ..observables.species_parts import species_coherent_flux, species_spectra
+
+    fig, (left, right) = plt.subplots(1, 2, figsize=FIGURE_SIZES_IN["species"], layout="constrained")
+    lam = np.linspace(*_SPECIES_BAND_UM, 121)
+    parts = species_spectra(scene, lam)
+    names = list(dict.fromkeys(label.split(": ", 1)[1] for label in parts))
+    # Okabe–Ito without black (the totals) and yellow (too faint on white).
+    hues = [c for c in _OKABE_ITO if c not in ("#000000", "#F0E442")] + ["#777777"]
+    colour = {n: hues[k % len(hues)] for k, n in enumerate(names)}
+    styles = ("-.", ":", "--")
+    rings = list(dict.fromkeys(label.split(": ", 1)[0] for label in parts))
+    comps = scene.sed_components(lam)
+    for r, ring in enumerate(rings):
+        left.plot(lam, comps[ring], color=_ring_colour(r), lw=1.8, label=f"ring {ring}")
+    for label, flux in parts.items():
+        ring, name = label.split(": ", 1)
+        left.plot(lam, flux, color=colour[name], lw=1.1, ls=styles[rings.index(ring) % 3], label=label)
+    if not parts:
+        left.text(0.5, 0.5, "no ring holds a dust mixture", transform=left.transAxes, ha="center")
+    left.set_xlabel("wavelength λ [µm]")
+    left.set_ylabel("F$_ν$ [Jy]")
+    left.set_title("each species' share of its ring")
+    if parts:
+        left.legend(fontsize=7, ncol=2)
+    baselines = _species_baselines(comparison)
+    if not baselines:
+        pa = math.radians(scene.position_angle)
+        baselines = [(f"B = {b:.0f} m (major axis; no N-band data)", np.full(lam.size, b * math.sin(pa)),
+                      np.full(lam.size, b * math.cos(pa)), lam) for b in (20.0, 50.0, 100.0)]
+    greys = ("#000000", "#555555", "#999999")
+    for k, (label, u, v, wl) in enumerate(baselines):
+        right.plot(wl, np.abs(scene.visibility(u, v, wl) * scene.sed(wl)), color=greys[k % 3], lw=1.6,
+                   label=f"total, {label}")
+    # The species on one baseline (the middle one): more would hide each other.
+    label, u, v, wl = baselines[len(baselines) // 2]
+    for part, coherent in species_coherent_flux(scene, u, v, wl).items():
+        ring, name = part.split(": ", 1)
+        right.plot(wl, np.abs(coherent), color=colour[name], lw=1.1, ls=styles[rings.index(ring) % 3], label=part)
+    right.set_xlabel("wavelength λ [µm]")
+    right.set_ylabel("correlated flux |F V| [Jy]")
+    right.set_title(f"correlated flux: totals, and each species on {label.split(' (')[0]}")
+    right.legend(fontsize=7, ncol=2)
+    fig.suptitle("dust species (shares of each ring; exact for power-law temperatures)")
+    return fig
+
+
 def _interferometric_figure(plt, name, tables, kind, ylabel, title, scene):
     fig, ax = plt.subplots(figsize=FIGURE_SIZES_IN[name], layout="constrained")
     cols = tables.get(kind)
@@ -318,6 +396,7 @@ def write_figures(scene, comparison, result, cube, paths, dpi=DEFAULT_DPI, progr
     makers = {
         "sed": lambda: _figure_sed(plt, scene, comparison, cube),
         "silicate_band": lambda: _figure_silicate(plt, scene, comparison),
+        "species": lambda: _figure_species(plt, scene, comparison),
         "vis2": lambda: _interferometric_figure(plt, "vis2", tables, "vis2", "squared visibility V²",
                                                 "squared visibilities (colour: data; black: model)", scene),
         "closure_phase": lambda: _interferometric_figure(plt, "closure_phase", tables, "t3phi",

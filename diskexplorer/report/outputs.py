@@ -17,13 +17,13 @@ __all__ = ["FIGURES", "DATA_FIGURES", "FIGURE_SIZES_IN", "DEFAULT_DPI", "FORMATS
            "planned_outputs", "figure_formats", "check_image_wavelengths", "check_output_folder", "StagedOutput"]
 
 #: Figure names, in the order they are drawn.
-FIGURES = ("sed", "silicate_band", "vis2", "closure_phase", "visibility_amplitude", "correlated_flux",
+FIGURES = ("sed", "silicate_band", "species", "vis2", "closure_phase", "visibility_amplitude", "correlated_flux",
            "differential_phase", "image", "profiles")
 #: Figures drawn only when the data hold their kind (the others are always drawn).
 DATA_FIGURES = {"visibility_amplitude": "visamp", "correlated_flux": "corrflux", "differential_phase": "diffphi"}
 #: Figure sizes in inches (width, height); with :data:`DEFAULT_DPI` a PNG has
 #: width·dpi × height·dpi pixels (no tight bounding box, so sizes are predictable).
-FIGURE_SIZES_IN = {"sed": (7.2, 4.8), "silicate_band": (7.2, 4.8), "vis2": (7.2, 4.8),
+FIGURE_SIZES_IN = {"sed": (7.2, 4.8), "silicate_band": (7.2, 4.8), "species": (11.0, 4.8), "vis2": (7.2, 4.8),
                    "closure_phase": (7.2, 4.8), "visibility_amplitude": (7.2, 4.8),
                    "correlated_flux": (7.2, 4.8), "differential_phase": (9.6, 4.8),
                    "image": (9.6, 4.8), "profiles": (9.6, 4.8)}
