@@ -28,8 +28,8 @@ from .observables import (
 from .data import ObservationSet, read_oifits, read_photometry, read_spectrum, write_oifits
 
 # judging against data, seeding fits
-from .fitting import (Comparison, RefineResult, StartingPoint, export_start, make_snippet, read_start, refine,
-                      scan_grid, write_start)
+from .fitting import (Comparison, RefineResult, StartingPoint, compare_alternatives, drop_one, export_start,
+                      make_snippet, read_start, refine, scan_grid, solve_composition, write_start)
 from .physics import gaps_of, sublimation_radius
 
 
@@ -62,6 +62,8 @@ __all__ = [
     # seeding fits
     "export_start", "write_start", "read_start", "StartingPoint", "make_snippet", "refine", "RefineResult",
     "scan_grid",
+    # dust composition
+    "solve_composition", "drop_one", "compare_alternatives",
     # derived quantities
     "sublimation_radius", "gaps_of",
     # reports

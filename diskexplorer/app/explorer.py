@@ -127,9 +127,10 @@ class Explorer(w.VBox):
         self.star_panel = StarPanel(st)
         self.geometry_panel = GeometryPanel(st)
         self.extended_panel = ExtendedPanel(st)
-        self.ring_deck = RingDeck(st)
-        # Long jobs (refinement, scans) run in background threads unless ``jobs="sync"``.
+        # Long jobs (refinement, scans, composition solves) run in background threads
+        # unless ``jobs="sync"``.
         self._jobs = jobs
+        self.ring_deck = RingDeck(st, comparison=self._comparison, runner=jobs)
         # Pages other than the first of each tab bar are built when first opened or first
         # used from code (see LazyPage): a new browser page then receives and draws
         # only the widgets it shows.

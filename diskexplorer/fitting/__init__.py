@@ -16,6 +16,10 @@ from .vector import (FreeParameter, free_parameters, initial_walkers, log_prior,
 # refinement
 from .refine import RefineResult, refine
 
+# composition
+from .composition import (AlternativesResult, CompositionResult, DropOneResult, compare_alternatives, drop_one,
+                          solve_composition, swap_alternatives)
+
 # grid scans
 from .scan import axis_values, best_point, confidence_levels, scan_grid, write_scan
 
@@ -28,6 +32,9 @@ __all__ = [
     "make_log_probability", "make_snippet",
     # refinement
     "refine", "RefineResult",
+    # composition
+    "solve_composition", "CompositionResult", "drop_one", "DropOneResult", "compare_alternatives",
+    "AlternativesResult", "swap_alternatives",
     # grid scans
     "scan_grid", "best_point", "confidence_levels", "write_scan", "axis_values",
 ]

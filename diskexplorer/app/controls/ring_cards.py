@@ -1,4 +1,5 @@
-"""One card per ring (add, remove, duplicate, enable) with its dust-mixture editor."""
+"""One card per ring (add, remove, duplicate, enable) with its dust-mixture editor and its
+composition solve (:mod:`~diskexplorer.app.controls.composition_panel`)."""
 from __future__ import annotations
 
 import html
@@ -338,10 +339,13 @@ class RingCard(w.VBox):
         self.amplitude = ParamControl(AMPLITUDE_SPEC, ring.modulation_amplitude, lambda v: self._modulate(),
                                       css="dx-ring-amplitude")
         self.angle = ParamControl(ANGLE_SPEC, ring.modulation_angle, lambda v: self._modulate(), css="dx-ring-angle")
-        # The dust-mixture editor (80 widgets per ring, every one sent to a new page) is
-        # built when its section is first opened, or when code asks for it (`mixture`).
+        # The dust-mixture editor (80 widgets per ring, every one sent to a new page) and the
+        # composition solve are built when their section is first opened, or when code asks
+        # for them (`mixture`, `composition`).
         self._mixture = None
-        self.dust_box = dust_box = w.Accordion([w.VBox()], titles=("dust mixture",), selected_index=None)
+        self._composition = None
+        self.dust_box = dust_box = w.Accordion([w.VBox(), w.VBox()], titles=("dust mixture", "solve composition"),
+                                               selected_index=None)
         dust_box.observe(self._on_dust_open, "selected_index")
         self.temperature = TemperatureEditor(lambda **changes: self._edit(**changes), on_message=state.show_message)
         # T_in and q sit in a box of their own, hidden for an equilibrium ring (a control's
@@ -369,9 +373,23 @@ class RingCard(w.VBox):
         """Whether the dust-mixture editor exists yet."""
         return self._mixture is not None
 
+    @property
+    def composition(self):
+        """The ring's :class:`~diskexplorer.app.controls.composition_panel.CompositionPanel`, built on first use."""
+        if self._composition is None:
+            from .composition_panel import CompositionPanel
+
+            self._composition = CompositionPanel(self)
+            children = list(self.dust_box.children)
+            children[1] = self._composition
+            self.dust_box.children = children
+        return self._composition
+
     def _on_dust_open(self, change):
-        if change["new"] is not None:
+        if change["new"] == 0:
             self.mixture   # noqa: B018 - builds the editor
+        elif change["new"] == 1:
+            self.composition   # noqa: B018 - builds the panel
 
     def _edit(self, **changes):
         if self.deck.syncing:
@@ -407,18 +425,35 @@ class RingCard(w.VBox):
         if ring.modulation_amplitude > 0 and not math.isclose(
                 (self.angle.value - ring.modulation_angle + 180) % 360 - 180, 0.0, abs_tol=1e-6):
             self.angle.set_value(ring.modulation_angle)
-        if self._mixture is not None and ring.dust is not self.mixture_dust:
-            self._mixture.sync(ring.dust)
+        if ring.dust is not self.mixture_dust:
+            if self._mixture is not None:
+                self._mixture.sync(ring.dust)
+            if self._composition is not None:
+                self._composition.sync(ring)
         self.mixture_dust = ring.dust
 
     mixture_dust = None
 
 
 class RingDeck(w.VBox):
-    """The ring cards of the state's scene, rebuilt when rings are added or removed."""
+    """The ring cards of the state's scene, rebuilt when rings are added or removed.
 
-    def __init__(self, state):
+    Parameters
+    ----------
+    state : ExplorerState
+    comparison : callable, optional
+        Returns the :class:`~diskexplorer.fitting.Comparison` of the data of the moment, or
+        None without data; the cards' composition solves judge against it.
+    runner : {"thread", "sync"} or JobRunner
+        How the composition solves run (one job at a time for the whole deck).
+    """
+
+    def __init__(self, state, comparison=None, runner="thread"):
+        from ..state.jobs import JobRunner
+
         self.state = state
+        self.comparison = comparison or (lambda: None)
+        self.runner = runner if isinstance(runner, JobRunner) else JobRunner(runner)
         self.syncing = EchoGuard()
         self.cards = []
         self.add_button = w.Button(description="add a ring", icon="plus", layout={"width": "140px"})
