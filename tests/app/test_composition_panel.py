@@ -41,7 +41,9 @@ def test_solve_shows_the_result_and_accept_applies_it(app):
     text = panel.result_html.value
     assert "χ²" in text and "olivine_glass" in text and "±" in text
     assert panel.result_actions.layout.display is None
-    assert panel.progress.value.startswith("done:")
+    # the same press compared iron with carbon as the featureless absorber
+    assert panel.alternatives is not None and "with iron" in panel.compare_html.value
+    assert panel.progress.value.startswith("compared:")
     panel.accept_button.click()
     dust = app.state.scene.rings[0].dust
     solved = dict(zip(res.rings[0].components, res.rings[0].fractions))

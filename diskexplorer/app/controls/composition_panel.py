@@ -10,6 +10,7 @@ as refinement does, and accepting changes the ring through ``ExplorerState.updat
 from __future__ import annotations
 
 import html
+import threading
 
 import ipywidgets as w
 
@@ -85,6 +86,8 @@ class CompositionPanel(w.VBox):
         self.swap = w.Text(value=DEFAULT_SWAP, description="compare", style={"description_width": "60px"},
                            layout={"width": "260px"}, placeholder="species:species")
         self.compare_button = w.Button(description="compare", layout={"width": "90px"})
+        self.then_compare = w.Checkbox(value=True, indent=False, description="compare after each solve",
+                                       layout={"width": "auto"})
         self.compare_button.on_click(lambda b: self.start_compare())
         self.compare_html = w.HTML()
         self.compare_html.add_class("dx-composition-alternatives")
@@ -100,6 +103,7 @@ class CompositionPanel(w.VBox):
                           note, self.result_html, self.result_actions,
                           w.HBox([self.swap, self.compare_button, self.drop_button],
                                  layout={"align_items": "center"}),
+                          self.then_compare,
                           self.compare_html, self.drop_html])
         self.add_class("dx-composition")
 
@@ -172,6 +176,14 @@ class CompositionPanel(w.VBox):
         self.progress.value = f"done: {result.nfev} model evaluations"
         self.result_html.value = result_table(result)
         self.result_actions.layout.display = None
+        thread = self.runner.thread
+        if self.then_compare.value and self.swap.value.strip() and thread is not threading.current_thread():
+            # One press answers both questions (which mixture; iron or carbon). The solve's
+            # thread has posted this call as its last act: let it end before the next job.
+            # (Without a widgets' loop the call runs in that thread; then the button waits.)
+            if thread is not None:
+                thread.join(timeout=5.0)
+            self.start_compare()
 
     def accept(self):
         """Put the solved mixture (and Σ_in) into the ring; anything else stays as it is now.
