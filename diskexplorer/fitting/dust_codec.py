@@ -15,6 +15,16 @@ A κ table read from a file is stored by path; one built in memory is stored inl
 (wavelength in µm, κ in cm² g⁻¹). Mixture components carry their own ``grain_size`` and
 ``shape`` only when they differ from the mixture's.
 
+In a starting point or a session a component's ``"fraction"`` is a parameter entry, like
+every parameter at its path ``rings.<k>.dust.<component>``
+(:mod:`~diskexplorer.fitting.paths`)::
+
+    {"species": "forsterite", "fraction": {"value": 0.4, "unit": "", "free": true,
+     "bounds": [0.0, 1.0], "prior": {"kind": "dirichlet", "concentration": 1.0}}}
+
+A plain number (documents written before fractions were parameters, and components of
+species without a path) is read as a fixed fraction with the default bounds and prior.
+
 A path in a document refers to the document's folder (or is absolute); a path in a
 document held in memory refers to the current folder. The writers re-express relative
 paths from the folder of the file they write (:func:`table_paths_from`), and readers
@@ -54,8 +64,17 @@ DUST_KINDS = ("mixture", "power_law", "kappa_table")
 SPECIES_KINDS = ("kappa_table", "optical_constants")
 
 
-def dust_to_document(dust, where="dust"):
+def dust_to_document(dust, where="dust", fraction_entries=None):
     """The document entry of a ring's dust (see module docstring).
+
+    Parameters
+    ----------
+    dust : opacity or None
+    where : str
+        Path of the entry, for messages.
+    fraction_entries : mapping, optional
+        Fraction key → parameter entry written as that component's ``"fraction"``;
+        components without one get their fraction as a number.
 
     Raises
     ------
@@ -66,7 +85,9 @@ def dust_to_document(dust, where="dust"):
         return None
     if isinstance(dust, DustMix):
         comps = []
+        fraction_entries = fraction_entries or {}
         for key, f in dust.fractions:
+            f = fraction_entries.get(key, f)
             if isinstance(key, str):
                 comps.append({"species": key, "fraction": f})
             else:
@@ -98,7 +119,7 @@ def _size(entry, where):
     return size
 
 
-def dust_from_document(entry, where="dust", base_dir=None, check_path=None):
+def dust_from_document(entry, where="dust", base_dir=None, check_path=None, take_fraction=None):
     """The dust object of a document entry (``None`` for ``null``).
 
     Parameters
@@ -112,6 +133,10 @@ def dust_from_document(entry, where="dust", base_dir=None, check_path=None):
         Given the absolute path of a κ table before it is read; returns the path to read
         or raises :class:`~diskexplorer.errors.DiskExplorerError` (see
         :func:`~diskexplorer.fitting.read_start`).
+    take_fraction : callable, optional
+        ``take_fraction(key, entry, where) -> float`` reads a component's fraction given as
+        a parameter entry (the scene codec records its bounds, prior and free flag);
+        default: its ``"value"``.
 
     Raises
     ------
@@ -136,7 +161,11 @@ def dust_from_document(entry, where="dust", base_dir=None, check_path=None):
                     key = (c["species"], csize, shape)
                 else:
                     key = c["species"]
-                pairs.append((key, float(c["fraction"])))
+                fraction = c["fraction"]
+                if isinstance(fraction, dict):
+                    fraction = (take_fraction(key, fraction, f"{w}.fraction") if take_fraction is not None
+                                else fraction["value"])
+                pairs.append((key, float(fraction)))
             try:
                 mix = DustMix(pairs, grain_size=size, shape=entry["shape"])
             except DustError as exc:

@@ -5,6 +5,11 @@ point of a regular grid, keeps the rest of the scene fixed — or refines chosen
 locally at each point — and records the weighted total χ² and the χ² of every data kind
 in an :class:`xarray.Dataset`.
 
+A scan axis over a mass fraction (``rings.<k>.dust.<component>``) sets that fraction and
+rescales the ring's other fractions proportionally, so that they still sum to 1
+(:func:`~diskexplorer.fitting.paths.set_values`); the result says so in its attribute
+``fraction_rule`` and in the axis coordinate's ``comment``.
+
 Execution: the grid is cut into chunks; each task evaluates a whole chunk with one shared
 :class:`~diskexplorer.fitting.Comparison`. The data travel to each worker once
 (``client.scatter(..., broadcast=True)``) and the comparison built from them is cached on
@@ -47,14 +52,20 @@ import xarray as xr
 
 from ..errors import ParameterError
 from .comparison import Comparison
-from .paths import canonical_path, get_value, parameter_paths, spec_for
+from .paths import (canonical_path, fraction_path, fraction_ring, get_value, is_fraction_path, parameter_paths,
+                    spec_for)
 from ..dust.species import user_species
 from .scan_worker import evaluate_chunk
 
-__all__ = ["scan_grid", "best_point", "confidence_levels", "write_scan", "axis_values", "safe_name",
+__all__ = ["FRACTION_RULE", "scan_grid", "best_point", "confidence_levels", "write_scan", "axis_values", "safe_name",
            "local_client", "close_local_cluster"]
 
 _POLL_S = 0.1  # how often a waiting scan polls cancel() and the futures
+
+#: What a scan axis over a mass fraction does to the ring's other fractions (netCDF
+#: attributes of the result, and the explorer's scan page).
+FRACTION_RULE = ("a scan axis over a mass fraction (rings.<k>.dust.<component>) sets that fraction and "
+                 "rescales the ring's other fractions proportionally, so that the ring's fractions sum to 1")
 
 
 # ------------------------------------------------------------------------------ axes
@@ -127,6 +138,14 @@ def _parse_axes(scene, axes):
                                      + f" is outside the allowed range {owner.describe_range()}")
         paths.append(path)
         values.append(vals)
+    for path in paths:
+        if is_fraction_path(path):
+            k = fraction_ring(path)
+            held = {p for p in paths if fraction_ring(p) == k}
+            others = [key for key, _ in scene.rings[k].dust.fractions if fraction_path(k, key) not in held]
+            if not others and len(held) == 1:
+                raise ParameterError(f"scan axis {path}: ring {k}'s dust holds no other component to take up "
+                                     "the rest when the fraction changes (the fractions of a ring sum to 1)")
     return paths, values
 
 
@@ -349,7 +368,8 @@ def scan_grid(scene, data, axes, *, refine_free=None, refine_max_nfev=10, schedu
         (netCDF-safe): ``scene`` (JSON), ``axes`` and ``free_parameters`` (JSON lists of
         paths), ``npoints`` (JSON dict per kind at the input scene), ``npoints_total``,
         ``weights`` (JSON), ``status`` ("complete" or "cancelled"), ``n_evaluated``,
-        ``scheduler``, ``elapsed_s``.
+        ``scheduler``, ``elapsed_s``; with a mass-fraction axis also ``fraction_rule``
+        (:data:`FRACTION_RULE`), repeated as that coordinate's ``comment``.
 
     Raises
     ------
@@ -420,8 +440,10 @@ def scan_grid(scene, data, axes, *, refine_free=None, refine_max_nfev=10, schedu
     coords = {}
     for path, vals in zip(paths, values):
         spec = spec_for(path)
-        coords[safe_name(path)] = xr.Variable(safe_name(path), vals, attrs={
-            "path": path, "units": spec.unit, "long_name": spec.description})
+        coord_attrs = {"path": path, "units": spec.unit, "long_name": spec.description}
+        if is_fraction_path(path):
+            coord_attrs["comment"] = FRACTION_RULE
+        coords[safe_name(path)] = xr.Variable(safe_name(path), vals, attrs=coord_attrs)
     dims = [safe_name(p) for p in paths]
     data_vars = {"chi2": (dims, chi2[:, 0].reshape(shape), {"long_name": "weighted total chi-squared"})}
     for k, kind in enumerate(kinds):
@@ -448,6 +470,8 @@ def scan_grid(scene, data, axes, *, refine_free=None, refine_max_nfev=10, schedu
         "scheduler": where,
         "elapsed_s": float(time.perf_counter() - t0),
     }
+    if any(is_fraction_path(p) for p in paths):
+        attrs["fraction_rule"] = FRACTION_RULE
     return xr.Dataset(data_vars, coords=coords, attrs=attrs)
 
 

@@ -14,7 +14,10 @@ the ``"scene"`` object of a starting point::
 
 Every numeric parameter is an entry at its parameter path
 (:mod:`~diskexplorer.fitting.paths`) with its value and unit, whether it is free, its
-bounds and its prior; dust of every form is written by
+bounds and its prior — a mixture component's mass fraction too, as the component's
+``"fraction"`` (prior: the ring's Dirichlet, one concentration per component; a ring's
+free fractions are read as weights on its simplex, :mod:`~diskexplorer.fitting.vector`,
+and a ring with a single free fraction is refused); dust of every form is written by
 :mod:`~diskexplorer.fitting.dust_codec` (mixtures with per-component sizes and shapes,
 power laws, κ tables by path or inline), photosphere tables inline, and an equilibrium
 ring's temperature settings beside its parameters. Species
@@ -36,10 +39,11 @@ from ..physics.ring import SUBLIMATION_TEMPERATURE_SPEC, Ring
 from ..physics.star import PhotosphereTable, Star
 from .dust_codec import (dust_from_document, dust_to_document, install_species_entries, species_from_document,
                          species_to_document)
-from .paths import SCENE_GROUPS, get_value, parameter_paths, spec_for, sublimation_species
-from .priors import Prior, as_prior, default_prior
+from .paths import (MASS_FRACTION_SPEC, SCENE_GROUPS, fraction_components, fraction_path, get_value,
+                    parameter_paths, spec_for, sublimation_species)
+from .priors import Prior, as_prior, check_prior_kind, default_prior
 from .quantities import quantity, to_internal, unit_factor
-from .vector import FreeParameter, default_bounds, resolve_limits, validate_bounds
+from .vector import FreeParameter, check_fraction_groups, default_bounds, resolve_limits, validate_bounds
 
 __all__ = ["scene_entries", "scene_from_entries"]
 
@@ -121,7 +125,8 @@ def scene_entries(scene, free=(), bounds=None, priors=None):
     for k, ring in enumerate(scene.rings):
         rings.append({"name": ring.name, "enabled": bool(ring.enabled),
                       **{n: entries[f"rings.{k}.{n}"] for n in parameter_specs(Ring)},
-                      "dust": dust_to_document(ring.dust, f"rings.{k}.dust"),
+                      "dust": dust_to_document(ring.dust, f"rings.{k}.dust",
+                                               {key: entries[path] for path, key, _ in fraction_components(ring, k)}),
                       **_equilibrium_entries(scene, k, entries)})
     doc_scene["rings"] = rings
     # Registered species live in this process only: the document carries them.
@@ -168,6 +173,7 @@ def _parameter(entry, path, spec):
             prior = as_prior(p)
     else:
         prior = default_prior(spec, lo)
+    check_prior_kind(spec, prior, f"{path}.prior: ")
     prior.check_bounds(lo, hi, f"{path}.prior: ")
     return FreeParameter(path, value, spec.unit, lo, hi, prior, spec.scale), bool(entry.get("free", False))
 
@@ -258,7 +264,17 @@ def _scene_from_entries(sdoc, base_dir, check_path):
         if not kw["r_in"] < kw["r_out"]:
             raise SeedError(f"rings.{k}.r_in: {_fmt(rd['r_in']['value'])} {rd['r_in']['unit']} must be "
                             f"smaller than rings.{k}.r_out = {_fmt(rd['r_out']['value'])} {rd['r_out']['unit']}")
-        dust = dust_from_document(rd["dust"], f"rings.{k}.dust", base_dir, check_path)
+        def take_fraction(key, entry, where, k=k):
+            path = fraction_path(k, key)
+            if path is None:   # a species without a path: its fraction stays as written
+                fp, is_free = _parameter(entry, where, MASS_FRACTION_SPEC)
+                if is_free:
+                    raise SeedError(f"{where}: species {key if isinstance(key, str) else key[0]!r} has no "
+                                    "parameter path (its name is not an identifier), so its fraction cannot be free")
+                return fp.value
+            return take(entry, path, MASS_FRACTION_SPEC)
+
+        dust = dust_from_document(rd["dust"], f"rings.{k}.dust", base_dir, check_path, take_fraction)
         # Temperature settings of an equilibrium ring; absent: the power law.
         kw["temperature_mode"] = rd.get("temperature_mode", "power_law")
         kw["inner_edge"] = rd.get("inner_edge", "fixed")
@@ -284,6 +300,8 @@ def _scene_from_entries(sdoc, base_dir, check_path):
         scene = Scene(**scene_kw, star=star, rings=rings)
     except ParameterError as exc:
         raise SeedError(f"scene: {exc}") from None
-    return scene, params, [params[p] for p in free_paths]
+    free = [params[p] for p in free_paths]
+    check_fraction_groups(free)
+    return scene, params, free
 
 

@@ -5,6 +5,12 @@ data the document names (one explicit call per file, so the user can edit select
 defines ``log_probability(x)`` of the free parameters and ``initial_walkers(n, seed)``,
 a small ball around the current state inside the bounds. Any ensemble sampler that
 takes a callable can use them; the script needs nothing beyond diskexplorer.
+
+Free mass fractions: the script's vector holds each free fraction of a ring as a weight
+w ≥ 0; ``log_probability`` maps the ring's weights to the fractions S·w/Σw (S: the part of
+the ring's dust the free fractions share), so every vector it accepts is a valid mixture,
+and adds the ring's Dirichlet prior, Σ (α_i − 1) ln(w_i/Σw) on 0 < Σw ≤ 1, under which
+the fractions are Dirichlet(α) distributed (:mod:`~diskexplorer.fitting.vector`).
 """
 from __future__ import annotations
 
@@ -12,6 +18,7 @@ import datetime as _dt
 import os
 
 from .start_import import read_start
+from .vector import fraction_groups
 
 __all__ = ["make_snippet"]
 
@@ -74,10 +81,18 @@ def _free_table(start):
     if not start.free:
         return "#   (none: every parameter is fixed; log_probability takes an empty vector)"
     rows = []
+    groups = fraction_groups(start.free)
     for k, f in enumerate(start.free):
         unit = f" {f.unit}" if f.unit else ""
         prior = f.prior.kind if f.prior.kind != "normal" else f"normal({f.prior.mean:g}, {f.prior.sigma:g})"
+        if f.prior.kind == "dirichlet":
+            prior = f"dirichlet(α = {f.prior.concentration:g}), a weight"
         rows.append(f"#   x[{k}]  {f.path:<26} = {f.value:<12.6g} bounds [{f.lo:g}, {f.hi:g}]{unit}, {prior}")
+    for ring, idx in groups.items():
+        share = sum(start.free[i].value for i in idx)
+        listed = ", ".join(f"x[{i}]" for i in idx)
+        rows.append(f"#   ring {ring}: fractions = {share:.6g} · w / Σw with w = ({listed}); "
+                    "Dirichlet prior on them, 0 < Σw ≤ 1")
     return "\n".join(rows)
 
 
@@ -105,7 +120,8 @@ def make_snippet(doc_path):
     Notes
     -----
     ln p(x) = Σ ln prior_i(x_i) − χ²(x)/2 (weighted total χ² of all data kinds), −inf
-    outside the bounds or where the model refuses x (e.g. r_in ≥ r_out).
+    outside the bounds or where the model refuses x (e.g. r_in ≥ r_out). A ring's free
+    mass fractions enter as weights with one Dirichlet prior (module docstring).
     """
     start = read_start(doc_path)
     path = os.path.abspath(os.fspath(doc_path))
@@ -148,7 +164,11 @@ comparison = Comparison(observations, photometry, spectrum, weights={weights!r},
 
 
 def log_probability(x):
-    """ln prior(x) − χ²(x)/2; −inf outside the bounds or where the model refuses x."""
+    """ln prior(x) − χ²(x)/2; −inf outside the bounds or where the model refuses x.
+
+    Free mass fractions are weights: scene_from_vector makes each ring's fractions
+    S·w/Σw (a valid mixture) and log_prior adds the ring's Dirichlet prior.
+    """
     lp = log_prior(free, x)
     if not np.isfinite(lp):
         return -np.inf

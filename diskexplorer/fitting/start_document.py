@@ -47,7 +47,7 @@ from .dust_codec import table_paths_from
 from .scene_codec import scene_entries
 from .paths import canonical_path
 from .start_schema import MAX_ACCURACY, SCHEMA_ID
-from .vector import FreeParameter
+from .vector import FreeParameter, check_fraction_groups
 
 __all__ = ["export_start", "write_start", "document_entry"]
 
@@ -110,7 +110,15 @@ def export_start(scene, free=(), bounds=None, priors=None, data=None, comparison
     ------
     SeedError
         Unknown paths, bounds outside the valid range or not holding the current
-        value, priors that do not fit their bounds, dust the document cannot describe.
+        value, priors that do not fit their bounds (a mass fraction takes a Dirichlet
+        prior, nothing else does), a ring with a single free mass fraction, dust the
+        document cannot describe.
+
+    Notes
+    -----
+    Mass fractions are entries at ``rings.<k>.dust.<component>`` (the component's
+    ``"fraction"``); free ones share their ring's Dirichlet prior, each entry holding its
+    concentration (``priors={path: ("dirichlet", α)}``; default α = 1, flat).
 
     Examples
     --------
@@ -124,6 +132,7 @@ def export_start(scene, free=(), bounds=None, priors=None, data=None, comparison
             given_bounds[item.path] = (item.lo, item.hi)
             given_priors[item.path] = item.prior
     free = {canonical_path(scene, p.path if isinstance(p, FreeParameter) else p) for p in free}
+    check_fraction_groups(sorted(free))   # a lone free fraction of a ring could not move
     given_bounds.update({canonical_path(scene, k): v for k, v in (bounds or {}).items()})
     given_priors.update({canonical_path(scene, k): v for k, v in (priors or {}).items()})
     bounds, priors = given_bounds, given_priors
@@ -141,7 +150,26 @@ def export_start(scene, free=(), bounds=None, priors=None, data=None, comparison
 
 
 def document_entry(doc, path):
-    """The parameter entry of a document at a canonical parameter ``path`` (a dict)."""
+    """The parameter entry of a document at a canonical parameter ``path`` (a dict).
+
+    A mass fraction ``rings.<k>.dust.<component>`` is the ``"fraction"`` of that component
+    in the ring's ``"dust"`` entry.
+    """
+    from .paths import component_key, fraction_ring, is_fraction_path
+
+    if is_fraction_path(path):
+        key = component_key(path)
+        dust = doc["scene"]["rings"][fraction_ring(path)]["dust"]
+        name, size, shape = (key, None, None) if isinstance(key, str) else key
+        for c in dust["components"]:
+            own = "shape" in c or "grain_size" in c
+            if c["species"] != name or own != (not isinstance(key, str)):
+                continue
+            if own and (c.get("shape", dust["shape"]) != shape or
+                        (size is not None and round(float(c["grain_size"]["value"]), 9) != size)):
+                continue
+            return c["fraction"]
+        raise KeyError(path)
     node = doc["scene"]
     for part in path.split("."):
         node = node[int(part)] if isinstance(node, list) else node[part]

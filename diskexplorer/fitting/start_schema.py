@@ -81,12 +81,20 @@ def build_schema():
         "prior": {
             "type": "object",
             "properties": {"kind": {"enum": list(PRIOR_KINDS)}, "mean": number,
-                           "sigma": {"type": "number", "exclusiveMinimum": 0}},
+                           "sigma": {"type": "number", "exclusiveMinimum": 0},
+                           "concentration": {"type": "number", "exclusiveMinimum": 0}},
             "required": ["kind"], "additionalProperties": False,
-            "if": {"properties": {"kind": {"const": "normal"}}},
-            "then": {"required": ["kind", "mean", "sigma"]},
-            "else": {"not": {"anyOf": [{"required": ["mean"]}, {"required": ["sigma"]}]}},
-            "description": "Prior density within the bounds; mean and sigma in the entry's unit",
+            "allOf": [
+                {"if": {"properties": {"kind": {"const": "normal"}}},
+                 "then": {"required": ["kind", "mean", "sigma"]},
+                 "else": {"not": {"anyOf": [{"required": ["mean"]}, {"required": ["sigma"]}]}}},
+                {"if": {"properties": {"kind": {"const": "dirichlet"}}},
+                 "then": {"required": ["kind", "concentration"]},
+                 "else": {"not": {"required": ["concentration"]}}},
+            ],
+            "description": "Prior density within the bounds; mean and sigma in the entry's unit; "
+                           "dirichlet (mass fractions only): the component's concentration alpha in its "
+                           "ring's Dirichlet prior (1: flat)",
         },
         "parameter": _object(
             {"value": number, "unit": {"type": "string"}, "free": {"type": "boolean"},
@@ -95,7 +103,10 @@ def build_schema():
             description="A model parameter: value and bounds in 'unit'; 'free' (default false) "
                         "marks it for fitting; bounds and prior default to the declared ones"),
         "component": _object(
-            {"species": {"type": "string"}, "fraction": {"type": "number", "minimum": 0},
+            {"species": {"type": "string"},
+             "fraction": {"anyOf": [{"type": "number", "minimum": 0}, _ref("parameter")],
+                          "description": "mass fraction: a parameter entry (path rings.<k>.dust.<component>), "
+                                         "or a number (fixed)"},
              "grain_size": _ref("quantity"), "shape": {"enum": ["dhs", "mie", "cde"]}},
             required=["species", "fraction"]),
         "dust": {

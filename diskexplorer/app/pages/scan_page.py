@@ -19,7 +19,7 @@ import numpy as np
 import traitlets as t
 
 from ...errors import DiskExplorerError
-from ...fitting.paths import get_value, parameter_paths, spec_for
+from ...fitting.paths import get_value, is_fraction_path, parameter_paths, spec_for
 from ..state.jobs import JobRunner
 from .job_buttons import JobButtons, comparison_to_judge
 from ..controls.param_control import unit_text
@@ -183,10 +183,14 @@ class ScanPage(w.VBox):
         self.levels = w.HTML()
         self.best_html = w.HTML()
         self.levels.add_class("dx-scan-levels")
+        # Shown while an axis is a mass fraction: what the scan does to the ring's others.
+        self.fraction_note = w.HTML(layout={"display": "none"})
+        self.fraction_note.add_class("dx-scan-fraction-note")
         self.sync_paths()
 
         controls = w.VBox([w.HTML("<div class='dx-section-title'>χ² over a grid of two parameters</div>"),
                            self.x_axis.box, self.y_axis.box,
+                           self.fraction_note,
                            w.HBox([self.scheduler, self.centre_button, self.start_button, self.cancel_button],
                                   layout={"align_items": "center"}),
                            self.progress])
@@ -211,13 +215,26 @@ class ScanPage(w.VBox):
         for box, keep, default in ((self.x_axis, old[0], defaults[0]), (self.y_axis, old[1], defaults[-1])):
             box.path.options = paths
             box.path.value = keep if keep in paths else default
+        self._update_fraction_note()
 
     def centre(self):
         """Reset both ranges to the default ranges around the model's current values."""
         for box in (self.x_axis, self.y_axis):
             self._on_path(box)
 
+    def _update_fraction_note(self):
+        fractions = [b.path.value for b in (self.x_axis, self.y_axis) if is_fraction_path(b.path.value)]
+        if not fractions:
+            self.fraction_note.layout.display = "none"
+            return
+        self.fraction_note.value = (f"<div style='font-size:11px;color:{MUTED}'>{html.escape(', '.join(fractions))}: "
+                                    "the ring's other mass fractions are rescaled proportionally, so that its "
+                                    "fractions sum to 1</div>")
+        self.fraction_note.layout.display = None
+
     def _on_path(self, box):
+        if hasattr(self, "fraction_note"):
+            self._update_fraction_note()
         if box.path.value is None:
             return
         lo, hi, log = default_range(box.path.value, get_value(self.state.scene, box.path.value))

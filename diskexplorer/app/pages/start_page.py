@@ -1,6 +1,11 @@
 """The starting-point panel: free/fixed, bounds and priors per parameter, the live document,
 save (asking before overwriting), the Python snippet, import, and a quick local refinement.
 
+Mass fractions (``rings.<k>.dust.<component>``) are rows like every other parameter; their
+prior is the ring's Dirichlet prior, and the row's first prior box holds the component's
+concentration α (1: flat). A ring's free fractions move together on the simplex (see
+:mod:`~diskexplorer.fitting.vector`), so a ring needs two free fractions or none.
+
 Everything the user sets here lives in ``state.fit_setup`` (the single source of truth, so
 sessions save it); the table writes there, and the explorer's one recompute redraws the
 document. Refinement runs :func:`~diskexplorer.fitting.refine` in a background thread
@@ -18,8 +23,8 @@ import ipywidgets as w
 
 from ...errors import DiskExplorerError
 from ...fitting.data_kinds import KIND_NAMES, WEIGHTED_KINDS
-from ...fitting.paths import get_value, parameter_paths, spec_for
-from ...fitting.priors import PRIOR_KINDS
+from ...fitting.paths import get_value, is_fraction_path, parameter_paths, spec_for
+from ...fitting.priors import FRACTION_PRIOR, PRIOR_KINDS, is_fraction_spec
 from ...fitting.vector import resolve_limits
 from ..state.jobs import JobRunner, Throttle
 from ..controls.param_control import unit_text
@@ -63,8 +68,13 @@ class _Row:
         self.free = w.Checkbox(value=False, indent=False, layout={"width": _W["free"]})
         self.lo = w.FloatText(layout={"width": _W["lo"]})
         self.hi = w.FloatText(layout={"width": _W["hi"]})
-        self.prior = w.Dropdown(options=list(PRIOR_KINDS), layout={"width": _W["prior"]})
-        self.mean = w.FloatText(layout={"width": _W["mean"], "visibility": "hidden"})
+        self.fraction = is_fraction_spec(spec)
+        # A fraction's prior is its ring's Dirichlet: the only kind offered; "mean" holds α.
+        kinds = [FRACTION_PRIOR] if self.fraction else [k for k in PRIOR_KINDS if k != FRACTION_PRIOR]
+        self.prior = w.Dropdown(options=kinds, layout={"width": _W["prior"]})
+        self.mean = w.FloatText(layout={"width": _W["mean"], "visibility": "hidden"},
+                                **({"tooltip": "concentration α of the ring's Dirichlet prior (1: flat)"}
+                                   if self.fraction else {}))
         self.sigma = w.FloatText(layout={"width": _W["sigma"], "visibility": "hidden"})
         for name in ("free", "lo", "hi", "prior", "mean", "sigma"):
             getattr(self, name).observe((lambda n: lambda ch: on_edit(self, n))(name), "value")
@@ -124,7 +134,7 @@ class StartPage(w.VBox):
 
         head = w.HBox([w.HTML(f"<b style='width:{_W[k]};display:inline-block'>{t}</b>", layout={"width": _W[k]})
                        for k, t in (("name", "parameter"), ("value", "value"), ("free", "free"), ("lo", "lower"),
-                                    ("hi", "upper"), ("prior", "prior"), ("mean", "mean"), ("sigma", "σ"))])
+                                    ("hi", "upper"), ("prior", "prior"), ("mean", "mean / α"), ("sigma", "σ"))])
         head.add_class("dx-export-head")
         self.table = w.VBox(layout={"max_height": "470px", "overflow": "auto", "width": "690px"})
         self.fix_all_button = w.Button(description="fix all", layout={"width": "70px"})
@@ -230,6 +240,9 @@ class StartPage(w.VBox):
         else:
             kind = row.prior.value
             entry = {"kind": kind}
+            if kind == FRACTION_PRIOR:
+                alpha = float(row.mean.value)
+                entry["concentration"] = alpha if math.isfinite(alpha) and alpha > 0 else 1.0
             if kind == "normal":
                 mean, sigma = float(row.mean.value), float(row.sigma.value)
                 if name == "prior" or not sigma > 0:
@@ -290,9 +303,13 @@ class StartPage(w.VBox):
                 if normal:
                     _assign(row.mean, value=float(prior["mean"]))
                     _assign(row.sigma, value=float(prior["sigma"]))
+                elif prior["kind"] == FRACTION_PRIOR:
+                    _assign(row.mean, value=float(prior["concentration"]))
                 vis = "visible" if normal else "hidden"
-                if row.mean.layout.visibility != vis:
-                    row.mean.layout.visibility = vis
+                mean_vis = "visible" if normal or row.fraction else "hidden"
+                if row.mean.layout.visibility != mean_vis:
+                    row.mean.layout.visibility = mean_vis
+                if row.sigma.layout.visibility != vis:
                     row.sigma.layout.visibility = vis
 
     def build_document(self):
@@ -468,6 +485,9 @@ class StartPage(w.VBox):
         for p, err in zip(res.parameters, res.uncertainties):
             unit = html.escape(unit_text(p.unit))
             at_edge = " ⚠ at a bound" if (math.isclose(p.value, p.lo) or math.isclose(p.value, p.hi)) else ""
+            if is_fraction_path(p.path) and p.value == 0.0:
+                # The data do not want this component: a result, not a bound artefact.
+                at_edge = " exactly 0: leaves the mixture"
             rows.append(f"<tr><td>{html.escape(p.path)}</td><td>{_fmt(get_value(start, p.path))}</td>"
                         f"<td><b>{_fmt(p.value)}</b></td><td>± {_fmt(float(err))}</td><td>{unit}"
                         f"<span style='color:{OKABE_ITO['vermillion']}'>{at_edge}</span></td></tr>")

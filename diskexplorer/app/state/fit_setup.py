@@ -22,7 +22,8 @@ def clean_fit_setup(setup):
     ----------
     setup : dict
         ``free`` (list of str), ``bounds`` (path → [lo, hi]), ``priors`` (path → dict with
-        ``kind`` and, for a normal prior, ``mean`` and ``sigma``), ``weights`` (kind → float).
+        ``kind`` and, for a normal prior, ``mean`` and ``sigma``; for the Dirichlet prior of a
+        mass fraction, ``concentration``), ``weights`` (kind → float).
 
     Returns
     -------
@@ -57,6 +58,14 @@ def clean_fit_setup(setup):
                     continue
                 if not (math.isfinite(entry["mean"]) and math.isfinite(entry["sigma"]) and entry["sigma"] > 0):
                     continue
+            if d["kind"] == "dirichlet":
+                try:
+                    alpha = float(d.get("concentration", 1.0))
+                except (TypeError, ValueError, OverflowError):
+                    continue
+                if not (math.isfinite(alpha) and alpha > 0):
+                    continue
+                entry["concentration"] = alpha
             priors[str(p)] = entry
     weights = {}
     for k, v in mapping("weights").items():
@@ -79,6 +88,12 @@ def doc_free(doc):
                 if node["free"]:
                     out.append(prefix)
                 return
+            if node.get("kind") == "mixture" and isinstance(node.get("components"), list):
+                # A component's fraction sits at rings.<k>.dust.<component>, not at its list index.
+                for c in node["components"]:
+                    if isinstance(c, dict) and isinstance(c.get("fraction"), dict) and c["fraction"].get("free"):
+                        out.append(f"{prefix}.{_component_name(c)}")
+                return
             for k, v in node.items():
                 walk(v, f"{prefix}.{k}" if prefix else k)
         elif isinstance(node, list):
@@ -87,6 +102,17 @@ def doc_free(doc):
 
     walk(doc.get("scene", {}), "")
     return out
+
+
+def _component_name(c):
+    """The component part of a fraction's path (see :mod:`~diskexplorer.fitting.paths`)."""
+    name = str(c.get("species"))
+    if "shape" not in c and "grain_size" not in c:
+        return name
+    size = c.get("grain_size")
+    if c.get("shape") == "cde" or size is None:
+        return f"{name}({c.get('shape')})"
+    return f"{name}({c.get('shape')},{float(size['value'])!r}um)"
 
 
 def describe_state_data(state, weights=None):
