@@ -60,6 +60,9 @@ def main(argv=None):
         print(f"--- {tag}")
         run(app, "ring T_in (one ring's temperatures)", lambda k: setattr(t_in, "value", 1400.0 + 13.0 * k))
         run(app, "inclination (geometry: all rings)", lambda k: setattr(inc, "value", 30.0 + 0.37 * k))
+        mix = card.mixture
+        run(app, "dust fraction (one ring's mixture; goal < 30 ms)",
+            lambda k: setattr(mix.fraction_controls["forsterite"].slider, "value", 0.10 + 0.01 * (k % 10)))
         run(app, "curve position angle (one curve)",
             lambda k: setattr(app.curve_pa.slider, "value", 10.0 + 2.3 * k))
         run(app, "log V² toggle (style only)", lambda k: setattr(app.toggles["log_vis2"], "value", k % 2 == 0))
