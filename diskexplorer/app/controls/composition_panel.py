@@ -25,8 +25,10 @@ __all__ = ["CompositionPanel", "DEFAULT_SWAP"]
 #: inner disk, metallic iron against amorphous carbon.
 DEFAULT_SWAP = "iron:amorphous_carbon"
 
-_TABLE_CSS = ("<style>.dx-composition-table td, .dx-composition-table th {padding: 1px 8px; text-align: right}"
-              " .dx-composition-table td:first-child {text-align: left}</style>")
+# The card's column is narrow: tables scroll sideways rather than lose columns.
+_TABLE_CSS = ("<style>.dx-composition-table td, .dx-composition-table th {padding: 1px 4px; text-align: right;"
+              " white-space: nowrap} .dx-composition-table td:first-child {text-align: left; white-space: normal}"
+              " .dx-composition-scroll {overflow-x: auto; max-width: 100%}</style>")
 
 
 def _species():
@@ -84,8 +86,8 @@ class CompositionPanel(w.VBox):
         self.discard_button.on_click(lambda b: self.discard())
         self.result_actions = w.HBox([self.accept_button, self.discard_button], layout={"display": "none"})
         self.swap = w.Text(value=DEFAULT_SWAP, description="compare", style={"description_width": "60px"},
-                           layout={"width": "260px"}, placeholder="species:species")
-        self.compare_button = w.Button(description="compare", layout={"width": "90px"})
+                           layout={"width": "220px"}, placeholder="species:species")
+        self.compare_button = w.Button(description="compare", layout={"width": "80px"})
         self.then_compare = w.Checkbox(value=True, indent=False, description="compare after each solve",
                                        layout={"width": "auto"})
         self.compare_button.on_click(lambda b: self.start_compare())
@@ -98,12 +100,13 @@ class CompositionPanel(w.VBox):
         note = w.HTML(f"<span style='color:{MUTED};font-size:11px'>against the data shown, with their weights; "
                       "everything but the fractions (and Σ_in) held</span>")
         super().__init__([self.components, self.sigma_in,
-                          w.HBox([self.solve_button, self.cancel_button, self.progress],
-                                 layout={"align_items": "center"}),
+                          w.HBox([self.solve_button, self.cancel_button], layout={"align_items": "center"}),
+                          self.progress,
                           note, self.result_html, self.result_actions,
-                          w.HBox([self.swap, self.compare_button, self.drop_button],
-                                 layout={"align_items": "center"}),
-                          self.then_compare,
+                          w.HBox([self.swap, self.compare_button], layout={"align_items": "center",
+                                                                          "flex_flow": "row wrap"}),
+                          w.HBox([self.then_compare, self.drop_button], layout={"align_items": "center",
+                                                                               "flex_flow": "row wrap"}),
                           self.compare_html, self.drop_html])
         self.add_class("dx-composition")
 
@@ -314,9 +317,10 @@ def result_table(res):
     return (f"{_TABLE_CSS}<div style='font-size:12px;color:{INK}'>χ² {res.chi2_before:,.6g} → "
             f"<b style='color:{colour}'>{res.chi2_after:,.6g}</b> "
             f"<span style='color:{MUTED}'>(N = {res.n_points}, k = {res.n_free})</span>"
-            f"<table class='dx-composition-table' style='border-collapse:collapse;margin-top:4px'>"
+            f"<div class='dx-composition-scroll'><table class='dx-composition-table' "
+            f"style='border-collapse:collapse;margin-top:4px'>"
             f"<tr style='color:{ACCENT}'><th align=left>component</th><th>before</th><th>solved</th>"
-            f"<th>1σ</th></tr>{''.join(rows)}</table>"
+            f"<th>1σ</th></tr>{''.join(rows)}</table></div>"
             f"<div style='color:{MUTED};font-size:11px'>1σ from (JᵀJ)⁻¹ on the simplex, not rescaled by χ²/N; "
             "the model is unchanged until you accept</div></div>")
 
@@ -329,9 +333,10 @@ def alternatives_table(res):
         name = f"<b>{html.escape(r['name'])}</b>" if best else html.escape(r["name"])
         rows.append(f"<tr><td>{name}</td><td>{r['chi2']:,.6g}</td><td>{r['reduced_chi2']:.4f}</td><td>{r['k']}</td>"
                     f"<td>{r['delta_aic']:.4g}</td><td>{r['delta_bic']:.4g}</td></tr>")
-    return (f"{_TABLE_CSS}<table class='dx-composition-table' style='border-collapse:collapse;font-size:12px;"
-            f"color:{INK}'><tr style='color:{ACCENT}'><th align=left>alternative</th><th>χ²</th><th>χ²/(N−k)</th>"
-            f"<th>k</th><th>ΔAIC</th><th>ΔBIC</th></tr>{''.join(rows)}</table>"
+    return (f"{_TABLE_CSS}<div class='dx-composition-scroll'><table class='dx-composition-table' "
+            f"style='border-collapse:collapse;font-size:11px;color:{INK}'><tr style='color:{ACCENT}'>"
+            f"<th align=left>alternative</th><th>χ²</th><th>χ²/(N−k)</th>"
+            f"<th>k</th><th>ΔAIC</th><th>ΔBIC</th></tr>{''.join(rows)}</table></div>"
             f"<div style='color:{MUTED};font-size:11px'>ΔAIC (Akaike 1974), ΔBIC (Schwarz 1978) against the lowest; "
             "&gt; 10 is strong evidence against; both assume independent Gaussian errors</div>")
 
@@ -342,8 +347,9 @@ def drop_one_table(res):
     for r, f in zip(res.rows, res.full.rings[0].fractions):
         rows.append(f"<tr><td>{html.escape(r['component'])}</td><td>{f:.4f}</td><td>{r['chi2']:,.6g}</td>"
                     f"<td>{r['delta_chi2']:.4g}</td><td>{r['delta_bic']:.4g}</td></tr>")
-    return (f"{_TABLE_CSS}<table class='dx-composition-table' style='border-collapse:collapse;font-size:12px;"
-            f"color:{INK}'><tr style='color:{ACCENT}'><th align=left>dropped</th><th>fraction</th>"
-            f"<th>χ² without</th><th>Δχ²</th><th>ΔBIC</th></tr>{''.join(rows)}</table>"
+    return (f"{_TABLE_CSS}<div class='dx-composition-scroll'><table class='dx-composition-table' "
+            f"style='border-collapse:collapse;font-size:11px;color:{INK}'><tr style='color:{ACCENT}'>"
+            f"<th align=left>dropped</th><th>fraction</th>"
+            f"<th>χ² without</th><th>Δχ²</th><th>ΔBIC</th></tr>{''.join(rows)}</table></div>"
             f"<div style='color:{MUTED};font-size:11px'>χ² with every component {res.full.chi2_after:,.6g}; "
             "ΔBIC &gt; 0: the data need it (&gt; 10: strongly), for independent Gaussian errors</div>")
