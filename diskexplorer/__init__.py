@@ -9,7 +9,7 @@ __version__ = "0.1.0"
 from .errors import DataError, DiskExplorerError, DustError, ParameterError, SeedError
 
 # model (importing dust registers species names and mixtures as ring opacities)
-from . import dust
+from . import dust  # noqa: F401 - importing it registers the species
 from .dust import DustMix, compute_kappa, compute_kappa_table
 from .physics import KappaTable, PhotosphereTable, PowerLawOpacity, Ring, Star, planck_nu
 from .observables import Scene

@@ -1,6 +1,7 @@
 """Take the README's screenshots: the explorer served by voila, in headless Chromium.
 
-Run from the project root: ``.venv/bin/python docs/take_screenshots.py``. Each picture
+Run from the project root: ``.venv/bin/python docs/take_screenshots.py [NAME.png ...]``
+(names: retake only those). Each picture
 shows the app at its opening state on the sample data (the true scene, χ²/N ≈ 1), with
 one tab selected. Needs Debian's /usr/bin/chromium and the playwright package.
 """
@@ -26,12 +27,16 @@ VIEWS = [
     ("export.png", ["starting point"]),
     ("scan.png", ["χ² grid", "start scan"]),
     ("derived.png", ["derived quantities"]),
+    # The inner ring's composition solved from the sample's start (one press: the solve,
+    # then iron against carbon), and each species' share on the spectrum page.
+    ("composition.png", ["solve composition", "css=.dx-composition button:has-text('solve composition')"]),
+    ("species.png", ["SED & spectrum", "each dust species' share of its ring (dash-dotted)"]),
 ]
 # Extra waiting after the last click (a scan on the local cluster takes a while).
-WAIT_MS = {"scan.png": 45_000}
+WAIT_MS = {"scan.png": 45_000, "composition.png": 40_000}
 
 
-def main(extra_views=()):
+def main(extra_views=(), only=None):
     from playwright.sync_api import sync_playwright
 
     SHOTS.mkdir(parents=True, exist_ok=True)
@@ -50,12 +55,17 @@ def main(extra_views=()):
         with sync_playwright() as p:
             browser = p.chromium.launch(executable_path="/usr/bin/chromium", headless=True, args=ARGS)
             for name, tabs in list(VIEWS) + list(extra_views):
+                if only and name not in only:
+                    continue
                 page = browser.new_page(viewport={"width": 1500, "height": 1100})
                 page.goto(f"http://127.0.0.1:{port}/", timeout=120_000)
                 page.wait_for_selector(".dx-fig-vis2 svg path.line", timeout=120_000)
                 page.wait_for_timeout(1500)
                 for label in tabs:
-                    page.get_by_text(label, exact=True).first.click()
+                    if label.startswith("css="):
+                        page.locator(label[4:]).first.click()
+                    else:
+                        page.get_by_text(label, exact=True).first.click()
                     page.wait_for_timeout(2500)
                 page.wait_for_timeout(WAIT_MS.get(name, 0))
                 page.screenshot(path=str(SHOTS / name), full_page=False)
@@ -68,4 +78,4 @@ def main(extra_views=()):
 
 
 if __name__ == "__main__":
-    main()
+    main(only=sys.argv[1:] or None)   # file names to retake only those

@@ -14,7 +14,8 @@ from pathlib import Path
 import pytest
 from _processes import free_port
 
-__all__ = ["CHROMIUM", "ROOT", "NOTEBOOK", "OUT", "ARGS", "PAGES", "CURVES_JS", "require_browser", "served_app", "open_app",
+__all__ = ["CHROMIUM", "ROOT", "NOTEBOOK", "OUT", "ARGS", "PAGES", "CURVES_JS", "FIRST_CURVE_JS", "README_CELL",
+           "require_browser", "served_app", "open_app", "jupyter_server", "open_notebook", "run_first_cell",
            "drawn_control_count", "first_page_timeline", "press_timings"]
 
 CHROMIUM = "/usr/bin/chromium"
@@ -44,12 +45,12 @@ def _wait_port(port, proc, timeout=60.0):
     end = time.time() + timeout
     while time.time() < end:
         if proc.poll() is not None:
-            raise RuntimeError(f"voila exited with code {proc.returncode} before listening on port {port}")
+            raise RuntimeError(f"the server exited with code {proc.returncode} before listening on port {port}")
         with socket.socket() as s:
             if s.connect_ex(("127.0.0.1", port)) == 0:
                 return
         time.sleep(0.2)
-    raise TimeoutError(f"voila did not listen on port {port}")
+    raise TimeoutError(f"the server did not listen on port {port}")
 
 
 @contextlib.contextmanager
@@ -83,14 +84,19 @@ def served_app(notebook=NOTEBOOK, env=None, log=None, preheat=True):
 
 
 @contextlib.contextmanager
-def open_app(url, viewport=(1500, 1100)):
-    """A playwright page showing the served app once its first V² curve is drawn."""
+def open_app(url, viewport=(1500, 1100), on_page=None):
+    """A playwright page showing the served app once its first V² curve is drawn.
+
+    ``on_page(page)`` runs before the page navigates (e.g. to collect its console).
+    """
     from playwright.sync_api import sync_playwright
 
     with sync_playwright() as p:
         browser = p.chromium.launch(executable_path=CHROMIUM, headless=True, args=ARGS)
         try:
             page = browser.new_page(viewport={"width": viewport[0], "height": viewport[1]})
+            if on_page is not None:
+                on_page(page)
             page.goto(url, timeout=120_000)
             page.wait_for_function(
                 "() => Array.from(document.querySelectorAll('.dx-fig-vis2 svg path.line'))"
@@ -98,6 +104,95 @@ def open_app(url, viewport=(1500, 1100)):
             yield page
         finally:
             browser.close()
+
+
+#: The README's notebook cell.
+README_CELL = "import diskexplorer\napp = diskexplorer.explore()\napp"
+
+#: True once the V² figure has drawn a model curve.
+FIRST_CURVE_JS = ("() => Array.from(document.querySelectorAll('.dx-fig-vis2 svg path.line'))"
+                  ".some(p => (p.getAttribute('d') || '').length > 200)")
+
+
+@contextlib.contextmanager
+def jupyter_server(front_end, folder, cells=(README_CELL,), log=None):
+    """A real JupyterLab or Notebook 7 server on a free loopback port, serving ``folder``.
+
+    ``folder`` gets ``explorer.ipynb`` holding ``cells`` (code). The token reaches the server
+    in ``JUPYTER_TOKEN`` (never on the command line, which other users can read); the
+    server's configuration, runtime and workspace folders are inside ``folder``, so nothing
+    of the user's Jupyter set-up is read or written. Yields the notebook's URL with the
+    token; on exit the server is stopped with everything it started.
+
+    Parameters
+    ----------
+    front_end : {"lab", "notebook"}
+    """
+    import secrets
+
+    import nbformat
+    from _processes import stop_tree
+
+    from diskexplorer.app.serving.server import KERNEL_ENVIRONMENT
+
+    folder = Path(folder)
+    nb = nbformat.v4.new_notebook(cells=[nbformat.v4.new_code_cell(c) for c in cells])
+    nb.metadata["kernelspec"] = {"name": "python3", "display_name": "Python 3", "language": "python"}
+    nbformat.write(nb, folder / "explorer.ipynb")
+    home = folder / ".jupyter-home"
+    for sub in ("config", "data", "runtime", "workspaces", "settings"):
+        (home / sub).mkdir(parents=True, exist_ok=True)
+    token = secrets.token_urlsafe(24)
+    port = free_port()
+    env = {**KERNEL_ENVIRONMENT, **os.environ, "JUPYTER_TOKEN": token,
+           "JUPYTER_CONFIG_DIR": str(home / "config"), "JUPYTER_RUNTIME_DIR": str(home / "runtime"),
+           "JUPYTERLAB_WORKSPACES_DIR": str(home / "workspaces"), "JUPYTERLAB_SETTINGS_DIR": str(home / "settings")}
+    app = {"lab": "jupyterlab", "notebook": "notebook"}[front_end]
+    out = open(log, "wb") if log is not None else subprocess.DEVNULL
+    proc = subprocess.Popen([sys.executable, "-m", app, "--no-browser", f"--port={port}", "--ServerApp.ip=127.0.0.1",
+                             "--ServerApp.port_retries=0", f"--ServerApp.root_dir={folder}",
+                             # No look-ups on the network: no news, update checks or extension index.
+                             "--LabApp.news_url=", "--LabApp.check_for_updates_class=jupyterlab.NeverCheckForUpdate",
+                             "--LabApp.extension_manager=readonly"]
+                            + (["--allow-root"] if hasattr(os, "geteuid") and os.geteuid() == 0 else []),
+                            stdout=out, stderr=subprocess.STDOUT, cwd=str(folder), env=env)
+    try:
+        _wait_port(port, proc)
+        path = "lab/tree/explorer.ipynb" if front_end == "lab" else "notebooks/explorer.ipynb"
+        yield f"http://127.0.0.1:{port}/{path}?token={token}"
+    finally:
+        stop_tree(proc)
+        if log is not None:
+            out.close()
+
+
+def open_notebook(page, url, timeout=120_000):
+    """Open the notebook at ``url`` in ``page`` and wait until its kernel is idle."""
+    page.goto(url, timeout=timeout)
+    page.wait_for_selector(".jp-Notebook .jp-Cell", timeout=timeout)
+    # The kernel status reads "Idle" in both front ends once the kernel has started.
+    page.wait_for_function("() => !!document.querySelector('.jp-Notebook') && "
+                           "!document.querySelector('.jp-Dialog')", timeout=timeout)
+
+
+def run_first_cell(page, timeout=120_000):
+    """Run the notebook's first cell as a user does (click it, Shift+Enter); returns the time
+    (``performance.now()``, ms) of the key press. Waits for the first V² curve."""
+    cell = page.locator(".jp-Notebook .jp-Cell").first
+    prompt = "() => (document.querySelector('.jp-Notebook .jp-Cell .jp-InputArea-prompt') || {}).textContent || ''"
+    for attempt in range(3):
+        # A key press before the kernel is connected is lost: run again until the prompt says
+        # the cell is queued or done ("[*]:", "[1]:").
+        cell.locator(".cm-content").click()
+        t0 = page.evaluate("() => performance.now()")
+        page.keyboard.press("Shift+Enter")
+        try:
+            page.wait_for_function(f"() => /\\[(\\*|\\d+)\\]/.test(({prompt})())", timeout=15_000)
+            break
+        except Exception:  # noqa: BLE001 - try again, then let the wait below fail
+            continue
+    page.wait_for_function(FIRST_CURVE_JS, timeout=timeout)
+    return t0
 
 
 #: Figures (by CSS class) of each page of the figure tabs; each must draw at least one SVG

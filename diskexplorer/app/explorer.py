@@ -20,6 +20,7 @@ from .figures import (Chi2Table, ClosureFigure, CorrelatedFluxFigure, CorrFluxPo
                       ImageFigure, ProfilesFigure, SedFigure, SpectrumFigure, VisAmpFigure, Vis2Figure)
 from .figures.figure_set import FigureSet
 from .figures.base import DOTS_CSS
+from .snapshot import SNAPSHOT_CSS, Snapshot
 from .state.frames import Frame, make_frame, model_curve
 from .state.model_views import image, profiles
 from .palette import ACCENT, INK, MUTED, PAPER
@@ -50,7 +51,22 @@ _CSS = f"""
 .dx-ring-card {{ border-left: 3px solid #d8d4ca; padding-left: 6px; margin: 6px 0; }}
 .dx-controls {{ border-right: 1px solid #e6e4de; padding-right: 6px; }}
 .dx-message {{ font-size: 12px; color: {INK}; }}
+.dx-caption {{ font-size: 11px; color: {MUTED}; margin-left: 62px; }}
+/* A narrow output (a notebook beside its file browser) wraps tab bars and buttons grow to
+   their label, instead of cutting labels with an ellipsis. */
+.dx-root .widget-tab > .lm-TabBar, .dx-root .jupyter-widget-tab > .lm-TabBar {{ height: auto; min-height: 25px; }}
+.dx-root .lm-TabBar-content {{ flex-wrap: wrap; }}
+.dx-root .lm-TabBar-tab {{ flex: 0 0 auto !important; min-width: max-content !important; }}
+.dx-root .lm-TabBar-tabLabel {{ overflow: visible; }}
+.dx-root .jupyter-button {{ min-width: max-content; }}
+/* What is wider than its page (a long snippet, a wide table) scrolls inside it. */
+.dx-root pre {{ max-width: 100%; overflow-x: auto; }}
+.dx-pages .widget-tab-contents, .dx-pages > .lm-TabPanel-stackedPanel, .dx-export-panel {{ overflow-x: auto; }}
+/* Rows of fixed-width fields wrap rather than run past the page. */
+.dx-scan-panel .widget-hbox, .dx-derived-panel .widget-hbox, .dx-data-panel .widget-hbox {{ flex-wrap: wrap; }}
+.dx-root .widget-select-multiple .widget-label {{ min-width: max-content; }}
 {DOTS_CSS}
+{SNAPSHOT_CSS}
 </style>"""
 
 
@@ -110,6 +126,7 @@ class Explorer(w.VBox):
         self._data_generation = 0
         self.view = None
         self.frame = None
+        self._snapshot = None
 
         # figures
         # In the order a recompute sends their updates: the first page's figures first, so
@@ -178,17 +195,27 @@ class Explorer(w.VBox):
         self.control_tabs.observe(self._on_control_tab_change, "selected_index")
         self.figure_tabs = w.Tab([self._build_interferometry_page()] + [lazy[name] for name in self.PAGE_ORDER[1:]],
                                  titles=tuple(self.PAGE_TITLES[name] for name in self.PAGE_ORDER))
-        self.figure_tabs.layout = {"flex": "1 1 auto", "min_width": "560px"}
+        # min_width 0: the figures take the width there is (they shrink to their own minimum).
+        self.figure_tabs.layout = {"flex": "1 1 auto", "min_width": "0"}
+        self.figure_tabs.add_class("dx-pages")
         self.figure_tabs.observe(self._on_tab_change, "selected_index")
+        # In a narrow output the figures may take the whole width: the controls fold away.
+        self.show_controls = w.ToggleButton(value=True, description="controls", icon="sliders",
+                                            tooltip="show or hide the control column")
+        self.show_controls.add_class("dx-show-controls")
+        self.show_controls.observe(self._on_show_controls, "value")
         header = w.HBox([w.HTML(f"{_CSS}<span style='font-size:18px;font-weight:700'>diskexplorer</span>"
                                 f"<span style='color:{MUTED};margin-left:10px'>inner-disk models against "
                                 "interferometry, SED and the silicate band</span>"),
-                         ], layout={"justify_content": "space-between"})
+                         self.show_controls], layout={"justify_content": "space-between", "align_items": "center"})
         header.add_class("dx-header")
         right = w.VBox([w.HBox([self.chi2.widget], layout={"padding": "4px 0"}), self.figure_tabs],
-                       layout={"flex": "1 1 auto"})
+                       layout={"flex": "1 1 auto", "min_width": "0"})
         super().__init__([header, self.message_area, w.HBox([self.control_tabs, right], layout={"width": "100%"})])
         self.add_class("dx-root")
+
+    def _on_show_controls(self, change):
+        self.control_tabs.layout.display = None if change["new"] else "none"
 
     # ------------------------------------------------------------------ pages
     # Each builder returns (page widget, {attribute: object}); the objects become the
@@ -276,6 +303,33 @@ class Explorer(w.VBox):
             f"<div style='background:#fff4e0;border-left:3px solid #E69F00;padding:3px 8px'>"
             f"{__import__('html').escape(text)}</div>")
 
+    #: Whether displaying the explorer also writes its picture for the saved notebook
+    #: (:mod:`~diskexplorer.app.snapshot`); a served page has no saved notebook.
+    show_snapshot = True
+
+    def _ipython_display_(self):
+        """The widget view, then (in a notebook) the picture a saved notebook keeps of it."""
+        from IPython.display import publish_display_data
+
+        bundle = self._repr_mimebundle_()
+        data, metadata = bundle if isinstance(bundle, tuple) else (bundle, {})
+        publish_display_data(data, metadata=metadata)
+        if self.show_snapshot:
+            if self._snapshot is None:
+                self._snapshot = Snapshot(self, self.debouncer.scheduler)
+            self._snapshot.show()
+
+    def snapshot(self):
+        """Redraw now the picture of the explorer that a saved notebook shows.
+
+        The explorer redraws it by itself a few seconds after each change has settled
+        (:data:`~diskexplorer.app.snapshot.SNAPSHOT_DELAY`); call this right before saving
+        to be sure it shows the last change. Nothing happens before the explorer is displayed.
+        """
+        self.flush()
+        if self._snapshot is not None:
+            self._snapshot.draw()
+
     def _on_state_change(self, change):
         if change["name"] != "message":
             self.debouncer.trigger(change["name"])
@@ -344,6 +398,8 @@ class Explorer(w.VBox):
             self.derived_page.refresh()
         self.timings.append(time.perf_counter() - t0)
         self.recompute_log.append(sorted(tiers))
+        if self._snapshot is not None:
+            self._snapshot.changed()
 
     def _draw(self, name, fig, tiers):
         """Bring figure ``name`` up to date for ``tiers``: the one draw path of every figure.

@@ -108,7 +108,9 @@ def test_enable_toggle_zeroes_the_ring(app):
     card.enabled.value = False
     settle(app)
     assert not app.state.scene.rings[1].enabled
-    assert np.all(~np.isfinite(ring_sed(app, 1)))  # zero flux is not drawn on a log axis
+    # Zero flux is not drawn on a log axis: no segment, only the lone end point that keeps
+    # bqplot's label placement finite (figures.base.finite_ends), which draws no stroke.
+    assert np.isfinite(ring_sed(app, 1)).sum() <= 1
 
 
 def test_modulation_controls_set_c1_s1(app):

@@ -88,3 +88,53 @@ def test_wavelength_groups_bin_many_wavelengths():
 def test_wavelength_groups_small(n):
     group, colours = wavelength_groups(np.full(n, 3.0), 3.0, 3.0)
     assert group.size == n and len(colours) == n
+
+
+def test_finite_ends_draw_the_same_and_end_every_row_on_a_point():
+    from diskexplorer.app.figures.base import finite_ends
+
+    nan = np.nan
+    # Trailing breaks move to the front: the polyline is the same, its last point is finite.
+    x, y = finite_ends(np.array([1.0, 2.0, nan, 3.0, 4.0, nan]), np.array([5.0, 6.0, nan, 7.0, 8.0, nan]))
+    np.testing.assert_array_equal(x, [nan, 1.0, 2.0, nan, 3.0, 4.0])
+    np.testing.assert_array_equal(y, [nan, 5.0, 6.0, nan, 7.0, 8.0])
+    # A shared x with rows of y that end differently: x becomes one row per y row.
+    x, y = finite_ends(np.array([1.0, 2.0, 3.0]), np.array([[1.0, 2.0, 3.0], [1.0, nan, nan], [nan, nan, nan]]))
+    assert x.shape == y.shape == (3, 3)
+    np.testing.assert_array_equal(x[1], [2.0, 3.0, 1.0])
+    np.testing.assert_array_equal(y[1], [nan, nan, 1.0])
+    # A row with nothing to draw ends on a lone point (no stroke); nothing finite anywhere empties.
+    assert np.isfinite(y[2]).sum() == 1 and np.isfinite(x[2, -1]) and np.isfinite(y[2, -1])
+    assert finite_ends(np.array([nan]), np.array([nan]))[0].size == 0
+    # Rows that already end on a point are passed through unchanged (no copy sent).
+    a = np.array([1.0, 2.0])
+    assert finite_ends(a, a)[0] is not None and np.shares_memory(finite_ends(a, a)[0], a)
+
+
+def test_every_drawn_line_ends_on_a_finite_point(app):
+    """What the page would log as errors: NaN at a row's end (bqplot's label transform), rows
+    of NaN only (``d="null"``), and log scales of the figures without a domain."""
+    import bqplot as bq
+
+    from explorer_helpers import settle
+
+    app.render_hidden = True
+    for name in app.PAGE_ORDER:
+        app.figure_tabs.selected_index = app.PAGES[name]
+        settle(app)
+    app.ring_deck.cards[1].enabled.value = False      # a component of zero flux: a row of NaN
+    settle(app)
+    figures = list(app.figures.values())
+    assert len(figures) >= 8
+    for fig in figures:
+        for widget in vars(fig).values():
+            if not isinstance(widget, bq.Figure):
+                continue
+            for mark in widget.marks:
+                if not isinstance(mark, bq.Lines) or np.asarray(mark.y).size == 0:
+                    continue
+                xs, ys = np.broadcast_arrays(np.atleast_2d(mark.x), np.atleast_2d(mark.y))
+                assert (np.isfinite(xs[:, -1]) & np.isfinite(ys[:, -1])).all(), (widget.title, mark.labels)
+    profiles = app.figures["profiles"]
+    for part in profiles.parts.values():
+        assert part["ax"].scale.min > 0 and part["ax"].scale.max > part["ax"].scale.min

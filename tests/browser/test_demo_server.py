@@ -4,6 +4,7 @@ These start the real command in a subprocess (voila and its kernels are real pro
 so they take a while; they check processes and sockets, never durations against a goal
 beyond the generous limits a user would notice (a stop within 10 s, a cull within a minute).
 """
+import os
 import signal
 import socket
 import subprocess
@@ -229,3 +230,54 @@ def test_a_served_page_draws_with_the_token_and_reads_only_its_folders(tmp_path)
                 assert "SECRET" not in message and "private" not in message
     finally:
         server.stop()
+
+
+@pytest.mark.browser
+def test_address_is_printed_once_the_preheated_kernel_is_ready(tmp_path, capsys):
+    """`diskexplorer demo` says "warming up…" and prints its address only once the pool's
+    kernel has built the explorer; a page opened at that moment (and a second one shortly
+    after) is served from a ready kernel. The times are printed, not asserted (goals live
+    in benchmarks/bench_browser.py)."""
+    from _browser import ARGS, CHROMIUM, PAGES, first_page_timeline, require_browser
+    from playwright.sync_api import sync_playwright
+
+    from diskexplorer.app.serving.server import READY_VARIABLE
+
+    require_browser()
+    server = DemoServer(port=free_port(), workdir=tmp_path)
+    # serve_forever's own steps (the order is checked below): start, wait until ready, then
+    # the address a user opens at once.
+    server.start()
+    try:
+        t0 = time.monotonic()
+        ready = server.wait_ready(timeout=120)
+        waited = time.monotonic() - t0
+        assert ready and server.ready_kernels() >= 1
+        marks = os.listdir(psutil.Process(server.process.pid).environ()[READY_VARIABLE])
+        # The mark is the preheated kernel's: one of voila's kernels wrote it.
+        assert {int(m) for m in marks} <= {p.pid for p in _kernels(server.process.pid)}
+        with sync_playwright() as p:
+            browser = p.chromium.launch(executable_path=CHROMIUM, headless=True, args=ARGS)
+            try:
+                first = first_page_timeline(browser.new_page(viewport={"width": 1500, "height": 1100}), server.url,
+                                            figures=PAGES["interferometry"][:1])
+            finally:
+                browser.close()
+        with capsys.disabled():
+            print(f"\ndemo ready after {waited:.1f} s; a page opened then: first V² curve after "
+                  f"{first['first_curve']:.2f} s")
+    finally:
+        server.stop()
+    assert not os.path.exists(server.ready_dir)
+
+
+def test_serve_forever_warms_up_before_the_address(tmp_path, monkeypatch):
+    server = DemoServer(port=free_port(), workdir=tmp_path)
+    order = []
+    monkeypatch.setattr(server, "start", lambda: order.append("start"))
+    monkeypatch.setattr(server, "wait_ready", lambda timeout=None: order.append("ready") or True)
+    monkeypatch.setattr(server, "wait", lambda: 0)
+    monkeypatch.setattr(server, "stop", lambda: order.append("stop"))
+    server.serve_forever(say=lambda m: order.append(m))
+    assert order[:3] == ["start", "diskexplorer: warming up…", "ready"]
+    assert "serving the explorer at" in order[3] and order[-1] == "stop"

@@ -9,6 +9,9 @@ for either, so each :class:`~diskexplorer.app.controls.param_control.ParamContro
 move: ``aria-label`` from the parameter's label and description, ``aria-valuenow`` /
 ``aria-valuemin`` / ``aria-valuemax`` as values in the parameter's unit, and
 ``aria-valuetext`` such as "0.34 au".
+
+The same front end keeps the control's keys (arrows, Page Up/Down, Home, End) for the
+control in every front end: a notebook's shortcuts never see them (see ``installKeyGuard``).
 """
 from __future__ import annotations
 
@@ -18,6 +21,45 @@ import traitlets as t
 __all__ = ["SliderAria"]
 
 _ESM = r"""
+// The keys a slider handle or a number box answers. A notebook front end binds some of
+// them as shortcuts (Notebook 7 in command mode: ArrowRight moves to the heading below) and
+// takes the key before the control sees it.
+const CONTROL_KEYS = new Set(["ArrowLeft", "ArrowRight", "ArrowUp", "ArrowDown", "PageUp", "PageDown",
+                              "Home", "End"]);
+
+function controlKey(e) {
+  return CONTROL_KEYS.has(e.key) && !e.ctrlKey && !e.metaKey && !e.altKey;
+}
+
+// Lumino (JupyterLab, Notebook 7) matches a shortcut by walking from the key's target up
+// to the document and stops at an element marked data-lm-suppress-shortcuts. Notebook 7
+// listens on the document in the capture phase, before any handler of ours below it, so
+// one listener on the window (whose capture phase comes first) marks the key's target in a
+// control for the time of that one key press. Once per page.
+function installKeyGuard() {
+  if (window.__dxKeyGuard) return;
+  window.__dxKeyGuard = true;
+  window.addEventListener("keydown", (e) => {
+    if (!controlKey(e)) return;
+    const target = e.target;
+    if (!(target && target.closest && target.closest(".dx-param"))) return;
+    // On the target itself: a binding's selector such as "... :focus" matches the focused
+    // handle before the walk reaches any box around it.
+    if (target.hasAttribute("data-lm-suppress-shortcuts")) return;
+    target.setAttribute("data-lm-suppress-shortcuts", "true");
+    // After the whole dispatch (a microtask would run between two listeners).
+    setTimeout(() => target.removeAttribute("data-lm-suppress-shortcuts"), 0);
+  }, true);
+}
+
+// After the control has handled the key, nothing above it hears it (a front end listening
+// in the bubble phase, as JupyterLab does, or any page script).
+function guardBox(box) {
+  if (box.dataset.dxKeys) return;
+  box.dataset.dxKeys = "1";
+  box.addEventListener("keydown", (e) => { if (controlKey(e)) e.stopPropagation(); });
+}
+
 function shown(x, digits) {
   return String(Number(Number(x).toPrecision(digits)));
 }
@@ -66,6 +108,7 @@ export default {
         if (tries++ < 400) timer = setTimeout(attach, 50);
         return;
       }
+      guardBox(box);
       observer = new MutationObserver(apply);
       observer.observe(box, { subtree: true, childList: true, attributes: true,
                               attributeFilter: ["aria-valuenow", "aria-valuetext"] });
@@ -73,6 +116,7 @@ export default {
     }
 
     model.on("change", apply);
+    installKeyGuard();
     attach();
     return () => {
       clearTimeout(timer);

@@ -7,7 +7,7 @@ import numpy as np
 from ..palette import INK, MUTED
 
 __all__ = ["tick_segments", "dot_segments", "group_rows", "row_dots", "row_ticks", "drawn_dots", "DOTS_CSS", "assign",
-           "same", "new_figure", "error_segments", "swap_scale", "EMPTY"]
+           "same", "new_figure", "error_segments", "swap_scale", "EMPTY", "finite_ends"]
 
 #: An empty float array (marks start empty and are filled by the first update).
 EMPTY = np.zeros(0)
@@ -36,6 +36,8 @@ def assign(widget, **traits):
     bool
         Whether anything was sent.
     """
+    if isinstance(widget, bq.Lines) and ("x" in traits or "y" in traits):
+        traits.update(zip(("x", "y"), finite_ends(traits.get("x", widget.x), traits.get("y", widget.y))))
     changed = {k: v for k, v in traits.items() if not same(getattr(widget, k), v)}
     if changed:
         # An array trait notifies (and so syncs) only when the values differ
@@ -49,6 +51,50 @@ def assign(widget, **traits):
         if silent:
             widget.send_state(silent)
     return bool(changed)
+
+
+def finite_ends(x, y):
+    """``x``, ``y`` of a Lines mark redrawn identically, with every row ending on a finite point.
+
+    bqplot places each row's curve label at the row's last point (even when no label is
+    shown) and d3 maps NaN to ``undefined``: a row ending in NaN sets
+    ``transform="translate(undefined,undefined)"``, which the browser logs as an error at
+    every redraw, and a row of NaN only draws ``d="null"``. A NaN break draws the same at a
+    row's start as at its end, so trailing non-finite points move to the front. A row with
+    no finite point ends on one finite point of another row: a lone point draws no stroke
+    with butt caps (the figures whose lines have round caps, ``dx-dots``, never have such
+    rows). With no finite point at all the mark is emptied.
+    """
+    x, y = np.asarray(x, float), np.asarray(y, float)
+    if x.size == 0 or y.size == 0:
+        return x, y
+    xs, ys = np.atleast_2d(x), np.atleast_2d(y)
+    if xs.shape[-1] != ys.shape[-1]:
+        return x, y      # not a shape bqplot draws: leave it to bqplot's own checks
+    try:
+        ok = np.isfinite(xs) & np.isfinite(ys)      # broadcasts a shared x against rows of y
+    except ValueError:
+        return x, y      # rows of x that do not match those of y: not a shape bqplot draws
+    if ok[:, -1].all():
+        return x, y
+    if not ok.any():
+        return EMPTY, EMPTY
+    rows = ok.shape[0]
+    xs = np.array(np.broadcast_to(xs, ok.shape))
+    ys = np.array(np.broadcast_to(ys, ok.shape))
+    n = ok.shape[1]
+    last = n - 1 - np.argmax(ok[:, ::-1], axis=1)      # the last finite point of each row
+    k0, j0 = np.argwhere(ok)[0]
+    for k in range(rows):
+        if not ok[k].any():
+            xs[k], ys[k] = np.nan, np.nan
+            xs[k, -1], ys[k, -1] = xs[k0, j0], ys[k0, j0]
+        elif last[k] < n - 1:
+            xs[k] = np.roll(xs[k], n - 1 - last[k])
+            ys[k] = np.roll(ys[k], n - 1 - last[k])
+    if x.ndim == 1 and y.ndim == 1:
+        return xs[0], ys[0]
+    return xs, ys
 
 
 def _equal_values(a, b):
@@ -155,13 +201,16 @@ def drawn_dots(mark):
     y = np.atleast_2d(np.asarray(mark.y, float))
     if x.size == 0:
         return np.zeros(0), np.zeros(0), []
+    x = np.broadcast_to(x, y.shape) if x.shape != y.shape else x
     xs, ys, cs = [], [], []
     for k in range(y.shape[0]):
-        px, py = x[k, 0::3], y[k, 0::3]
-        keep = np.isfinite(px) & np.isfinite(py)
-        xs.append(px[keep])
-        ys.append(py[keep])
-        cs += [mark.colors[k % len(mark.colors)]] * int(keep.sum())
+        # Each dot is a finite pair between NaN breaks, wherever the row's breaks begin
+        # (finite_ends may have moved trailing breaks to the front).
+        keep = np.isfinite(x[k]) & np.isfinite(y[k])
+        px, py = x[k][keep][0::2], y[k][keep][0::2]
+        xs.append(px)
+        ys.append(py)
+        cs += [mark.colors[k % len(mark.colors)]] * int(px.size)
     return np.concatenate(xs), np.concatenate(ys), cs
 
 

@@ -6,6 +6,7 @@ import bqplot as bq
 import ipywidgets as w
 import numpy as np
 
+from ...observables.species_parts import species_coherent_flux
 from ..palette import INK, MUTED, OKABE_ITO, RING_COLOURS, WAVELENGTH_SCHEME
 from .base import (EMPTY, assign, axis, dot_segments, error_segments, group_rows, new_figure, row_dots, row_ticks,
                    swap_scale, tick_segments)
@@ -99,13 +100,20 @@ class _PointsFigure:
         self.residual_figure = new_figure(f"{self.title} residuals", [self.zero, self.residuals],
                                           [self.rax, axis(self.ry, "(data − model)/σ", "vertical")],
                                           self.css + "-residuals", height="200px", dots=True)
-        self.widget = w.VBox([self.figure, self.residual_figure], layout={"width": "100%"})
+        # What the title cannot hold in a narrow output (an SVG title is not wrapped): how
+        # many of the points are drawn, in a caption that wraps.
+        self.caption = w.HTML("")
+        self.caption.add_class("dx-caption")
+        self.widget = w.VBox(self._panels(), layout={"width": "100%"})
         self._points = None
         self._shown = slice(None)
         self._rows = slice(None)   # the drawn points' positions in the comparison's arrays
 
     def _build_extra(self, scales):
         pass
+
+    def _panels(self):
+        return (self.figure, self.caption, self.residual_figure)
 
     def apply_style(self, state):
         """Linear axes; a figure with axis toggles overrides this."""
@@ -120,6 +128,11 @@ class _PointsFigure:
             display = "none" if pts is None else ""
             if self.widget.layout.display != display:
                 self.widget.layout.display = display
+            # A figure rendered while hidden measures zero and sets negative sizes on its
+            # plot area (logged by the page): a hidden figure has no view at all.
+            panels = () if pts is None else self._panels()
+            if self.widget.children != panels:
+                self.widget.children = panels
         if pts is not None:
             n = pts["freq"].size
             # An even stride keeps every baseline and wavelength represented.
@@ -127,12 +140,14 @@ class _PointsFigure:
             pts = {k: v[self._shown] for k, v in pts.items()}
             # OI_VIS kinds are a subset of the OI_VIS points; the others are the whole kind.
             self._rows = pts["index"] if "index" in pts else self._shown
-            title = self.title if n <= MAX_DRAWN else f"{self.title} (drawn: {pts['freq'].size:,} of {n:,} points)"
             lo, hi = view.wavelength_range
-            assign(self.figure, title=f"{title} — colour: λ from {lo:.3g} µm (purple) to {hi:.3g} µm (red)")
+            assign(self.figure, title=f"{self.title} — λ {lo:.3g} µm (purple) to {hi:.3g} µm (red)")
+            assign(self.caption, value="" if n <= MAX_DRAWN else
+                   f"drawn: {pts['freq'].size:,} of {n:,} points, evenly spread (χ² uses all)")
         self._points = pts
         if pts is None:
             assign(self.figure, title=f"{self.title} — no data")
+            assign(self.caption, value="")
             for m in (self.errors, self.data, self.model, self.residuals):
                 assign(m, x=EMPTY, y=EMPTY)
             return
@@ -304,16 +319,35 @@ class CorrelatedFluxFigure:
                                   visible=False)
         self.data = bq.Lines(x=EMPTY, y=EMPTY, scales=sc, colors=[OKABE_ITO["vermillion"]], stroke_width=3.0,
                              opacities=[0.8], visible=False)
+        # Each dust species' share of the coherent flux on one chosen baseline.
+        self.species = bq.Lines(x=EMPTY, y=EMPTY, scales=sc, stroke_width=1.2, line_style="dash_dotted",
+                                visible=False)
         self.figure = new_figure("correlated flux per baseline (model)",
-                                 [self.pin_lines, self.lines, self.markers, self.data],
+                                 [self.pin_lines, self.lines, self.markers, self.species, self.data],
                                  [axis(self.sx, "λ [µm]"), axis(self.sy, "|V| F_total [Jy]", "vertical")],
                                  "dx-fig-corrflux", height="300px", dots=True)
-        self.widget = self.figure
+        self.species_of = w.Dropdown(options=[("none", -1)], value=-1, description="species on",
+                                     layout={"width": "300px"}, style={"description_width": "initial"})
+        self.species_of.observe(lambda ch: self._draw_species(), "value")
+        self.species_key = w.HTML()
+        self.widget = w.VBox([w.HBox([self.species_of, self.species_key], layout={"flex_flow": "row wrap",
+                                                                                  "align_items": "center"}),
+                              self.figure], layout={"width": "100%"})
         self._groups = []
+        self._baseline_uv = []
+        self._frame = None
 
     def update_data(self, view):
         """Choose the baselines to draw (``view.baselines``)."""
         self._groups = view.baselines
+        vis2 = getattr(view.observations, "vis2", None) if view.observations is not None else None
+        self._baseline_uv = [(vis2["u"].values[g["index"]], vis2["v"].values[g["index"]],
+                              vis2["wavelength"].values[g["index"]]) for g in self._groups] if vis2 is not None else []
+        # Keep the chosen baseline while it is still among those drawn.
+        chosen = self.species_of.label if self.species_of.value >= 0 else None
+        options = [("none", -1)] + [(g["label"], k) for k, g in enumerate(self._groups)]
+        self.species_of.options = options
+        self.species_of.value = next((k for label, k in options[1:] if label == chosen), -1)
         vis = getattr(view.observations, "vis", None) if view.observations is not None else None
         if vis is not None and vis.sizes.get("point", 0):
             amptyp = np.asarray(vis["amptyp"].values).astype(str)
@@ -334,6 +368,29 @@ class CorrelatedFluxFigure:
         assign(self.lines, x=xs, y=ys, colors=colours, labels=[g["label"] for g in self._groups])
         mx, my = dot_segments(xs.ravel(), ys.ravel())
         assign(self.markers, x=mx.reshape(xs.shape[0], -1), y=my.reshape(xs.shape[0], -1), colors=colours)
+        self._frame = frame
+        self._draw_species()
+
+    def _draw_species(self):
+        """|F_s V_s| of each species on the chosen baseline (monochromatic at its channels)."""
+        k = self.species_of.value
+        parts = {}
+        if k is not None and 0 <= k < len(self._baseline_uv) and self._frame is not None:
+            u, v, wl = self._baseline_uv[k]
+            parts = species_coherent_flux(self._frame.scene, u, v, wl)
+        if not parts:
+            assign(self.species, visible=False)
+            self.species_key.value = ""
+            return
+        from .sed import species_colours, species_key
+
+        labels = list(parts)
+        colours = species_colours(labels)
+        wl = self._baseline_uv[k][2]
+        order = np.argsort(wl)
+        assign(self.species, x=wl[order], y=np.vstack([np.abs(parts[p])[order] for p in labels]),
+               labels=[f"{p} ({self._groups[k]['label']})" for p in labels], colors=colours, visible=True)
+        self.species_key.value = species_key(labels, colours)
 
     def _rows(self, frame):
         """(λ, |V| F_total) per chosen baseline, NaN-padded rows."""

@@ -5,12 +5,13 @@ import bqplot as bq
 import ipywidgets as w
 import numpy as np
 
+from ...observables.species_parts import species_spectra
 from ...observables.spectrum import NO_DUST_BAND, has_dust_opacity
 from ..state.model_views import DEFAULT_SPECTRUM_WAVELENGTHS, SED_WAVELENGTHS, silicate_band, spectrum_wavelengths
-from ..palette import COMPONENT_COLOURS, ring_colour
+from ..palette import COMPONENT_COLOURS, OKABE_ITO, ring_colour
 from .base import EMPTY, assign, axis, error_segments, new_figure, swap_scale
 
-__all__ = ["SedFigure", "SpectrumFigure", "component_colours", "BAND_TITLE"]
+__all__ = ["SedFigure", "SpectrumFigure", "component_colours", "species_colours", "species_key", "BAND_TITLE"]
 
 #: Title of the silicate-band figure; a model without dust adds :data:`NO_DUST_BAND` to it.
 BAND_TITLE = "normalised silicate band"
@@ -26,6 +27,26 @@ def component_colours(names):
             out.append(ring_colour(k))
             k += 1
     return out
+
+
+#: Colours of the species' lines, in the order of their first appearance (ring by ring).
+_SPECIES_COLOURS = (OKABE_ITO["vermillion"], OKABE_ITO["sky_blue"], OKABE_ITO["bluish_green"], OKABE_ITO["orange"],
+                    OKABE_ITO["reddish_purple"], OKABE_ITO["yellow"], OKABE_ITO["blue"], "#777777")
+
+
+def species_colours(labels):
+    """One colour per species name (``"ring: species"`` labels): a species keeps its colour in every ring."""
+    names = list(dict.fromkeys(label.split(": ", 1)[-1] for label in labels))
+    return [_SPECIES_COLOURS[names.index(label.split(": ", 1)[-1]) % len(_SPECIES_COLOURS)] for label in labels]
+
+
+def species_key(labels, colours):
+    """HTML key of species lines: a dash-dotted swatch in each line's colour and its label."""
+    import html
+
+    items = [f"<span style='white-space:nowrap;margin-right:10px'><span style='color:{c};font-weight:bold'>-·-</span> "
+             f"{html.escape(label)}</span>" for label, c in zip(labels, colours)]
+    return f"<div style='font-size:11px;line-height:1.4'>{' '.join(items)}</div>"
 
 
 def _positive(y):
@@ -44,9 +65,8 @@ class SedFigure:
         self.points = bq.Scatter(x=EMPTY, y=EMPTY, scales=sc, colors=[COMPONENT_COLOURS["data"]],
                                  default_size=28, marker="diamond", labels=["photometry"],
                                  display_legend=True)
-        self.components = bq.Lines(x=SED_WAVELENGTHS, y=np.full((1, SED_WAVELENGTHS.size), np.nan),
-                                   scales=sc, stroke_width=1.6, display_legend=True)
-        self.pins = bq.Lines(x=SED_WAVELENGTHS, y=np.full((1, SED_WAVELENGTHS.size), np.nan), scales=sc,
+        self.components = bq.Lines(x=EMPTY, y=EMPTY, scales=sc, stroke_width=1.6, display_legend=True)
+        self.pins = bq.Lines(x=EMPTY, y=EMPTY, scales=sc,
                              line_style="dashed", opacities=[0.55], stroke_width=1.4, visible=False)
         self.ax = axis(self.sx, "λ [µm]")
         self.ay = axis(self.sy, "F_ν [Jy]", "vertical", tick_format=".3~g")
@@ -71,7 +91,7 @@ class SedFigure:
     def update_model(self, frame):
         """Draw the model's SED components (``frame.sed``: dict name → Jy on SED_WAVELENGTHS)."""
         names = list(frame.sed)
-        assign(self.components, y=np.vstack([_positive(frame.sed[n]) for n in names]),
+        assign(self.components, x=SED_WAVELENGTHS, y=np.vstack([_positive(frame.sed[n]) for n in names]),
                colors=component_colours(names), labels=names)
         total = frame.sed["total"]
         peak = np.nanmax(total) if np.isfinite(total).any() else 1.0
@@ -83,7 +103,7 @@ class SedFigure:
         if not pins:
             assign(self.pins, visible=False)
             return
-        assign(self.pins, y=np.vstack([_positive(f.sed["total"]) for _, _, f in pins]),
+        assign(self.pins, x=SED_WAVELENGTHS, y=np.vstack([_positive(f.sed["total"]) for _, _, f in pins]),
                colors=[c for _, c, _ in pins], labels=[n for n, _, _ in pins],
                opacities=[0.6] * len(pins), visible=True)
 
@@ -106,9 +126,13 @@ class SpectrumFigure:
                              labels=["spectrum"], display_legend=True)
         self.components = bq.Lines(x=EMPTY, y=EMPTY, scales=sc, stroke_width=1.5, display_legend=True)
         self.pins = bq.Lines(x=EMPTY, y=EMPTY, scales=sc, line_style="dashed", visible=False)
+        # Each species' share of its ring (observables.species_parts), drawn on request.
+        self.species = bq.Lines(x=EMPTY, y=EMPTY, scales=sc, stroke_width=1.2, line_style="dash_dotted",
+                                visible=False)
         self.ax = axis(self.sx, "λ [µm]")
         self.ay = axis(self.sy, "F_ν [Jy]", "vertical")
-        self.figure = new_figure("N-band spectrum", [self.pins, self.components, self.errors, self.data],
+        self.figure = new_figure("N-band spectrum", [self.pins, self.species, self.components, self.errors,
+                                                     self.data],
                                  [self.ax, self.ay], "dx-fig-spectrum")
         self.bx, self.by = bq.LinearScale(), bq.LinearScale()
         bs = {"x": self.bx, "y": self.by}
@@ -122,8 +146,22 @@ class SpectrumFigure:
                                       [axis(self.bx, "λ [µm]"),
                                        axis(self.by, "1 + (F − F_c)/⟨F_c⟩", "vertical")],
                                       "dx-fig-silicate")
-        self.widget = w.HBox([self.figure, self.band_figure], layout={"width": "100%"})
+        self.show_species = w.Checkbox(value=False, indent=False,
+                                       description="each dust species' share of its ring (dash-dotted)",
+                                       layout={"width": "auto"})
+        self.show_species.observe(lambda ch: self._draw_species(), "value")
+        # Side by side where there is room, one under the other in a narrow output.
+        for fig in (self.figure, self.band_figure):
+            fig.layout.flex, fig.layout.width = "1 1 320px", "auto"
+        # The species' key sits beside the box: in the figure's legend it would cover the curves.
+        self.species_key = w.HTML()
+        self.widget = w.VBox([w.HBox([self.show_species, self.species_key],
+                                     layout={"flex_flow": "row wrap", "align_items": "center"}),
+                              w.HBox([self.figure, self.band_figure],
+                                                        layout={"width": "100%", "flex_flow": "row wrap"})],
+                             layout={"width": "100%"})
         self._wl = DEFAULT_SPECTRUM_WAVELENGTHS
+        self._frame = None
 
     def update_data(self, view):
         """Draw the spectrum of ``view`` and fix the model's wavelengths to it."""
@@ -160,6 +198,21 @@ class SpectrumFigure:
         dusty = has_dust_opacity(frame.scene)
         assign(self.band_figure, title=BAND_TITLE if dusty else f"{BAND_TITLE} — {NO_DUST_BAND}")
         assign(self.band_model, labels=["model"] if dusty else [f"model: {NO_DUST_BAND}"])
+        self._frame = frame
+        self._draw_species()
+
+    def _draw_species(self):
+        """Each species' share of its ring at :attr:`wavelength`, when the box is ticked."""
+        parts = species_spectra(self._frame.scene, self._wl) if self.show_species.value and self._frame else {}
+        if not parts:
+            assign(self.species, visible=False)
+            self.species_key.value = ""
+            return
+        labels = list(parts)
+        colours = species_colours(labels)
+        assign(self.species, x=self._wl, y=np.vstack([parts[k] for k in labels]), labels=labels,
+               colors=colours, visible=True)
+        self.species_key.value = species_key(labels, colours)
 
     def _model_band(self, frame):
         """The model's normalised band at :attr:`wavelength`, or None (no dust, or a window missing)."""

@@ -15,6 +15,10 @@ from .base import EMPTY, assign, axis, new_figure, swap_scale
 __all__ = ["ProfilesFigure", "ImageFigure"]
 
 
+#: Radius range (au) of the profiles' axes until a profile is drawn.
+_R_SPAN = (0.03, 100.0)
+
+
 class ProfilesFigure:
     """T(r), τ(10 µm)(r) and I_ν(r) of every ring, side by side."""
 
@@ -24,7 +28,9 @@ class ProfilesFigure:
         for key, title, ylabel, ylog in (("temperature", "temperature", "T [K]", True),
                                          ("tau", "optical depth at 10 µm", "τ (vertical)", True),
                                          ("intensity", "brightness", "I_ν [Jy sr⁻¹]", True)):
-            sx = bq.LogScale()
+            # A domain from the start: before the first profile arrives the axis would place
+            # its fixed tick values at NaN (the page logs every one).
+            sx = bq.LogScale(min=_R_SPAN[0], max=_R_SPAN[1])
             sy = bq.LogScale() if ylog else bq.LinearScale()
             line = bq.Lines(x=EMPTY, y=EMPTY, scales={"x": sx, "y": sy}, stroke_width=2, display_legend=(key == "temperature"))
             pin_line = bq.Lines(x=EMPTY, y=EMPTY, scales={"x": sx, "y": sy}, stroke_width=1.4,
@@ -40,9 +46,14 @@ class ProfilesFigure:
         self.species_lines = bq.Lines(x=EMPTY, y=EMPTY, scales={"x": sx, "y": sy}, stroke_width=1.4,
                                       line_style="dash_dotted", display_legend=True, visible=False)
         temp["figure"].marks = [temp["pin_line"], self.species_lines, temp["line"]]
-        self.widget = w.HBox(figs, layout={"width": "100%"})
+        # Side by side where there is room, wrapped in a narrow output.
+        for fig in figs:
+            fig.layout.flex, fig.layout.width = "1 1 300px", "auto"
+        self.widget = w.HBox(figs, layout={"width": "100%", "flex_flow": "row wrap"})
         self._pins = []
         self._wavelength = 10.0
+        self._span = _R_SPAN
+        self._radii = {"live": np.zeros(0), "pins": np.zeros(0)}
 
     def update_data(self, view):
         """Profiles do not depend on the data."""
@@ -60,6 +71,8 @@ class ProfilesFigure:
                 continue
             y = np.where(np.isfinite(y) & (y > 0), y, np.nan)
             assign(part["line"], x=r, y=y, colors=colours, labels=labels)
+        self._radii["live"] = r
+        self._set_span()
         self._draw_species(frame.scene, r, labels)
         assign(self.parts["intensity"]["figure"],
                title=f"brightness at {prof['intensity'].attrs.get('wavelength_um', 0):.3g} µm")
@@ -107,6 +120,8 @@ class ProfilesFigure:
                     y = prof[key].values[k]
                     rows[key][0].append(r)
                     rows[key][1].append(np.where(np.isfinite(y) & (y > 0), y, np.nan))
+        self._radii["pins"] = np.concatenate([np.ravel(x) for x in rows["temperature"][0]]) if colours else np.zeros(0)
+        self._set_span()
         for key, part in self.parts.items():
             if not colours:
                 assign(part["pin_line"], visible=False)
@@ -114,10 +129,18 @@ class ProfilesFigure:
             assign(part["pin_line"], x=np.vstack(rows[key][0]), y=np.vstack(rows[key][1]), colors=colours,
                    opacities=[0.6] * len(colours), visible=True)
 
+    def _set_span(self):
+        """The radius axes span every drawn radius (live and pinned), explicitly (see _R_SPAN)."""
+        r = np.concatenate([self._radii["live"], self._radii["pins"]])
+        r = r[np.isfinite(r) & (r > 0)]
+        self._span = (float(r.min()), float(r.max())) if r.size else _R_SPAN
+        for part in self.parts.values():
+            assign(part["ax"].scale, min=self._span[0], max=self._span[1])
+
     def apply_style(self, state):
         """Log or linear radius axes from ``state.log_profiles``."""
         for part in self.parts.values():
-            swap_scale(part["figure"], part["ax"], "x", state.log_profiles)
+            swap_scale(part["figure"], part["ax"], "x", state.log_profiles, min=self._span[0], max=self._span[1])
 
 
 def _nice_length(x):

@@ -178,7 +178,8 @@ class ScanPage(w.VBox):
                                   bq.ColorAxis(scale=self.colour, label="log₁₀(1 + Δχ²)", side="right", label_offset="40px")],
                                  "dx-fig-scan", height="460px")
         self.figure.fig_margin = {"top": 34, "bottom": 52, "left": 70, "right": 96}
-        self.figure.layout.width = "600px"
+        # At most 600 px, narrower in a narrow output (its row wraps: scan-panel CSS).
+        self.figure.layout.width, self.figure.layout.flex = "auto", "0 1 600px"
         self.heat.observe(self._on_select, "selected")
         self.levels = w.HTML()
         self.best_html = w.HTML()

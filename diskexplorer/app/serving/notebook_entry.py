@@ -11,7 +11,7 @@ from __future__ import annotations
 import os
 
 from ...errors import DiskExplorerError
-from .server import DATA_VARIABLE, WORKDIR_VARIABLE
+from .server import DATA_VARIABLE, WORKDIR_VARIABLE, mark_ready
 from ..explorer import explore
 
 __all__ = ["explore_served", "served_settings"]
@@ -49,4 +49,7 @@ def explore_served(environ=None, **kwargs):
     # Whoever opens the page reads and writes as the demo's owner: only the working folder
     # and the --data files and folders.
     app.state.confine(readable=data or ())
+    # A served page is never saved: no picture to draw in the kernel.
+    app.show_snapshot = False
+    mark_ready(environ)
     return app

@@ -1,8 +1,8 @@
 """Serve the explorer as a local web app with voila, and stop it completely.
 
 ``diskexplorer demo`` runs voila as a child process on 127.0.0.1 and supervises it: the
-port is checked before anything starts, the address is printed once the server answers,
-and on SIGTERM or Ctrl-C voila is asked to stop (it shuts its kernels down), after which
+port is checked before anything starts, the address is printed once the preheated kernel
+has built the explorer (the demo says "warming up…" until then), and on SIGTERM or Ctrl-C voila is asked to stop (it shuts its kernels down), after which
 any process of the demo still alive (voila, its kernels) is killed. Kernels of browser pages
 that were closed are culled by voila's kernel manager after ``idle_timeout`` seconds.
 voila keeps one kernel *preheated*: it has run the app notebook before anyone asks for the
@@ -23,17 +23,19 @@ from __future__ import annotations
 
 import os
 import secrets
+import shutil
 import signal
 import socket
 import subprocess
 import sys
+import tempfile
 import time
 from pathlib import Path
 
 from ...errors import DiskExplorerError
 
 __all__ = ["DemoServer", "check_port", "voila_options", "new_token", "APP_NOTEBOOK", "DEFAULT_IDLE_TIMEOUT_S",
-           "WORKDIR_VARIABLE", "DATA_VARIABLE", "TOKEN_VARIABLE", "POOL_SIZE", "POOL_FILL_DELAY_S",
+           "WORKDIR_VARIABLE", "DATA_VARIABLE", "TOKEN_VARIABLE", "READY_VARIABLE", "mark_ready", "POOL_SIZE", "POOL_FILL_DELAY_S",
            "KERNEL_ENVIRONMENT"]
 
 #: The app notebook voila serves (package data).
@@ -47,12 +49,20 @@ DATA_VARIABLE = "DISKEXPLORER_DATA"
 #: Environment variable from which jupyter_server (under voila) reads the token
 #: (with ``--Voila.auto_token=True``).
 TOKEN_VARIABLE = "JUPYTER_TOKEN"
+#: Environment variable naming the folder where each kernel that has built the served
+#: explorer leaves a mark (a file named by its process id; :func:`mark_ready`): the demo
+#: prints its address once the preheated kernels have, so a page opened then draws at once.
+READY_VARIABLE = "DISKEXPLORER_READY_DIR"
+#: Seconds the demo waits for its preheated kernels before it prints the address anyway.
+READY_TIMEOUT_S = 120.0
 #: Preheated kernels voila keeps ready (each has run the app notebook; about 250 MB each).
 POOL_SIZE = 1
 #: Seconds after a page takes a preheated kernel before voila starts the next one: the
-#: page's own drawing then has the machine to itself (the kernel's start-up takes a core
-#: for about 3 s).
-POOL_FILL_DELAY_S = 5.0
+#: page's first curve is drawn by then (about 2 s), and the next kernel has built the app
+#: (about 3 s on two cores) before a collaborator who follows 5 s later opens the page
+#: (measured with benchmarks/bench_browser.py: that second page drew in 1.8 s, against
+#: 3.7 s with 5 s of delay).
+POOL_FILL_DELAY_S = 2.0
 
 
 #: Settings of the app's kernels (defaults in voila's environment, which its kernels inherit):
@@ -61,6 +71,10 @@ POOL_FILL_DELAY_S = 5.0
 #: slider step back to the page, for several pages sharing one kernel, which a served page
 #: never does): one message fewer per step.
 KERNEL_ENVIRONMENT = {"OPENBLAS_NUM_THREADS": "1", "JUPYTER_WIDGETS_ECHO": "0"}
+
+
+#: JupyterLab extensions a served page does not load (see :func:`voila_options`).
+FOREIGN_EXTENSIONS = ("@jupyter-notebook/lab-extension",)
 
 
 def voila_options(pool_size=POOL_SIZE, fill_delay=POOL_FILL_DELAY_S):
@@ -79,10 +93,21 @@ def voila_options(pool_size=POOL_SIZE, fill_delay=POOL_FILL_DELAY_S):
     folder and data handed over in :data:`WORKDIR_VARIABLE` and :data:`DATA_VARIABLE` like
     a kernel started for a request. voila never culls a kernel waiting in the pool.
     """
+    # Notebook 7's JupyterLab extension, installed beside voila, fails to load in a voila
+    # page (it needs a newer JupyterLab core than voila's) and logs errors: the app needs none
+    # of it.
+    skip = [f"--VoilaConfiguration.extension_denylist={name}" for name in FOREIGN_EXTENSIONS]
     if pool_size <= 0:
-        return []
-    return ["--preheat_kernel=True", f"--pool_size={int(pool_size)}",
-            f"--VoilaKernelManager.fill_delay={float(fill_delay):g}"]
+        return skip
+    return skip + ["--preheat_kernel=True", f"--pool_size={int(pool_size)}",
+                   f"--VoilaKernelManager.fill_delay={float(fill_delay):g}"]
+
+
+def mark_ready(environ=None):
+    """In a served kernel: note that this kernel has built the explorer (see :data:`READY_VARIABLE`)."""
+    folder = (os.environ if environ is None else environ).get(READY_VARIABLE)
+    if folder and os.path.isdir(folder):
+        Path(folder, str(os.getpid())).touch()
 
 
 def new_token():
@@ -174,6 +199,7 @@ class DemoServer:
         self.pool_size = pool_size
         self.token = new_token() if token is None else str(token)
         self.process = None
+        self.ready_dir = None
 
     @property
     def base_url(self):
@@ -217,6 +243,10 @@ class DemoServer:
             env[TOKEN_VARIABLE] = self.token
         else:
             env.pop(TOKEN_VARIABLE, None)
+        if self.ready_dir:
+            env[READY_VARIABLE] = self.ready_dir
+        else:
+            env.pop(READY_VARIABLE, None)
         return env
 
     def start(self, timeout=60.0):
@@ -227,6 +257,7 @@ class DemoServer:
         DiskExplorerError
             If voila exits or does not answer within ``timeout`` seconds (it is stopped).
         """
+        self.ready_dir = tempfile.mkdtemp(prefix="diskexplorer-ready-")
         self.process = subprocess.Popen(self.command(), env=self.environment(), cwd=str(self.workdir),
                                         start_new_session=True)
         deadline = time.monotonic() + timeout
@@ -241,6 +272,34 @@ class DemoServer:
                 time.sleep(0.2)
         self.stop()
         raise DiskExplorerError(f"voila did not answer on port {self.port} within {timeout:g} s")
+
+    def ready_kernels(self):
+        """How many kernels have built the served explorer so far (preheated ones first)."""
+        try:
+            return len(os.listdir(self.ready_dir)) if self.ready_dir else 0
+        except OSError:
+            return 0
+
+    def wait_ready(self, timeout=READY_TIMEOUT_S):
+        """Wait until the preheated kernels have run the app notebook (voila's pool is full).
+
+        A page opened before that waits for the kernel to finish (seconds on a busy
+        machine); one opened after draws its first curve at once. Without preheating there
+        is nothing to wait for.
+
+        Returns
+        -------
+        bool
+            Whether they were ready within ``timeout`` seconds (False: voila stopped, or a
+            kernel was slow; the page then still works, only slower).
+        """
+        want = max(0, int(self.pool_size))
+        deadline = time.monotonic() + timeout
+        while self.ready_kernels() < want:
+            if self.process.poll() is not None or time.monotonic() > deadline:
+                return False
+            time.sleep(0.1)
+        return True
 
     def wait(self):
         """Block until voila exits; return its exit status."""
@@ -281,6 +340,8 @@ class DemoServer:
             except psutil.Error:
                 pass
         psutil.wait_procs(still, timeout=3.0)
+        if self.ready_dir:
+            shutil.rmtree(self.ready_dir, ignore_errors=True)
         return code
 
     def serve_forever(self, say=print):
@@ -300,7 +361,13 @@ class DemoServer:
         previous = {s: signal.signal(s, on_signal) for s in (signal.SIGTERM, signal.SIGINT)}
         try:
             self.start()
-            say(f"diskexplorer: serving the explorer at {self.url}  (Ctrl-C to stop)")
+            if self.pool_size > 0:
+                # The address only once a page opened now is served by a kernel that has
+                # built the explorer: before, the page would wait for it.
+                say("diskexplorer: warming up…")
+                if not self.wait_ready() and self.process.poll() is not None:
+                    return self.wait()
+            say(f"diskexplorer: ready: serving the explorer at {self.url}  (Ctrl-C to stop)")
             if not self.token:
                 say("diskexplorer: without a token: every user of this host can open the page and read and "
                     "write files in its folders as you")
