@@ -43,8 +43,16 @@ WEIGHT_KINDS = tuple((k, KIND_NAMES[k]) for k in WEIGHTED_KINDS)
 
 _PRE = (f"margin:0;padding:6px 8px;font-size:11px;line-height:1.35;background:#f4f2ec;color:{INK};"
         "border:1px solid #e6e4de;max-height:560px;overflow:auto;white-space:pre")
-_W = {"name": "196px", "value": "62px", "free": "30px", "lo": "76px", "hi": "76px", "prior": "100px",
-      "mean": "66px", "sigma": "60px"}
+# Column widths: 590 px in all, so the table fits a 1000 px notebook output beside the
+# control column (long paths wrap inside their cell).
+_W = {"name": "166px", "value": "56px", "free": "34px", "lo": "64px", "hi": "64px", "prior": "96px",
+      "mean": "58px", "sigma": "52px"}
+
+
+def _cell(key, **more):
+    """Layout of a table cell of column ``key``: its width, never shrunk or grown (the header
+    and every row then line up)."""
+    return {"width": _W[key], "min_width": _W[key], "flex": "0 0 auto", **more}
 
 
 def _fmt(x):
@@ -60,22 +68,22 @@ class _Row:
         spec = spec_for(path)
         self.path = path
         unit = unit_text(spec.unit)
-        self.name = w.HTML(f"<span style='white-space:nowrap' title='{html.escape(spec.description)}'>"
+        self.name = w.HTML(f"<span style='overflow-wrap:anywhere' title='{html.escape(spec.description)}'>"
                            f"{html.escape(path)}</span>"
                            + (f" <span style='color:{MUTED}'>[{html.escape(unit)}]</span>" if unit else ""),
-                           layout={"width": _W["name"]})
-        self.value = w.HTML(layout={"width": _W["value"]})
-        self.free = w.Checkbox(value=False, indent=False, layout={"width": _W["free"]})
-        self.lo = w.FloatText(layout={"width": _W["lo"]})
-        self.hi = w.FloatText(layout={"width": _W["hi"]})
+                           layout=_cell("name"))
+        self.value = w.HTML(layout=_cell("value"))
+        self.free = w.Checkbox(value=False, indent=False, layout=_cell("free"))
+        self.lo = w.FloatText(layout=_cell("lo"))
+        self.hi = w.FloatText(layout=_cell("hi"))
         self.fraction = is_fraction_spec(spec)
         # A fraction's prior is its ring's Dirichlet: the only kind offered; "mean" holds α.
         kinds = [FRACTION_PRIOR] if self.fraction else [k for k in PRIOR_KINDS if k != FRACTION_PRIOR]
-        self.prior = w.Dropdown(options=kinds, layout={"width": _W["prior"]})
-        self.mean = w.FloatText(layout={"width": _W["mean"], "visibility": "hidden"},
+        self.prior = w.Dropdown(options=kinds, layout=_cell("prior"))
+        self.mean = w.FloatText(layout=_cell("mean", visibility="hidden"),
                                 **({"tooltip": "concentration α of the ring's Dirichlet prior (1: flat)"}
                                    if self.fraction else {}))
-        self.sigma = w.FloatText(layout={"width": _W["sigma"], "visibility": "hidden"})
+        self.sigma = w.FloatText(layout=_cell("sigma", visibility="hidden"))
         for name in ("free", "lo", "hi", "prior", "mean", "sigma"):
             getattr(self, name).observe((lambda n: lambda ch: on_edit(self, n))(name), "value")
         # No shrinking: inside the scrolling table a flex row would otherwise be squeezed.
@@ -132,11 +140,15 @@ class StartPage(w.VBox):
         self._stale = True
         self._throttle = Throttle(0.2)
 
-        head = w.HBox([w.HTML(f"<b style='width:{_W[k]};display:inline-block'>{t}</b>", layout={"width": _W[k]})
+        head = w.HBox([w.HTML(f"<b>{t}</b>", layout=_cell(k))
                        for k, t in (("name", "parameter"), ("value", "value"), ("free", "free"), ("lo", "lower"),
                                     ("hi", "upper"), ("prior", "prior"), ("mean", "mean / α"), ("sigma", "σ"))])
         head.add_class("dx-export-head")
-        self.table = w.VBox(layout={"max_height": "470px", "overflow": "auto", "width": "690px"})
+        head.layout.flex = "0 0 auto"
+        # The header is the table's first row, so a narrow page scrolls both together.
+        self._head = head
+        self.table = w.VBox([head], layout={"max_height": "470px", "overflow": "auto", "width": "100%",
+                                            "max_width": "610px"})
         self.fix_all_button = w.Button(description="fix all", layout={"width": "70px"})
         self.fix_all_button.on_click(lambda b: self._set_setup(free=[]))
 
@@ -177,18 +189,19 @@ class StartPage(w.VBox):
         self.notes = w.HTML()
 
         left = w.VBox([w.HTML("<div class='dx-section-title'>parameters of the starting point</div>"),
-                       head, self.table, self.fix_all_button,
+                       self.table, self.fix_all_button,
                        w.HTML("<div class='dx-section-title'>quick local refinement</div>"),
-                       w.HBox(list(self.weights.values())[:4]), w.HBox(list(self.weights.values())[4:]),
+                       w.HBox(list(self.weights.values()), layout={"flex_flow": "row wrap"}),
                        w.HBox([self.refine_button, self.cancel_button, self.progress],
-                              layout={"align_items": "center"}),
+                              layout={"align_items": "center", "flex_flow": "row wrap"}),
                        self.result_html, self.result_actions],
-                      layout={"width": "700px", "min_width": "700px"})
+                      layout={"flex": "1 1 610px", "max_width": "700px", "min_width": "0"})
+        # The document goes beside the table where there is room, under it where there is not.
         right = w.VBox([w.HTML("<div class='dx-section-title'>document</div>"),
                         self.save_box,
                         self.view, self.viewer, self.notes],
-                       layout={"flex": "1 1 auto", "min_width": "300px", "padding": "0 0 0 10px"})
-        super().__init__([w.HBox([left, right], layout={"width": "100%"})])
+                       layout={"flex": "1 1 300px", "min_width": "280px", "padding": "0 0 0 10px"})
+        super().__init__([w.HBox([left, right], layout={"width": "100%", "flex_flow": "row wrap"})])
         self.add_class("dx-export-panel")
         self._sync_weights()
 
@@ -283,7 +296,7 @@ class StartPage(w.VBox):
         if list(self.rows) != paths:
             # Ring added, removed or the scene replaced: rows follow the parameter list.
             self.rows = {p: self.rows.get(p) or _Row(p, self._on_edit) for p in paths}
-            self.table.children = [r.box for r in self.rows.values()]
+            self.table.children = [self._head] + [r.box for r in self.rows.values()]
         setup = self.setup
         free = set(setup["free"])
         with self._quiet:
