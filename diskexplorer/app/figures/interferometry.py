@@ -10,6 +10,7 @@ from ...observables.species_parts import species_coherent_flux
 from ..palette import INK, MUTED, OKABE_ITO, RING_COLOURS, WAVELENGTH_SCHEME
 from .base import (EMPTY, assign, axis, dot_segments, error_segments, group_rows, new_figure, row_dots, row_ticks,
                    swap_scale, tick_segments)
+from .sed import draw_species
 
 __all__ = ["Vis2Figure", "ClosureFigure", "VisAmpFigure", "CorrFluxPointsFigure", "DiffPhaseFigure",
            "CorrelatedFluxFigure", "wavelength_colours", "wavelength_position", "wavelength_groups"]
@@ -379,18 +380,12 @@ class CorrelatedFluxFigure:
             u, v, wl = self._baseline_uv[k]
             parts = species_coherent_flux(self._frame.scene, u, v, wl)
         if not parts:
-            assign(self.species, visible=False)
-            self.species_key.value = ""
+            draw_species(self.species, self.species_key, EMPTY, {})
             return
-        from .sed import species_colours, species_key
-
-        labels = list(parts)
-        colours = species_colours(labels)
         wl = self._baseline_uv[k][2]
         order = np.argsort(wl)
-        assign(self.species, x=wl[order], y=np.vstack([np.abs(parts[p])[order] for p in labels]),
-               labels=[f"{p} ({self._groups[k]['label']})" for p in labels], colors=colours, visible=True)
-        self.species_key.value = species_key(labels, colours)
+        draw_species(self.species, self.species_key, wl[order], {p: np.abs(c)[order] for p, c in parts.items()},
+                     suffix=f" ({self._groups[k]['label']})")
 
     def _rows(self, frame):
         """(λ, |V| F_total) per chosen baseline, NaN-padded rows."""

@@ -11,7 +11,8 @@ from ..state.model_views import DEFAULT_SPECTRUM_WAVELENGTHS, SED_WAVELENGTHS, s
 from ..palette import COMPONENT_COLOURS, OKABE_ITO, ring_colour
 from .base import EMPTY, assign, axis, error_segments, new_figure, swap_scale
 
-__all__ = ["SedFigure", "SpectrumFigure", "component_colours", "species_colours", "species_key", "BAND_TITLE"]
+__all__ = ["SedFigure", "SpectrumFigure", "component_colours", "species_colours", "species_key", "draw_species",
+           "BAND_TITLE"]
 
 #: Title of the silicate-band figure; a model without dust adds :data:`NO_DUST_BAND` to it.
 BAND_TITLE = "normalised silicate band"
@@ -47,6 +48,20 @@ def species_key(labels, colours):
     items = [f"<span style='white-space:nowrap;margin-right:10px'><span style='color:{c};font-weight:bold'>-·-</span> "
              f"{html.escape(label)}</span>" for label, c in zip(labels, colours)]
     return f"<div style='font-size:11px;line-height:1.4'>{' '.join(items)}</div>"
+
+
+def draw_species(mark, key, x, parts, suffix=""):
+    """Draw ``parts`` (label → values at ``x``) on the Lines ``mark`` and list them in the HTML
+    ``key``; hide both when there are none. ``suffix`` is added to each line's label."""
+    if not parts:
+        assign(mark, visible=False)
+        key.value = ""
+        return
+    labels = list(parts)
+    colours = species_colours(labels)
+    assign(mark, x=x, y=np.vstack([parts[k] for k in labels]), labels=[f"{k}{suffix}" for k in labels],
+           colors=colours, visible=True)
+    key.value = species_key(labels, colours)
 
 
 def _positive(y):
@@ -204,15 +219,7 @@ class SpectrumFigure:
     def _draw_species(self):
         """Each species' share of its ring at :attr:`wavelength`, when the box is ticked."""
         parts = species_spectra(self._frame.scene, self._wl) if self.show_species.value and self._frame else {}
-        if not parts:
-            assign(self.species, visible=False)
-            self.species_key.value = ""
-            return
-        labels = list(parts)
-        colours = species_colours(labels)
-        assign(self.species, x=self._wl, y=np.vstack([parts[k] for k in labels]), labels=labels,
-               colors=colours, visible=True)
-        self.species_key.value = species_key(labels, colours)
+        draw_species(self.species, self.species_key, self._wl, parts)
 
     def _model_band(self, frame):
         """The model's normalised band at :attr:`wavelength`, or None (no dust, or a window missing)."""
